@@ -1,0 +1,123 @@
+#pragma once
+/// \file
+/// The cycle engine: finds each cycle of an AC discharge capture with fractional-sample
+/// boundaries and integrates the current (and voltage) over exactly that cycle, streaming.
+///
+/// Memory is bounded: a short acquisition look-ahead (at most kAcquireFrames frames) to learn
+/// the signal's level and swing, a ring of a few dozen samples for the boundary fit, and
+/// per-cycle accumulators. The per-cycle records go to a sink as they are completed; the
+/// summary keeps batch sums only.
+
+#include <cstddef>
+#include <cstdint>
+#include <functional>
+#include <memory>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "lopside/sample_source.hpp"
+#include "lopside/uncertainty.hpp"
+
+namespace lopside {
+
+/// How the engine is set up; validated once by the CycleEngine constructor.
+struct CycleConfig {
+  double sample_rate_hz = 0;                   ///< > 0 [Hz]
+  double start_time_s = 0;                     ///< time of frame 0 [s]
+  std::size_t current_channel = 0;             ///< 0-based channel index in the blocks
+  std::optional<std::size_t> voltage_channel;  ///< 0-based; the cycle reference when given
+  /// Probe offset subtracted from every current sample [A] (from `--zero`), 0 if none.
+  double current_zero_a = 0;
+  /// Standard uncertainty of that zero [A] (type A, from the zero stretch's scatter).
+  double current_zero_u_a = 0;
+  /// Probe's stated offset tolerance ±a [A] and gain tolerance ±p [%] (rectangular, GUM 4.3.7).
+  double probe_offset_a = 0;
+  double probe_gain_pct = 0;
+  /// Cycles overlapping [exclude_from_s, exclude_to_s] are left out (the `--zero` stretch).
+  std::optional<std::pair<double, double>> exclude_s;
+};
+
+/// One whole cycle, integrated over its exact fractional-sample span.
+struct CycleRecord {
+  std::uint64_t index = 0;  ///< 0-based count of whole cycles
+  double start_s = 0;       ///< time of the cycle's start boundary [s]
+  double period_s = 0;
+  // current
+  double mean_a = 0;  ///< the cycle's DC offset
+  double rms_a = 0;
+  double ac_rms_a = 0;  ///< √(rms² − mean²)
+  double charge_positive_c = 0;  ///< Q+ = ∫max(i,0)dt
+  double charge_negative_c = 0;  ///< Q− = ∫max(−i,0)dt
+  double charge_asymmetry = 0;   ///< (Q+ − Q−)/(Q+ + Q−)
+  double peak_positive_a = 0;
+  double peak_negative_a = 0;
+  double positive_share = 0;  ///< share of the period with i > 0
+  bool flat_top_positive = false;  ///< the positive peak is held by ≥ 3 equal samples
+  bool flat_top_negative = false;
+  // voltage (zero when there is no voltage channel)
+  double voltage_mean_v = 0;
+  double voltage_rms_v = 0;
+  double voltage_peak_positive_v = 0;
+  double voltage_peak_negative_v = 0;
+  double voltage_positive_share = 0;
+  double power_w = 0;              ///< mean of v·i over the cycle
+  double energy_positive_j = 0;    ///< ∫ v·i dt while i > 0
+  double energy_negative_j = 0;    ///< ∫ v·i dt while i < 0
+};
+
+/// A summary figure with its expanded uncertainty (95 %).
+struct Estimate {
+  double value = 0;
+  double u95 = 0;         ///< expanded uncertainty, same unit as value
+  double coverage_k = 2;  ///< the coverage factor used
+};
+
+/// Statistics of whole cycles.
+struct CycleSummary {
+  std::uint64_t cycles = 0;
+  std::uint64_t partial_cycles = 0;   ///< incomplete cycles at the ends, left out
+  std::uint64_t excluded_cycles = 0;  ///< whole cycles in the `--zero` stretch, left out
+  std::uint64_t frames = 0;
+  std::string reference;  ///< "voltage" or "current": the channel whose crossings set cycles
+  Estimate fundamental_hz;
+  Estimate dc_offset_a;
+  bool dc_significant = false;  ///< |DC| > its u95
+  Estimate rms_a, ac_rms_a;
+  Estimate charge_positive_c, charge_negative_c;  ///< means per cycle
+  Estimate charge_asymmetry;
+  Estimate positive_share;
+  Estimate peak_positive_a, peak_negative_a;  ///< means of the per-cycle peaks
+  double first_start_s = 0, last_end_s = 0;
+  std::uint64_t clipped_positive = 0;  ///< cycles whose positive peak sits on the extreme
+  std::uint64_t clipped_negative = 0;
+  double current_zero_a = 0;  ///< the subtracted probe offset
+  bool has_voltage = false;
+  Estimate voltage_mean_v, voltage_rms_v, voltage_peak_positive_v, voltage_peak_negative_v;
+  Estimate voltage_positive_share, power_w;
+  Estimate energy_positive_j, energy_negative_j;  ///< per cycle
+  std::vector<std::string> warnings;
+  /// Crossings of the reference seen (for the "fewer than two whole cycles" message).
+  std::uint64_t crossings = 0;
+};
+
+class CycleEngine {
+ public:
+  /// Frames held to learn the reference's level and swing before the first cycle.
+  static constexpr std::size_t kAcquireFrames = 1 << 20;
+
+  using Sink = std::function<void(const CycleRecord&)>;
+  /// Throws std::invalid_argument on an invalid configuration (a programming error).
+  explicit CycleEngine(const CycleConfig& config, Sink sink = {});
+
+  /// Feeds the next block of frames (SI units, channels as in the config).
+  void consume(const SampleBlock& block);
+  /// Ends the capture: flushes the look-ahead, closes the last cycle, builds the summary.
+  const CycleSummary& finish();
+
+ private:
+  struct Impl;
+  std::shared_ptr<Impl> impl_;
+};
+
+}  // namespace lopside

@@ -1,0 +1,46 @@
+#pragma once
+/// \file
+/// The one exception type for bad input, and the exit codes of the `lopside` program.
+
+#include <cstdint>
+#include <optional>
+#include <stdexcept>
+#include <string>
+
+namespace lopside {
+
+/// Exit statuses of `lopside`; kept in one place so every command maps errors the same way.
+namespace exit_code {
+inline constexpr int ok = 0;
+inline constexpr int failure = 1;    ///< an internal error: a bug, not the user's input
+inline constexpr int bad_input = 2;  ///< unreadable, malformed or unusable input, or bad usage
+}  // namespace exit_code
+
+/// Where in a file an error sits: a line as an editor counts it (first line = 1), or a byte
+/// offset from the start of the file. Neither is set when the whole file is at fault.
+struct InputLocation {
+  std::optional<std::uint64_t> line;         ///< 1-based line number
+  std::optional<std::uint64_t> byte_offset;  ///< 0-based byte offset
+  static InputLocation at_line(std::uint64_t l) { return {l, std::nullopt}; }
+  static InputLocation at_byte(std::uint64_t b) { return {std::nullopt, b}; }
+};
+
+/// Bad input: names the file, the place and what was expected. `what()` reads
+/// `FILE:LINE: message` (the form editors and compilers use) or `FILE: byte N: message`.
+class InputError : public std::runtime_error {
+ public:
+  InputError(std::string path, InputLocation where, const std::string& message);
+  InputError(std::string path, const std::string& message)
+      : InputError(std::move(path), InputLocation{}, message) {}
+
+  const std::string& path() const noexcept { return path_; }
+  const InputLocation& where() const noexcept { return where_; }
+  const std::string& message() const noexcept { return message_; }
+
+ private:
+  std::string path_;
+  InputLocation where_;
+  std::string message_;
+};
+
+}  // namespace lopside

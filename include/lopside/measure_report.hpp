@@ -1,0 +1,50 @@
+#pragma once
+/// \file
+/// What `lopside measure` found, and its renderings: a text summary for the bench, a versioned
+/// JSON document, and the streamed per-cycle CSV table.
+
+#include <iosfwd>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "lopside/cycle_engine.hpp"
+#include "lopside/sample_source.hpp"
+
+namespace lopside {
+
+/// Bump when a key changes meaning or goes away; adding keys keeps the number.
+inline constexpr const char* kMeasureSchema = "lopside.measure/1";
+
+struct MeasureResult {
+  CaptureInfo info;
+  std::string current_name;                 ///< the current channel's name
+  std::optional<std::string> voltage_name;  ///< the voltage channel's, if any
+  double probe_offset_a = 0;                ///< stated ±offset tolerance used [A]
+  double probe_gain_pct = 0;                ///< stated ±gain tolerance used [%]
+  std::optional<std::pair<double, double>> zero_stretch_s;  ///< `--zero` [s]
+  double zero_u_a = 0;  ///< standard uncertainty of the measured zero [A]
+  CycleSummary summary;
+  std::vector<std::string> warnings;  ///< reader's, then the engine's
+};
+
+/// Aligned lines with SI prefixes, signs shown, each figure with its u95; ends with warnings
+/// and the sign convention.
+void write_measure_text(std::ostream& out, const MeasureResult& result);
+
+/// One JSON object, schema kMeasureSchema, SI units with unit suffixes in the keys; a figure
+/// with an uncertainty is {value, u95, k}.
+void write_measure_json(std::ostream& out, const MeasureResult& result);
+
+/// The per-cycle table as CSV, one row per whole cycle, written as the cycles are found.
+class CycleCsvWriter {
+ public:
+  CycleCsvWriter(std::ostream& out, bool with_voltage);
+  void write(const CycleRecord& record);
+
+ private:
+  std::ostream& out_;
+  bool with_voltage_;
+};
+
+}  // namespace lopside

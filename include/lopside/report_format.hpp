@@ -1,0 +1,23 @@
+#pragma once
+/// \file
+/// How figures are printed for people: SI prefixes, the sign always shown where a sign means
+/// something, and an uncertainty rounded to two significant digits with the value rounded to
+/// the same place (GUM 7.2.6).
+
+#include <string>
+#include <string_view>
+
+namespace lopside {
+
+/// "+4.98 mA ± 0.21 mA": value and expanded uncertainty in one SI prefix chosen by the larger
+/// of |value| and u95; `signed_always` prints '+' before positive values.
+std::string format_with_uncertainty(double value, double u95, std::string_view unit,
+                                    bool signed_always);
+
+/// A dimensionless ratio as a percentage with its uncertainty: "50.17 % ± 0.05 %".
+std::string format_percent_with_uncertainty(double share, double u95, bool signed_always);
+
+/// A dimensionless figure with its uncertainty: "+0.0078 ± 0.0002".
+std::string format_ratio_with_uncertainty(double value, double u95, bool signed_always);
+
+}  // namespace lopside

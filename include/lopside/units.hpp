@@ -1,0 +1,34 @@
+#pragma once
+/// \file
+/// Units as printed in capture headers, mapped to SI.
+
+#include <optional>
+#include <string>
+#include <string_view>
+
+namespace lopside {
+
+/// A unit: SI base symbol ("A", "V", "s") and the factor that turns a value in it into SI.
+struct UnitScale {
+  std::string si_unit;
+  double factor = 1.0;
+};
+
+/// Parses "mA", "kV", "us", "µs" (micro sign U+00B5 or Greek mu U+03BC), "A", "V", "s", "ns",
+/// "uA", "kA", "mV", "ms". Case matters for prefixes (m is milli). Returns nullopt otherwise.
+std::optional<UnitScale> parse_unit(std::string_view text);
+
+/// A header cell split into name and unit text: "current (mA)" → {"current", "mA"},
+/// "U [kV]" → {"U", "kV"}, "t/us" is not split (a slash may be part of a name).
+struct NameAndUnit {
+  std::string name;
+  std::string unit_text;  ///< empty when the cell carries no bracketed unit
+};
+NameAndUnit split_name_unit(std::string_view cell);
+
+/// Value printed with an SI prefix and unit: format_si(0.00498, "A", 3) → "4.98 mA".
+/// `signed_always` puts a '+' before positive values.
+std::string format_si(double value, std::string_view unit, int significant = 4,
+                      bool signed_always = false);
+
+}  // namespace lopside

@@ -1,0 +1,120 @@
+#include "lopside/units.hpp"
+
+#include <array>
+#include <cmath>
+#include <cstdio>
+#include <string>
+
+namespace lopside {
+namespace {
+
+std::string_view trim(std::string_view s) {
+  while (!s.empty() && (s.front() == ' ' || s.front() == '\t')) s.remove_prefix(1);
+  while (!s.empty() && (s.back() == ' ' || s.back() == '\t')) s.remove_suffix(1);
+  return s;
+}
+
+struct Prefix {
+  std::string_view text;
+  double factor;
+};
+
+// SI prefixes that occur on scope and recorder exports (BIPM SI Brochure, 9th ed., table 7).
+// "u" stands in for micro where the sign is not available; both Unicode micro code points
+// (U+00B5 MICRO SIGN, U+03BC GREEK SMALL LETTER MU) are accepted.
+constexpr std::array<Prefix, 8> kPrefixes{{{"", 1.0},
+                                           {"k", 1e3},
+                                           {"M", 1e6},
+                                           {"m", 1e-3},
+                                           {"u", 1e-6},
+                                           {"\xC2\xB5", 1e-6},
+                                           {"\xCE\xBC", 1e-6},
+                                           {"n", 1e-9}}};
+
+}  // namespace
+
+std::optional<UnitScale> parse_unit(std::string_view text) {
+  text = trim(text);
+  if (text.empty()) return std::nullopt;
+  for (std::string_view base : {"A", "V", "s"}) {
+    if (text.size() < base.size() || text.substr(text.size() - base.size()) != base) continue;
+    const std::string_view prefix = text.substr(0, text.size() - base.size());
+    for (const Prefix& p : kPrefixes) {
+      if (p.text == prefix) return UnitScale{std::string(base), p.factor};
+    }
+  }
+  // Spelled-out forms seen in headers.
+  if (text == "sec") return UnitScale{"s", 1.0};
+  if (text == "Volt" || text == "Volts" || text == "volt" || text == "volts")
+    return UnitScale{"V", 1.0};
+  if (text == "Amp" || text == "Amps" || text == "amp" || text == "amps")
+    return UnitScale{"A", 1.0};
+  return std::nullopt;
+}
+
+NameAndUnit split_name_unit(std::string_view cell) {
+  cell = trim(cell);
+  if (cell.size() >= 2 && (cell.back() == ')' || cell.back() == ']')) {
+    const char open = cell.back() == ')' ? '(' : '[';
+    const auto pos = cell.rfind(open);
+    if (pos != std::string_view::npos) {
+      return NameAndUnit{std::string(trim(cell.substr(0, pos))),
+                         std::string(trim(cell.substr(pos + 1, cell.size() - pos - 2)))};
+    }
+  }
+  return NameAndUnit{std::string(cell), ""};
+}
+
+std::string format_si(double value, std::string_view unit, int significant, bool signed_always) {
+  if (!std::isfinite(value)) return std::string(std::isnan(value) ? "nan " : "inf ") +
+                                    std::string(unit);
+  struct Step {
+    double factor;
+    const char* prefix;
+  };
+  static constexpr std::array<Step, 9> kSteps{{{1e9, "G"},
+                                               {1e6, "M"},
+                                               {1e3, "k"},
+                                               {1.0, ""},
+                                               {1e-3, "m"},
+                                               {1e-6, "\xC2\xB5"},
+                                               {1e-9, "n"},
+                                               {1e-12, "p"},
+                                               {1e-15, "f"}}};
+  const double magnitude = std::fabs(value);
+  Step chosen{1.0, ""};
+  if (magnitude != 0.0) {
+    chosen = kSteps.back();
+    for (const Step& s : kSteps) {
+      // Round first so 999.96 mA prints as 1.000 A, not 1000 mA.
+      const double scaled = magnitude / s.factor;
+      const double digits_left = std::floor(std::log10(scaled)) + 1;
+      const double rounded = std::round(scaled * std::pow(10.0, significant - digits_left)) /
+                             std::pow(10.0, significant - digits_left);
+      if (rounded >= 1.0) {
+        chosen = s;
+        break;
+      }
+    }
+  }
+  const double scaled = value / chosen.factor;
+  const double abs_scaled = std::fabs(scaled);
+  int decimals = 0;
+  if (abs_scaled > 0) {
+    decimals = significant - 1 - static_cast<int>(std::floor(std::log10(abs_scaled)));
+    double check = std::round(abs_scaled * std::pow(10.0, decimals));
+    if (check >= std::pow(10.0, significant)) --decimals;  // rounding carried into a new digit
+  } else {
+    decimals = significant - 1;
+  }
+  if (decimals < 0) decimals = 0;
+  char buf[64];
+  std::snprintf(buf, sizeof buf, signed_always ? "%+.*f" : "%.*f", decimals, scaled);
+  std::string out(buf);
+  out += ' ';
+  out += chosen.prefix;
+  out += unit;
+  return out;
+}
+
+}  // namespace lopside

@@ -1,0 +1,732 @@
+// The libsndfile seam: the only file of lopside that includes <sndfile.h>. It reads WAV, RF64,
+// W64, FLAC, AIFF and the other containers libsndfile knows (open_sound_file), and writes WAV,
+// RF64, W64 and FLAC (SoundFileWriter).
+
+#include <sndfile.h>
+
+#include <algorithm>
+#include <array>
+#include <charconv>
+#include <cerrno>
+#include <cmath>
+#include <cstdint>
+#include <cstring>
+#include <fstream>
+#include <limits>
+#include <optional>
+#include <string>
+#include <system_error>
+#include <vector>
+
+#include "lopside/atomic_file.hpp"
+#include "lopside/capture_reader.hpp"
+#include "lopside/channel_roles.hpp"
+#include "lopside/error.hpp"
+#include "lopside/sound_file_writer.hpp"
+
+namespace lopside {
+namespace {
+
+namespace fs = std::filesystem;
+
+// ---------------------------------------------------------------------------------------------
+// Container headers, read by us as well as by libsndfile.
+//
+// libsndfile 1.2.0 accepts a WAV, RF64, W64 or AIFF file whose data chunk promises more bytes
+// than the file holds: it logs "data : 40000 (should be 29956)" and silently shortens
+// SF_INFO.frames to what is there (measured on 1.2.0). A recorder that died mid-capture would
+// then be analysed as a shorter, complete capture. So we walk the chunk list ourselves and
+// compare the data chunk's declared extent with the file size.
+
+/// Where the sample data of an uncompressed container lies, as its header declares it.
+struct DataExtent {
+  std::uint64_t offset = 0;  ///< byte offset of the first sample byte
+  std::uint64_t bytes = 0;   ///< declared length of the sample data
+  const char* chunk = "";    ///< the chunk that declares it, for messages
+};
+
+class HeaderReader {
+ public:
+  explicit HeaderReader(const fs::path& path) : in_(path, std::ios::binary) {}
+  bool ok() const { return static_cast<bool>(in_); }
+  /// Reads `n` bytes at `pos`; false if the file is shorter.
+  bool read(std::uint64_t pos, unsigned char* out, std::size_t n) {
+    in_.clear();
+    in_.seekg(static_cast<std::streamoff>(pos));
+    in_.read(reinterpret_cast<char*>(out), static_cast<std::streamsize>(n));
+    return static_cast<std::size_t>(in_.gcount()) == n;
+  }
+
+ private:
+  std::ifstream in_;
+};
+
+std::uint64_t le(const unsigned char* p, std::size_t n) {
+  std::uint64_t v = 0;
+  for (std::size_t i = n; i-- > 0;) v = (v << 8) | p[i];
+  return v;
+}
+std::uint64_t be(const unsigned char* p, std::size_t n) {
+  std::uint64_t v = 0;
+  for (std::size_t i = 0; i < n; ++i) v = (v << 8) | p[i];
+  return v;
+}
+bool tag_is(const unsigned char* p, const char* tag) {
+  return std::memcmp(p, tag, 4) == 0;
+}
+
+// A number as the user typed it in messages ("44100.5", "1e+06"), not std::to_string's
+// fixed six decimals.
+std::string number_text(double v) {
+  char buf[32];
+  const auto res = std::to_chars(buf, buf + sizeof buf, v);
+  return std::string(buf, res.ptr);
+}
+
+// Sony Wave64 chunk GUIDs (the "riff", "wave" and "data" chunk identifiers of the W64 format).
+constexpr std::array<unsigned char, 16> w64_riff = {0x72, 0x69, 0x66, 0x66, 0x2E, 0x91, 0xCF, 0x11,
+                                                    0xA5, 0xD6, 0x28, 0xDB, 0x04, 0xC1, 0x00, 0x00};
+constexpr std::array<unsigned char, 16> w64_data = {0x64, 0x61, 0x74, 0x61, 0xF3, 0xAC, 0xD3, 0x11,
+                                                    0x8C, 0xD1, 0x00, 0xC0, 0x4F, 0x8E, 0xDB, 0x8A};
+
+// Bounds the chunk walk on hostile files; real captures have a handful of chunks.
+constexpr int max_chunks = 4096;
+
+// RIFF WAVE (Microsoft/IBM Multimedia Programming Interface 1.0) and its 64-bit successors
+// RF64 (EBU Tech 3306) and BW64 (ITU-R BS.2088): 4-byte ids, 32-bit sizes padded to even;
+// in RF64 the data size 0xFFFFFFFF defers to the 64-bit size in the "ds64" chunk.
+std::optional<DataExtent> riff_extent(HeaderReader& in, std::uint64_t file_size, bool rf64,
+                                      bool big_endian) {
+  std::optional<std::uint64_t> ds64_data;
+  std::uint64_t pos = 12;
+  unsigned char h[8];
+  for (int i = 0; i < max_chunks && pos + 8 <= file_size; ++i) {
+    if (!in.read(pos, h, 8)) return std::nullopt;
+    const std::uint64_t size = big_endian ? be(h + 4, 4) : le(h + 4, 4);
+    if (tag_is(h, "ds64") && rf64) {
+      unsigned char d[16];
+      if (!in.read(pos + 8, d, 16)) return std::nullopt;
+      ds64_data = le(d + 8, 8);
+    }
+    if (tag_is(h, "data")) {
+      DataExtent e{pos + 8, size, "'data' chunk"};
+      if (rf64 && size == 0xFFFFFFFFu) {
+        if (!ds64_data) return std::nullopt;
+        e.bytes = *ds64_data;
+        e.chunk = "'ds64' chunk";
+      } else if (size == 0xFFFFFFFFu || size == 0) {
+        return std::nullopt;  // length left open by a streaming writer: nothing to check
+      }
+      return e;
+    }
+    if (size == 0xFFFFFFFFu) return std::nullopt;
+    pos += 8 + size + (size & 1u);
+  }
+  return std::nullopt;
+}
+
+// Sony Wave64: 16-byte GUID ids, 64-bit little-endian sizes that include the 24-byte chunk
+// header, chunks aligned to 8 bytes.
+std::optional<DataExtent> w64_extent(HeaderReader& in, std::uint64_t file_size) {
+  std::uint64_t pos = 40;  // riff GUID, riff size, wave GUID
+  unsigned char h[24];
+  for (int i = 0; i < max_chunks && pos + 24 <= file_size; ++i) {
+    if (!in.read(pos, h, 24)) return std::nullopt;
+    const std::uint64_t size = le(h + 16, 8);
+    if (size < 24) return std::nullopt;
+    if (std::memcmp(h, w64_data.data(), 16) == 0) {
+      return DataExtent{pos + 24, size - 24, "'data' chunk"};
+    }
+    pos += (size + 7) / 8 * 8;
+  }
+  return std::nullopt;
+}
+
+// AIFF / AIFF-C (Apple, Audio Interchange File Format 1.3): big-endian sizes padded to even;
+// the "SSND" chunk starts with an 8-byte offset/blockSize pair before the samples.
+std::optional<DataExtent> aiff_extent(HeaderReader& in, std::uint64_t file_size) {
+  std::uint64_t pos = 12;
+  unsigned char h[16];
+  for (int i = 0; i < max_chunks && pos + 8 <= file_size; ++i) {
+    if (!in.read(pos, h, 8)) return std::nullopt;
+    const std::uint64_t size = be(h + 4, 4);
+    if (tag_is(h, "SSND")) {
+      if (!in.read(pos + 8, h + 8, 8)) return std::nullopt;
+      const std::uint64_t skip = be(h + 8, 4);
+      if (size < 8 + skip) return std::nullopt;
+      return DataExtent{pos + 16 + skip, size - 8 - skip, "'SSND' chunk"};
+    }
+    pos += 8 + size + (size & 1u);
+  }
+  return std::nullopt;
+}
+
+/// The declared data extent of an uncompressed WAV-family or AIFF file; nullopt for other
+/// containers (FLAC, Ogg, …) and for headers that leave the length open.
+std::optional<DataExtent> declared_data_extent(const fs::path& path, std::uint64_t file_size) {
+  HeaderReader in(path);
+  unsigned char h[16];
+  if (!in.ok() || !in.read(0, h, 16)) return std::nullopt;
+  const bool wave = tag_is(h + 8, "WAVE");
+  if (tag_is(h, "RIFF") && wave) return riff_extent(in, file_size, false, false);
+  if (tag_is(h, "RIFX") && wave) return riff_extent(in, file_size, false, true);
+  if ((tag_is(h, "RF64") || tag_is(h, "BW64")) && wave) {
+    return riff_extent(in, file_size, true, false);
+  }
+  if (std::memcmp(h, w64_riff.data(), 16) == 0) return w64_extent(in, file_size);
+  if (tag_is(h, "FORM") && (tag_is(h + 8, "AIFF") || tag_is(h + 8, "AIFC"))) {
+    return aiff_extent(in, file_size);
+  }
+  return std::nullopt;
+}
+
+/// True if the file starts like a container libsndfile reads, so that a failed open means a
+/// damaged header rather than a file of another kind.
+bool has_sound_magic(const fs::path& path) {
+  HeaderReader in(path);
+  unsigned char h[16];
+  if (!in.ok() || !in.read(0, h, 4)) return false;
+  for (const char* tag : {"RIFF", "RIFX", "RF64", "BW64", "FORM", "fLaC", "OggS", "caff", ".snd"}) {
+    if (tag_is(h, tag)) return true;
+  }
+  return in.read(0, h, 16) && std::memcmp(h, w64_riff.data(), 16) == 0;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Format names.
+
+struct MajorName {
+  int major;
+  const char* id;     // CaptureInfo::format
+  const char* label;  // start of CaptureInfo::detail
+};
+constexpr MajorName major_names[] = {
+    {SF_FORMAT_WAV, "wav", "WAV"},    {SF_FORMAT_WAVEX, "wav", "WAV (extensible)"},
+    {SF_FORMAT_RF64, "rf64", "RF64"}, {SF_FORMAT_W64, "w64", "W64"},
+    {SF_FORMAT_FLAC, "flac", "FLAC"}, {SF_FORMAT_AIFF, "aiff", "AIFF"},
+    {SF_FORMAT_CAF, "caf", "CAF"},    {SF_FORMAT_AU, "au", "AU"},
+    {SF_FORMAT_OGG, "ogg", "Ogg"},    {SF_FORMAT_MPEG, "mpeg", "MPEG"},
+};
+
+std::string format_id(int format, std::string& label) {
+  const int major = format & SF_FORMAT_TYPEMASK;
+  for (const auto& m : major_names) {
+    if (m.major == major) {
+      label = m.label;
+      return m.id;
+    }
+  }
+  SF_FORMAT_INFO fi{};
+  fi.format = major;
+  if (sf_command(nullptr, SFC_GET_FORMAT_INFO, &fi, sizeof fi) == 0 && fi.name != nullptr) {
+    label = fi.name;
+    return fi.extension != nullptr ? fi.extension : "sound";
+  }
+  label = "sound file";
+  return "sound";
+}
+
+std::string subformat_label(int format) {
+  switch (format & SF_FORMAT_SUBMASK) {
+    case SF_FORMAT_PCM_S8:
+      return "8-bit PCM";
+    case SF_FORMAT_PCM_U8:
+      return "8-bit unsigned PCM";
+    case SF_FORMAT_PCM_16:
+      return "16-bit PCM";
+    case SF_FORMAT_PCM_24:
+      return "24-bit PCM";
+    case SF_FORMAT_PCM_32:
+      return "32-bit PCM";
+    case SF_FORMAT_FLOAT:
+      return "32-bit float";
+    case SF_FORMAT_DOUBLE:
+      return "64-bit float";
+    default:
+      break;
+  }
+  SF_FORMAT_INFO fi{};
+  fi.format = format & SF_FORMAT_SUBMASK;
+  if (sf_command(nullptr, SFC_GET_FORMAT_INFO, &fi, sizeof fi) == 0 && fi.name != nullptr) {
+    return fi.name;
+  }
+  return "unknown sample format";
+}
+
+/// Bytes one sample occupies in the data chunk, 0 for compressed encodings (no fixed size).
+std::uint64_t bytes_per_sample(int format) {
+  switch (format & SF_FORMAT_SUBMASK) {
+    case SF_FORMAT_PCM_S8:
+    case SF_FORMAT_PCM_U8:
+    case SF_FORMAT_ULAW:
+    case SF_FORMAT_ALAW:
+      return 1;
+    case SF_FORMAT_PCM_16:
+      return 2;
+    case SF_FORMAT_PCM_24:
+      return 3;
+    case SF_FORMAT_PCM_32:
+    case SF_FORMAT_FLOAT:
+      return 4;
+    case SF_FORMAT_DOUBLE:
+      return 8;
+    default:
+      return 0;
+  }
+}
+
+/// Encodings whose decoded values differ from what was recorded by more than one step.
+bool is_lossy(int format) {
+  switch (format & SF_FORMAT_SUBMASK) {
+    case SF_FORMAT_ULAW:
+    case SF_FORMAT_ALAW:
+    case SF_FORMAT_IMA_ADPCM:
+    case SF_FORMAT_MS_ADPCM:
+    case SF_FORMAT_GSM610:
+    case SF_FORMAT_VOX_ADPCM:
+    case SF_FORMAT_NMS_ADPCM_16:
+    case SF_FORMAT_NMS_ADPCM_24:
+    case SF_FORMAT_NMS_ADPCM_32:
+    case SF_FORMAT_G721_32:
+    case SF_FORMAT_G723_24:
+    case SF_FORMAT_G723_40:
+    case SF_FORMAT_VORBIS:
+    case SF_FORMAT_OPUS:
+    case SF_FORMAT_MPEG_LAYER_I:
+    case SF_FORMAT_MPEG_LAYER_II:
+    case SF_FORMAT_MPEG_LAYER_III:
+      return true;
+    default:
+      return false;
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Reading.
+
+struct SndfileCloser {
+  void operator()(SNDFILE* f) const noexcept { sf_close(f); }
+};
+using SndfileHandle = std::unique_ptr<SNDFILE, SndfileCloser>;
+
+/// Fails early, with the operating system's reason, on what libsndfile would only call
+/// "System error".
+void check_readable(const fs::path& path, const std::string& shown) {
+  std::error_code ec;
+  const auto status = fs::status(path, ec);
+  if (ec || !fs::exists(status)) throw InputError(shown, "no such file");
+  if (fs::is_directory(status)) throw InputError(shown, "is a directory, expected a capture file");
+  std::ifstream probe(path, std::ios::binary);
+  if (!probe) {
+    throw InputError(shown, std::string("cannot be opened for reading: ") + std::strerror(errno));
+  }
+  if (fs::file_size(path, ec) == 0 && !ec) throw InputError(shown, "the file is empty");
+}
+
+class SoundFileSource final : public SampleSource {
+ public:
+  SoundFileSource(SndfileHandle file, CaptureInfo info, std::vector<double> multipliers,
+                  std::vector<std::string> warnings, std::optional<DataExtent> extent,
+                  std::uint64_t bytes_per_frame)
+      : file_(std::move(file)),
+        info_(std::move(info)),
+        multipliers_(std::move(multipliers)),
+        warnings_(std::move(warnings)),
+        extent_(extent),
+        bytes_per_frame_(bytes_per_frame) {}
+
+  const CaptureInfo& info() const override { return info_; }
+  const std::vector<std::string>& warnings() const override { return warnings_; }
+
+  std::size_t read(SampleBlock& block, std::size_t max_frames) override {
+    const std::size_t channels = info_.channels.size();
+    block.channels = channels;
+    if (ended_ || max_frames == 0) {
+      block.data.clear();
+      block.frames = 0;
+      return 0;
+    }
+    block.data.resize(max_frames * channels);
+    const sf_count_t got =
+        sf_readf_double(file_.get(), block.data.data(), static_cast<sf_count_t>(max_frames));
+    // libsndfile reports decoding failures (a FLAC frame that lost sync, an I/O error) through
+    // sf_error while still returning a full count, the damaged frames set to zero (measured
+    // on 1.2.0), so the count alone cannot be trusted.
+    if (sf_error(file_.get()) != SF_ERR_NO_ERROR || got < 0) {
+      std::string where = "after the first " + std::to_string(frames_read_) + " frames";
+      if (got > 0) {
+        where +=
+            " (by frame " + std::to_string(frames_read_ + static_cast<std::uint64_t>(got)) + ")";
+      }
+      std::string why = std::string("libsndfile: ") + sf_strerror(file_.get());
+      if (!extent_ || bytes_per_frame_ == 0) {
+        std::error_code ec;
+        const auto size = fs::file_size(info_.path, ec);
+        why += "; compressed data damaged or cut short";
+        if (!ec) why += ", the file has " + std::to_string(size) + " bytes";
+      }
+      throw InputError(info_.path, location_of(frames_read_),
+                       "cannot decode the samples " + where + " (" + why + ")");
+    }
+    const auto frames = static_cast<std::size_t>(got);
+    for (std::size_t f = 0; f < frames; ++f) {
+      double* frame = block.data.data() + f * channels;
+      for (std::size_t c = 0; c < channels; ++c) frame[c] *= multipliers_[c];
+    }
+    frames_read_ += frames;
+    block.frames = frames;
+    block.data.resize(frames * channels);
+    if (frames == 0) {
+      ended_ = true;
+      if (info_.frames && frames_read_ < *info_.frames) {
+        throw InputError(info_.path, location_of(frames_read_),
+                         "the sample data ends after " + std::to_string(frames_read_) + " of the " +
+                             std::to_string(*info_.frames) +
+                             " frames the header promises (file cut short while being read?)");
+      }
+    }
+    return frames;
+  }
+
+ private:
+  InputLocation location_of(std::uint64_t frame) const {
+    if (extent_ && bytes_per_frame_ > 0) {
+      return InputLocation::at_byte(extent_->offset + frame * bytes_per_frame_);
+    }
+    return {};  // compressed data: frame numbers do not map to byte offsets
+  }
+
+  SndfileHandle file_;
+  CaptureInfo info_;
+  std::vector<double> multipliers_;
+  std::vector<std::string> warnings_;
+  std::optional<DataExtent> extent_;
+  std::uint64_t bytes_per_frame_ = 0;
+  std::uint64_t frames_read_ = 0;
+  bool ended_ = false;
+};
+
+std::string channel_label(const ChannelInfo& c) {
+  return std::to_string(c.index) + " '" + c.name + "'";
+}
+
+}  // namespace
+
+std::unique_ptr<SampleSource> open_sound_file(const std::filesystem::path& path,
+                                              const ReaderOptions& options) {
+  const std::string shown = path.string();
+  check_readable(path, shown);
+
+  SF_INFO sf_info{};
+  SndfileHandle file(sf_open(shown.c_str(), SFM_READ, &sf_info));
+  if (!file) {
+    const std::string why = sf_strerror(nullptr);
+    if (has_sound_magic(path)) {
+      throw InputError(shown, InputLocation::at_byte(0),
+                       "damaged or unsupported sound file header (libsndfile: " + why + ")");
+    }
+    throw InputError(shown,
+                     "not a sound file libsndfile can read (expected WAV, RF64, W64, "
+                     "FLAC, AIFF, …; libsndfile: " +
+                         why + ")");
+  }
+  // For a file it cannot identify, libsndfile falls back on the extension (".au", ".snd",
+  // ".gsm", ".vox") and reports a headerless RAW stream: a guess, not a recognised file.
+  if ((sf_info.format & SF_FORMAT_TYPEMASK) == SF_FORMAT_RAW) {
+    throw InputError(shown,
+                     "not a sound file libsndfile can read: no known header (expected "
+                     "WAV, RF64, W64, FLAC, AIFF, …)");
+  }
+  if (sf_info.channels < 1 || sf_info.samplerate < 1) {
+    throw InputError(shown, InputLocation::at_byte(0),
+                     "damaged header: " + std::to_string(sf_info.channels) + " channels at " +
+                         std::to_string(sf_info.samplerate) + " Hz");
+  }
+
+  std::error_code ec;
+  const std::uint64_t file_size = fs::file_size(path, ec);
+  const auto extent = ec ? std::nullopt : declared_data_extent(path, file_size);
+  if (extent && extent->offset + extent->bytes > file_size) {
+    const std::uint64_t present = file_size > extent->offset ? file_size - extent->offset : 0;
+    throw InputError(shown, InputLocation::at_byte(file_size),
+                     "truncated file: it ends at byte " + std::to_string(file_size) +
+                         ", inside the sample data; the " + extent->chunk + " promises " +
+                         std::to_string(extent->bytes) + " bytes from byte " +
+                         std::to_string(extent->offset) + " (to byte " +
+                         std::to_string(extent->offset + extent->bytes) + "); " +
+                         std::to_string(present) + " bytes present, " +
+                         std::to_string(extent->bytes - present) + " missing");
+  }
+
+  const auto channel_count = static_cast<std::size_t>(sf_info.channels);
+  CaptureInfo info;
+  info.path = shown;
+  std::string label;
+  info.format = format_id(sf_info.format, label);
+  info.sample_rate_hz = sf_info.samplerate;
+  if (sf_info.frames >= 0 && sf_info.frames < SF_COUNT_MAX) {
+    info.frames = static_cast<std::uint64_t>(sf_info.frames);
+  }
+  info.detail = label + ", " + subformat_label(sf_info.format) + ", " +
+                std::to_string(channel_count) + (channel_count == 1 ? " channel" : " channels");
+  info.channels.resize(channel_count);
+  for (std::size_t c = 0; c < channel_count; ++c) {
+    info.channels[c].name = "ch" + std::to_string(c + 1);
+    info.channels[c].index = c + 1;
+  }
+
+  // value = normalised × full scale × gain. libsndfile normalises integer PCM so that code k
+  // of a b-bit format reads k / 2^(b−1) (its documented SFC_SET_NORM_DOUBLE default);
+  // float formats read as stored.
+  std::vector<double> multipliers(channel_count, 1.0);
+  std::vector<bool> scaled(channel_count, false);
+  for (const auto& [selector, scale] : options.scales) {
+    const std::size_t c = find_channel(info.channels, selector, shown);
+    if (!std::isfinite(scale) || !(scale > 0.0)) {
+      throw InputError(shown, "--scale " + selector + "=" + number_text(scale) +
+                                  ": expected the positive physical value of full scale");
+    }
+    if (scaled[c]) {
+      throw InputError(shown, "--scale given twice for channel " + channel_label(info.channels[c]));
+    }
+    scaled[c] = true;
+    multipliers[c] = scale;
+  }
+  const std::vector<double> gains = channel_gains(info.channels, options, shown);
+  for (std::size_t c = 0; c < channel_count; ++c) multipliers[c] *= gains[c];
+
+  std::vector<std::string> warnings;
+  std::string unscaled;
+  for (std::size_t c = 0; c < channel_count; ++c) {
+    if (scaled[c]) continue;
+    if (!unscaled.empty()) unscaled += ", ";
+    unscaled += channel_label(info.channels[c]);
+  }
+  if (!unscaled.empty()) {
+    warnings.push_back("no --scale for channel(s) " + unscaled +
+                       ": values are fractions of full scale (±1), their unit unknown; give "
+                       "--scale CH=VALUE (the physical value of full scale) and --unit CH=UNIT");
+  }
+  if (is_lossy(sf_info.format)) {
+    warnings.push_back("the sample format (" + subformat_label(sf_info.format) +
+                       ") is lossy: values carry coding error beyond the quantisation step");
+  }
+  assign_roles(info.channels, options, shown, warnings);
+
+  const std::uint64_t bytes_per_frame = bytes_per_sample(sf_info.format) * channel_count;
+  return std::make_unique<SoundFileSource>(std::move(file), std::move(info), std::move(multipliers),
+                                           std::move(warnings), extent, bytes_per_frame);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Writing.
+
+const char* to_string(SoundContainer container) noexcept {
+  switch (container) {
+    case SoundContainer::wav:
+      return "wav";
+    case SoundContainer::rf64:
+      return "rf64";
+    case SoundContainer::w64:
+      return "w64";
+    case SoundContainer::flac:
+      return "flac";
+  }
+  return "wav";
+}
+
+const char* to_string(SoundSampleFormat format) noexcept {
+  switch (format) {
+    case SoundSampleFormat::pcm16:
+      return "pcm16";
+    case SoundSampleFormat::pcm24:
+      return "pcm24";
+    case SoundSampleFormat::pcm32:
+      return "pcm32";
+    case SoundSampleFormat::float32:
+      return "float32";
+    case SoundSampleFormat::float64:
+      return "float64";
+  }
+  return "pcm16";
+}
+
+namespace {
+
+int integer_bits(SoundSampleFormat format) {
+  switch (format) {
+    case SoundSampleFormat::pcm16:
+      return 16;
+    case SoundSampleFormat::pcm24:
+      return 24;
+    case SoundSampleFormat::pcm32:
+      return 32;
+    case SoundSampleFormat::float32:
+    case SoundSampleFormat::float64:
+      break;
+  }
+  return 0;
+}
+
+int sf_major(SoundContainer container) {
+  switch (container) {
+    case SoundContainer::wav:
+      return SF_FORMAT_WAV;
+    case SoundContainer::rf64:
+      return SF_FORMAT_RF64;
+    case SoundContainer::w64:
+      return SF_FORMAT_W64;
+    case SoundContainer::flac:
+      return SF_FORMAT_FLAC;
+  }
+  return SF_FORMAT_WAV;
+}
+
+int sf_subtype(SoundSampleFormat format) {
+  switch (format) {
+    case SoundSampleFormat::pcm16:
+      return SF_FORMAT_PCM_16;
+    case SoundSampleFormat::pcm24:
+      return SF_FORMAT_PCM_24;
+    case SoundSampleFormat::pcm32:
+      return SF_FORMAT_PCM_32;
+    case SoundSampleFormat::float32:
+      return SF_FORMAT_FLOAT;
+    case SoundSampleFormat::float64:
+      return SF_FORMAT_DOUBLE;
+  }
+  return SF_FORMAT_PCM_16;
+}
+
+// Frames converted per libsndfile call: bounds the conversion buffer whatever the caller's
+// block size.
+constexpr std::size_t write_chunk_frames = 4096;
+
+}  // namespace
+
+struct SoundFileWriter::Impl {
+  std::string shown;
+  std::unique_ptr<AtomicOutput> output;
+  SndfileHandle file;
+  std::size_t channels = 0;
+  int bits = 0;  // 0 for float formats
+  std::uint64_t frames_written = 0;
+  std::vector<std::int32_t> codes;
+};
+
+SoundFileWriter::SoundFileWriter() = default;
+SoundFileWriter::~SoundFileWriter() {
+  // Close libsndfile's handle before AtomicOutput removes the uncommitted temporary file.
+  if (impl_) impl_->file.reset();
+}
+
+bool SoundFileWriter::is_open() const noexcept {
+  return impl_ && impl_->file;
+}
+
+void SoundFileWriter::open(const std::filesystem::path& path, SoundContainer container,
+                           SoundSampleFormat format, std::size_t channels, double sample_rate_hz) {
+  const std::string shown = path.string();
+  if (is_open()) throw InputError(shown, "sound file writer is already open");
+  if (channels < 1 || channels > 1024) {
+    throw InputError(shown, "cannot write " + std::to_string(channels) + " channels (1 to 1024)");
+  }
+  if (!(sample_rate_hz >= 1.0) || sample_rate_hz > std::numeric_limits<int>::max() ||
+      sample_rate_hz != std::floor(sample_rate_hz)) {
+    throw InputError(shown, "sound files store a whole number of samples per second; " +
+                                number_text(sample_rate_hz) + " Hz is not one");
+  }
+  const int bits = integer_bits(format);
+  if (container == SoundContainer::flac && bits != 16 && bits != 24) {
+    throw InputError(shown,
+                     std::string("FLAC holds 16- or 24-bit PCM only, not ") + to_string(format));
+  }
+  // libsndfile 1.2.0 refuses FLAC above 655350 Hz (measured), the largest rate a FLAC frame
+  // header can code in tens of hertz (FLAC format, frame header sample-rate field).
+  if (container == SoundContainer::flac && sample_rate_hz > 655350.0) {
+    throw InputError(shown, "FLAC holds sample rates up to 655350 Hz, not " +
+                                number_text(sample_rate_hz) + " Hz; use wav, rf64 or w64");
+  }
+  if (shown == "-") throw InputError(shown, "sound files cannot be written to standard output");
+
+  SF_INFO sf_info{};
+  sf_info.samplerate = static_cast<int>(sample_rate_hz);
+  sf_info.channels = static_cast<int>(channels);
+  sf_info.format = sf_major(container) | sf_subtype(format);
+  if (!sf_format_check(&sf_info)) {
+    throw InputError(shown, std::string("libsndfile cannot write ") + to_string(container) +
+                                " with " + to_string(format) + " samples");
+  }
+
+  auto impl = std::make_unique<Impl>();
+  impl->shown = shown;
+  impl->output = std::make_unique<AtomicOutput>(path);
+  const std::string temp = impl->output->temp_path().string();
+  impl->file.reset(sf_open(temp.c_str(), SFM_WRITE, &sf_info));
+  if (!impl->file) {
+    throw InputError(
+        shown, std::string("cannot create sound file (libsndfile: ") + sf_strerror(nullptr) + ")");
+  }
+  impl->channels = channels;
+  impl->bits = bits;
+  if (bits > 0) impl->codes.resize(write_chunk_frames * channels);
+  impl_ = std::move(impl);
+}
+
+void SoundFileWriter::write(const double* frames, std::size_t frame_count) {
+  if (!is_open()) throw InputError("", "sound file writer is not open");
+  Impl& w = *impl_;
+  const std::size_t channels = w.channels;
+  for (std::size_t done = 0; done < frame_count;) {
+    const std::size_t n = std::min(write_chunk_frames, frame_count - done);
+    const double* src = frames + done * channels;
+    for (std::size_t i = 0; i < n * channels; ++i) {
+      if (!std::isfinite(src[i])) {
+        throw InputError(w.shown, "frame " +
+                                      std::to_string(w.frames_written + done + i / channels) +
+                                      ", channel " + std::to_string(i % channels + 1) +
+                                      ": the value to write is not finite");
+      }
+    }
+    sf_count_t written = 0;
+    if (w.bits > 0) {
+      // Integer codes are made here rather than by libsndfile's double→int path, whose scale
+      // differs between releases (0x7FFF or 0x8000) and, in 1.2.0 without SFC_SET_CLIPPING,
+      // maps −1.0 to −32767 (measured). Code k = round(x · 2^(b−1)) clipped to
+      // [−2^(b−1), 2^(b−1) − 1] reads back as exactly k / 2^(b−1) (libsndfile's read
+      // normalisation). sf_writef_int takes codes left-justified in 32 bits and drops the
+      // low bits by shifting, so k · 2^(32−b) is written exactly.
+      const double full = std::ldexp(1.0, w.bits - 1);
+      const double lo = -full;
+      const double hi = full - 1.0;
+      const double justify = std::ldexp(1.0, 32 - w.bits);
+      for (std::size_t i = 0; i < n * channels; ++i) {
+        const double k = std::clamp(std::round(src[i] * full), lo, hi);
+        w.codes[i] = static_cast<std::int32_t>(k * justify);
+      }
+      written = sf_writef_int(w.file.get(), w.codes.data(), static_cast<sf_count_t>(n));
+    } else {
+      written = sf_writef_double(w.file.get(), src, static_cast<sf_count_t>(n));
+    }
+    if (written != static_cast<sf_count_t>(n)) {
+      throw InputError(w.shown, "write failed after " + std::to_string(w.frames_written + done) +
+                                    " frames (libsndfile: " + sf_strerror(w.file.get()) + ")");
+    }
+    done += n;
+  }
+  w.frames_written += frame_count;
+}
+
+void SoundFileWriter::close() {
+  if (!is_open()) return;
+  Impl& w = *impl_;
+  const int err = sf_close(w.file.release());
+  if (err != 0) {
+    throw InputError(w.shown, std::string("cannot finish the sound file (libsndfile: ") +
+                                  sf_error_number(err) + ")");
+  }
+  w.output->commit();
+  impl_.reset();
+}
+
+}  // namespace lopside

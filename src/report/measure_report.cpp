@@ -1,0 +1,188 @@
+#include "lopside/measure_report.hpp"
+
+#include <array>
+#include <cmath>
+#include <cstdio>
+#include <ostream>
+
+#include <nlohmann/json.hpp>
+
+#include "lopside/report_format.hpp"
+#include "lopside/units.hpp"
+
+namespace lopside {
+namespace {
+
+using json = nlohmann::ordered_json;
+
+json estimate_json(const Estimate& e) {
+  json j;
+  j["value"] = std::isfinite(e.value) ? json(e.value) : json(nullptr);
+  j["u95"] = std::isfinite(e.u95) ? json(e.u95) : json(nullptr);
+  j["k"] = e.coverage_k;
+  return j;
+}
+
+void line(std::ostream& out, const std::string& label, const std::string& text) {
+  std::string padded = label;
+  // Pad by characters as a terminal shows them (the labels are ASCII but for "−").
+  std::size_t shown = 0;
+  for (char c : label) shown += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
+  if (shown < 20) padded += std::string(20 - shown, ' ');
+  out << "  " << padded << text << '\n';
+}
+
+std::string count_text(std::uint64_t n, const char* one, const char* many) {
+  return std::to_string(n) + " " + (n == 1 ? one : many);
+}
+
+}  // namespace
+
+void write_measure_text(std::ostream& out, const MeasureResult& r) {
+  const CycleSummary& s = r.summary;
+  out << "lopside measure: " << r.info.path << '\n';
+  line(out, "capture", r.info.format + ", " + format_si(r.info.sample_rate_hz, "Hz", 4) + ", " +
+                           std::to_string(s.frames) + " samples, " +
+                           format_si(static_cast<double>(s.frames) / r.info.sample_rate_hz, "s", 4));
+  line(out, "current", "'" + r.current_name + "'" +
+                           (s.current_zero_a != 0.0
+                                ? ", zero " + format_with_uncertainty(s.current_zero_a, 2 * r.zero_u_a, "A", true) +
+                                      " subtracted"
+                                : std::string()));
+  if (r.voltage_name) line(out, "voltage", "'" + *r.voltage_name + "'");
+  line(out, "cycles", std::to_string(s.cycles) + " whole, from rising crossings of the " +
+                          s.reference + " (" + count_text(s.partial_cycles, "partial cycle", "partial cycles") +
+                          " at the ends left out" +
+                          (s.excluded_cycles ? ", " + std::to_string(s.excluded_cycles) + " in the zero stretch" : std::string()) +
+                          ")");
+  line(out, "fundamental", format_with_uncertainty(s.fundamental_hz.value, s.fundamental_hz.u95, "Hz", false));
+  out << '\n';
+  line(out, "DC offset", format_with_uncertainty(s.dc_offset_a.value, s.dc_offset_a.u95, "A", true) +
+                             (s.dc_significant ? "  significant" : "  not significant"));
+  line(out, "RMS", format_with_uncertainty(s.rms_a.value, s.rms_a.u95, "A", false));
+  line(out, "AC RMS", format_with_uncertainty(s.ac_rms_a.value, s.ac_rms_a.u95, "A", false));
+  line(out, "charge asymmetry", format_ratio_with_uncertainty(s.charge_asymmetry.value, s.charge_asymmetry.u95, true) +
+                                    "  (Q+ \xE2\x88\x92 Q\xE2\x88\x92)/(Q+ + Q\xE2\x88\x92)");
+  line(out, "Q+ per cycle", format_with_uncertainty(s.charge_positive_c.value, s.charge_positive_c.u95, "C", false));
+  line(out, "Q\xE2\x88\x92 per cycle", format_with_uncertainty(s.charge_negative_c.value, s.charge_negative_c.u95, "C", false));
+  line(out, "positive share", format_percent_with_uncertainty(s.positive_share.value, s.positive_share.u95, false) +
+                                  " of each period with i > 0");
+  line(out, "peak +", format_with_uncertainty(s.peak_positive_a.value, s.peak_positive_a.u95, "A", true));
+  line(out, "peak \xE2\x88\x92", format_with_uncertainty(s.peak_negative_a.value, s.peak_negative_a.u95, "A", true));
+  line(out, "clipped cycles", std::to_string(s.clipped_positive) + " positive, " +
+                                  std::to_string(s.clipped_negative) + " negative");
+  if (s.has_voltage) {
+    out << '\n';
+    line(out, "voltage mean", format_with_uncertainty(s.voltage_mean_v.value, s.voltage_mean_v.u95, "V", true));
+    line(out, "voltage RMS", format_with_uncertainty(s.voltage_rms_v.value, s.voltage_rms_v.u95, "V", false));
+    line(out, "voltage peak +", format_with_uncertainty(s.voltage_peak_positive_v.value, s.voltage_peak_positive_v.u95, "V", true));
+    line(out, "voltage peak \xE2\x88\x92", format_with_uncertainty(s.voltage_peak_negative_v.value, s.voltage_peak_negative_v.u95, "V", true));
+    line(out, "voltage pos. share", format_percent_with_uncertainty(s.voltage_positive_share.value, s.voltage_positive_share.u95, false));
+    line(out, "real power", format_with_uncertainty(s.power_w.value, s.power_w.u95, "W", false));
+    line(out, "energy while i > 0", format_with_uncertainty(s.energy_positive_j.value, s.energy_positive_j.u95, "J", false) + " per cycle");
+    line(out, "energy while i < 0", format_with_uncertainty(s.energy_negative_j.value, s.energy_negative_j.u95, "J", false) + " per cycle");
+  }
+  out << "\n  Uncertainties are expanded (95 %, k = 2 unless stated otherwise in the JSON): "
+         "cycle-to-cycle scatter by batch means";
+  if (r.probe_offset_a > 0 || r.probe_gain_pct > 0) out << " and the probe's stated tolerances";
+  out << ".\n  Sign convention: positive current flows from the probed lead into the electrode "
+         "it feeds.\n";
+  if (!r.warnings.empty()) {
+    out << "\nwarnings:\n";
+    for (const auto& w : r.warnings) out << "  - " << w << '\n';
+  }
+}
+
+void write_measure_json(std::ostream& out, const MeasureResult& r) {
+  const CycleSummary& s = r.summary;
+  json doc;
+  doc["schema"] = kMeasureSchema;
+  json input;
+  input["path"] = r.info.path;
+  input["format"] = r.info.format;
+  input["detail"] = r.info.detail;
+  input["sample_rate_hz"] = r.info.sample_rate_hz;
+  input["samples"] = s.frames;
+  input["start_time_s"] = r.info.start_time_s;
+  input["current_channel"] = r.current_name;
+  input["voltage_channel"] = r.voltage_name ? json(*r.voltage_name) : json(nullptr);
+  doc["input"] = input;
+  json probe;
+  probe["offset_tolerance_a"] = r.probe_offset_a;
+  probe["gain_tolerance_pct"] = r.probe_gain_pct;
+  probe["zero_a"] = s.current_zero_a;
+  probe["zero_u_a"] = r.zero_u_a;
+  probe["zero_stretch_s"] = r.zero_stretch_s ? json::array({r.zero_stretch_s->first, r.zero_stretch_s->second})
+                                             : json(nullptr);
+  doc["probe"] = probe;
+  doc["reference"] = s.reference;
+  doc["fundamental_hz"] = estimate_json(s.fundamental_hz);
+  doc["cycle_count"] = s.cycles;
+  doc["partial_cycles"] = s.partial_cycles;
+  doc["excluded_cycles"] = s.excluded_cycles;
+  doc["first_cycle_start_s"] = s.first_start_s;
+  doc["last_cycle_end_s"] = s.last_end_s;
+  json dc = estimate_json(s.dc_offset_a);
+  dc["significant"] = s.dc_significant;
+  doc["dc_offset_a"] = dc;
+  doc["rms_a"] = estimate_json(s.rms_a);
+  doc["ac_rms_a"] = estimate_json(s.ac_rms_a);
+  doc["charge_positive_c"] = estimate_json(s.charge_positive_c);
+  doc["charge_negative_c"] = estimate_json(s.charge_negative_c);
+  doc["charge_asymmetry"] = estimate_json(s.charge_asymmetry);
+  doc["positive_share"] = estimate_json(s.positive_share);
+  doc["peak_positive_a"] = estimate_json(s.peak_positive_a);
+  doc["peak_negative_a"] = estimate_json(s.peak_negative_a);
+  doc["clipped_cycles"] = json{{"positive", s.clipped_positive}, {"negative", s.clipped_negative}};
+  if (s.has_voltage) {
+    json v;
+    v["mean_v"] = estimate_json(s.voltage_mean_v);
+    v["rms_v"] = estimate_json(s.voltage_rms_v);
+    v["peak_positive_v"] = estimate_json(s.voltage_peak_positive_v);
+    v["peak_negative_v"] = estimate_json(s.voltage_peak_negative_v);
+    v["positive_share"] = estimate_json(s.voltage_positive_share);
+    v["power_w"] = estimate_json(s.power_w);
+    v["energy_positive_j"] = estimate_json(s.energy_positive_j);
+    v["energy_negative_j"] = estimate_json(s.energy_negative_j);
+    doc["voltage"] = v;
+  } else {
+    doc["voltage"] = nullptr;
+  }
+  doc["sign_convention"] = "positive current flows from the probed lead into the electrode it feeds";
+  doc["warnings"] = r.warnings;
+  out << doc.dump(2, ' ', false, json::error_handler_t::replace) << '\n';
+}
+
+CycleCsvWriter::CycleCsvWriter(std::ostream& out, bool with_voltage)
+    : out_(out), with_voltage_(with_voltage) {
+  out_ << "index,start_s,period_s,dc_offset_a,rms_a,ac_rms_a,charge_positive_c,"
+          "charge_negative_c,charge_asymmetry,peak_positive_a,peak_negative_a,positive_share,"
+          "flat_top_positive,flat_top_negative";
+  if (with_voltage_) {
+    out_ << ",voltage_mean_v,voltage_rms_v,voltage_peak_positive_v,voltage_peak_negative_v,"
+            "voltage_positive_share,power_w,energy_positive_j,energy_negative_j";
+  }
+  out_ << '\n';
+}
+
+void CycleCsvWriter::write(const CycleRecord& c) {
+  // %.12g keeps start times to 1 ns at 1000 s into a capture; the rest need fewer digits.
+  std::array<char, 512> buf{};
+  int n = std::snprintf(buf.data(), buf.size(),
+                        "%llu,%.12g,%.9g,%.9g,%.9g,%.9g,%.9g,%.9g,%.9g,%.9g,%.9g,%.9g,%d,%d",
+                        static_cast<unsigned long long>(c.index), c.start_s, c.period_s, c.mean_a,
+                        c.rms_a, c.ac_rms_a, c.charge_positive_c, c.charge_negative_c,
+                        c.charge_asymmetry, c.peak_positive_a, c.peak_negative_a, c.positive_share,
+                        c.flat_top_positive ? 1 : 0, c.flat_top_negative ? 1 : 0);
+  out_.write(buf.data(), n);
+  if (with_voltage_) {
+    n = std::snprintf(buf.data(), buf.size(), ",%.9g,%.9g,%.9g,%.9g,%.9g,%.9g,%.9g,%.9g",
+                      c.voltage_mean_v, c.voltage_rms_v, c.voltage_peak_positive_v,
+                      c.voltage_peak_negative_v, c.voltage_positive_share, c.power_w,
+                      c.energy_positive_j, c.energy_negative_j);
+    out_.write(buf.data(), n);
+  }
+  out_ << '\n';
+}
+
+}  // namespace lopside

@@ -1,0 +1,103 @@
+#include "lopside/report_format.hpp"
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <cstdio>
+
+namespace lopside {
+namespace {
+
+struct Prefix {
+  double factor;
+  const char* symbol;
+};
+
+// BIPM SI Brochure (9th ed.) table 7, the prefixes a bench figure needs.
+constexpr std::array<Prefix, 9> kPrefixes{{{1e9, "G"},
+                                           {1e6, "M"},
+                                           {1e3, "k"},
+                                           {1.0, ""},
+                                           {1e-3, "m"},
+                                           {1e-6, "\xC2\xB5"},
+                                           {1e-9, "n"},
+                                           {1e-12, "p"},
+                                           {1e-15, "f"}}};
+
+Prefix prefix_for(double magnitude) {
+  if (!(magnitude > 0) || !std::isfinite(magnitude)) return {1.0, ""};
+  for (const Prefix& p : kPrefixes) {
+    if (magnitude >= p.factor * 0.9995) return p;
+  }
+  return kPrefixes.back();
+}
+
+// Decimal places that leave two significant digits in `u` (at least one place is shown for a
+// zero or non-finite u, so the value is still readable).
+int decimals_for(double u, double value) {
+  if (u > 0 && std::isfinite(u)) {
+    const int d = 1 - static_cast<int>(std::floor(std::log10(u)));
+    return std::clamp(d, 0, 12);
+  }
+  const double m = std::fabs(value);
+  if (m > 0 && std::isfinite(m)) return std::clamp(3 - static_cast<int>(std::floor(std::log10(m))), 0, 12);
+  return 1;
+}
+
+std::string printf_string(const char* fmt, int decimals, double v) {
+  std::array<char, 64> buf{};
+  std::snprintf(buf.data(), buf.size(), fmt, decimals, v);
+  return buf.data();
+}
+
+// A value is never printed with more than 8 significant digits: beyond that the sample clock,
+// not the scatter, limits it, and a long row of digits hides the figure.
+int capped_decimals(int decimals, double v) {
+  const double m = std::fabs(v);
+  if (!(m > 0) || !std::isfinite(m)) return decimals;
+  return std::clamp(std::min(decimals, 7 - static_cast<int>(std::floor(std::log10(m)))), 0, 12);
+}
+
+// The uncertainty at the value's decimals, or in two significant digits when it is smaller
+// than the last printed digit.
+std::string uncertainty_text(double u, int decimals) {
+  if (u > 0 && u < 0.5 * std::pow(10.0, -decimals)) {
+    std::array<char, 32> buf{};
+    std::snprintf(buf.data(), buf.size(), "%.2g", u);
+    return buf.data();
+  }
+  return printf_string("%.*f", decimals, u);
+}
+
+}  // namespace
+
+std::string format_with_uncertainty(double value, double u95, std::string_view unit,
+                                    bool signed_always) {
+  if (!std::isfinite(value)) return "n/a";
+  const Prefix p = prefix_for(std::max(std::fabs(value), std::isfinite(u95) ? u95 : 0.0));
+  const double v = value / p.factor, u = u95 / p.factor;
+  const int d = capped_decimals(decimals_for(u, v), v);
+  std::string out = printf_string(signed_always ? "%+.*f" : "%.*f", d, v) + " " + p.symbol +
+                    std::string(unit);
+  if (std::isfinite(u95)) out += " \xC2\xB1 " + uncertainty_text(u, d) + " " + p.symbol + std::string(unit);
+  return out;
+}
+
+std::string format_percent_with_uncertainty(double share, double u95, bool signed_always) {
+  if (!std::isfinite(share)) return "n/a";
+  const double v = share * 100, u = u95 * 100;
+  const int d = capped_decimals(decimals_for(u, v), v);
+  std::string out = printf_string(signed_always ? "%+.*f" : "%.*f", d, v) + " %";
+  if (std::isfinite(u)) out += " \xC2\xB1 " + uncertainty_text(u, d) + " %";
+  return out;
+}
+
+std::string format_ratio_with_uncertainty(double value, double u95, bool signed_always) {
+  if (!std::isfinite(value)) return "n/a";
+  const int d = capped_decimals(decimals_for(u95, value), value);
+  std::string out = printf_string(signed_always ? "%+.*f" : "%.*f", d, value);
+  if (std::isfinite(u95)) out += " \xC2\xB1 " + uncertainty_text(u95, d);
+  return out;
+}
+
+}  // namespace lopside

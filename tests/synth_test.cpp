@@ -1,0 +1,512 @@
+// Tests of the synthetic-capture generator against analytic results: whole-cycle means and
+// rms of the standard waveforms, positive-half share, lobe ratio, the glow lobe, frequency
+// drift, noise statistics and seeding, clipping, and the text variants it writes.
+
+#include "synth/synth.hpp"
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <numbers>
+#include <sstream>
+#include <string>
+#include <vector>
+
+using namespace lopside::synth;
+using std::numbers::pi;
+
+namespace {
+
+// N samples per cycle, offset by half a sample, for `cycles` whole cycles at f = 1 kHz. With
+// the half-sample offset every sample lies half a step away from the half-cycle boundaries,
+// so the positive/negative split of the samples is exact.
+CaptureSpec whole_cycles(int samples_per_cycle, int cycles) {
+  CaptureSpec spec;
+  spec.timebase.start_frequency_hz = 1000.0;
+  spec.timebase.end_frequency_hz = 1000.0;
+  spec.timebase.sample_rate_hz = 1000.0 * samples_per_cycle;
+  spec.timebase.duration_s = cycles / 1000.0;
+  spec.timebase.start_phase_deg = 360.0 * 0.5 / samples_per_cycle;
+  return spec;
+}
+
+std::vector<double> all_frames(Generator& gen) {
+  std::vector<double> out, block;
+  while (gen.read(block, 1000) > 0) out.insert(out.end(), block.begin(), block.end());
+  return out;
+}
+
+// Channel `c` of interleaved frames.
+std::vector<double> channel(const std::vector<double>& frames, std::size_t channels,
+                            std::size_t c) {
+  std::vector<double> out;
+  for (std::size_t i = c; i < frames.size(); i += channels) out.push_back(frames[i]);
+  return out;
+}
+
+// Rounding allowance of a recursive sum of n terms of size ≤ `scale`: n·u·scale with
+// u = 2^−53 (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., §4.2). Used
+// wherever the exact value is known and only float rounding may differ.
+double rounding(double scale, std::size_t n) {
+  return scale * static_cast<double>(n) * std::ldexp(1.0, -53);
+}
+
+double mean(const std::vector<double>& x) {
+  double s = 0.0;
+  for (double v : x) s += v;
+  return s / static_cast<double>(x.size());
+}
+
+double rms(const std::vector<double>& x) {
+  double s = 0.0;
+  for (double v : x) s += v * v;
+  return std::sqrt(s / static_cast<double>(x.size()));
+}
+
+// Σ_{k=0}^{M−1} sin(π (k + ½) / M) = 1 / sin(π / (2M)): the sum of sines in arithmetic
+// progression, Σ sin(a + k d) = sin(M d / 2) · sin(a + (M − 1) d / 2) / sin(d / 2), with
+// a = π/(2M), d = π/M. It is the exact midpoint sum of one sine half-wave sampled M times.
+double midpoint_sine_sum(int m) {
+  return 1.0 / std::sin(pi / (2.0 * m));
+}
+
+}  // namespace
+
+TEST(Synth, SineWithDcAveragesToTheDcOverWholeCycles) {
+  CaptureSpec spec = whole_cycles(100, 50);
+  spec.current.peak = 0.02;
+  spec.current.dc = 0.0048;
+  Generator gen(spec);
+  ASSERT_EQ(gen.frames(), 5000u);
+  const auto i = all_frames(gen);
+  // Σ_{k=0}^{N−1} sin(2π(k + ½)/N) = 0 exactly (a sum of roots of unity), so the mean is the
+  // DC; the tolerance allows only float rounding.
+  EXPECT_NEAR(mean(i), 0.0048, rounding(0.025, i.size()));
+  EXPECT_NEAR(cycle_mean(spec.current), 0.0048, 1e-18);
+}
+
+TEST(Synth, RmsOfTheStandardShapes) {
+  // Handbook rms of peak-A waveforms: sine A/√2, square A, triangle A/√3.
+  const double a = 0.03;
+  {
+    CaptureSpec spec = whole_cycles(1000, 10);
+    spec.current.peak = a;
+    Generator gen(spec);
+    // Σ sin² over N equally spaced phases = N/2 exactly (N ≥ 3): only rounding remains.
+    EXPECT_NEAR(rms(all_frames(gen)), a / std::sqrt(2.0), rounding(a, 10000));
+  }
+  {
+    CaptureSpec spec = whole_cycles(1000, 10);
+    spec.current.shape = Shape::square;
+    spec.current.peak = a;
+    Generator gen(spec);
+    EXPECT_NEAR(rms(all_frames(gen)), a, rounding(a, 10000));
+  }
+  {
+    CaptureSpec spec = whole_cycles(1000, 10);
+    spec.current.shape = Shape::triangle;
+    spec.current.peak = a;
+    Generator gen(spec);
+    // Midpoint samples of the rising quarter, p = (k + ½)/M with M = 250 per quarter:
+    // mean of p² = 1/3 − 1/(12 M²), so rms² = A² (1/3 − 1/(12·250²)) exactly.
+    const double m = 250.0;
+    EXPECT_NEAR(rms(all_frames(gen)), a * std::sqrt(1.0 / 3.0 - 1.0 / (12.0 * m * m)),
+                rounding(a, 10000));
+  }
+}
+
+TEST(Synth, SquareOfPositiveShareDHasDcOfA2DMinus1) {
+  CaptureSpec spec = whole_cycles(1000, 20);
+  spec.current.shape = Shape::square;
+  spec.current.peak = 0.025;
+  spec.current.positive_share = 0.53;
+  Generator gen(spec);
+  const auto i = all_frames(gen);
+  std::size_t positive = 0;
+  for (double v : i) positive += v > 0.0 ? 1 : 0;
+  EXPECT_EQ(positive, 530u * 20u);  // 53 % of every period
+  // DOMAIN.md: a ±A square of duty D gives DC = A(2D − 1).
+  EXPECT_NEAR(mean(i), 0.025 * (2 * 0.53 - 1), rounding(0.025, i.size()));
+  EXPECT_NEAR(cycle_mean(spec.current), 0.025 * (2 * 0.53 - 1), 1e-17);
+}
+
+TEST(Synth, SineOfPositiveShareStretchesEachHalf) {
+  CaptureSpec spec = whole_cycles(1000, 20);
+  spec.current.peak = 0.02;
+  spec.current.positive_share = 0.53;
+  Generator gen(spec);
+  // Zero crossings at 0 and D·T, peaks at D·T/2 and D·T + (1 − D)·T/2 (T = 1 ms).
+  const double t = 1e-3;
+  const double shift = -spec.timebase.start_phase_deg / 360.0 * t;  // undo the half sample
+  EXPECT_NEAR(gen.ideal_current_a(shift + 0.53 * t / 2), 0.02, 1e-15);
+  EXPECT_NEAR(gen.ideal_current_a(shift + 0.53 * t + 0.47 * t / 2), -0.02, 1e-15);
+  EXPECT_GT(gen.ideal_current_a(shift + 0.53 * t * (1 - 1e-9)), 0.0);
+  EXPECT_LT(gen.ideal_current_a(shift + 0.53 * t * (1 + 1e-9)), 0.0);
+  // Exact midpoint sums of a half-wave over 530 and 470 samples (see midpoint_sine_sum).
+  const auto i = all_frames(gen);
+  const double per_cycle = 0.02 * (midpoint_sine_sum(530) - midpoint_sine_sum(470)) / 1000.0;
+  EXPECT_NEAR(mean(i), per_cycle, rounding(0.02, i.size()));
+  // The continuous mean (2A/π)(2D − 1) differs from the sampled one by the midpoint-rule
+  // error of each half: 1/(M sin(π/2M)) = (2/π)(1 + π²/(24M²) + O(M⁻⁴)), so A·π/(12M²) per
+  // half; allowed twice that, weighted by the halves' shares.
+  EXPECT_NEAR(cycle_mean(spec.current), 2 * 0.02 / pi * (2 * 0.53 - 1), 1e-17);
+  const double midpoint_error =
+      0.02 * (0.53 * pi / (12.0 * 530 * 530) + 0.47 * pi / (12.0 * 470 * 470));
+  EXPECT_NEAR(mean(i), cycle_mean(spec.current), 2 * midpoint_error);
+}
+
+TEST(Synth, WeakerNegativeLobeGivesEpsilonAOverPi) {
+  CaptureSpec spec = whole_cycles(1000, 20);
+  const double a = 0.02, r = 0.9;
+  spec.current.peak = a;
+  spec.current.negative_ratio = r;
+  Generator gen(spec);
+  const double shift = -spec.timebase.start_phase_deg / 360.0 * 1e-3;
+  EXPECT_NEAR(gen.ideal_current_a(shift + 0.25e-3), a, 1e-15);
+  EXPECT_NEAR(gen.ideal_current_a(shift + 0.75e-3), -r * a, 1e-15);
+  const auto i = all_frames(gen);
+  EXPECT_NEAR(mean(i), a * (1 - r) * midpoint_sine_sum(500) / 1000.0, rounding(a, i.size()));
+  // DOMAIN.md: a negative lobe weaker by ε gives DC = εA/π (ε = 1 − r).
+  EXPECT_NEAR(cycle_mean(spec.current), (1 - r) * a / pi, 1e-17);
+}
+
+TEST(Synth, GlowLobeStartsAfterBreakdownAndCarriesTwoWOverPi) {
+  // 2000 samples a cycle: each half has 1000, breakdown 20 % (200 samples), lobe 60 % (600).
+  CaptureSpec spec = whole_cycles(2000, 10);
+  Waveform& w = spec.current;
+  w.shape = Shape::lobed;
+  w.peak = 0.03;
+  w.negative_ratio = 0.8;
+  w.breakdown_share = 0.2;
+  w.lobe_share = 0.6;
+  Generator gen(spec);
+  const double t = 1e-3, shift = -spec.timebase.start_phase_deg / 360.0 * t;
+  const auto at = [&](double cycle_fraction) {
+    return gen.ideal_current_a(shift + cycle_fraction * t);
+  };
+  EXPECT_EQ(at(0.05), 0.0);            // before breakdown
+  EXPECT_NEAR(at(0.25), 0.03, 1e-15);  // lobe centre: (0.2 + 0.3)·½ cycle
+  EXPECT_EQ(at(0.45), 0.0);            // extinguished
+  EXPECT_EQ(at(0.55), 0.0);
+  EXPECT_NEAR(at(0.75), -0.8 * 0.03, 1e-15);
+  EXPECT_EQ(at(0.95), 0.0);
+  // Samples inside the lobe are the exact midpoint samples of a sine arch over 600 points.
+  const auto i = all_frames(gen);
+  const double per_half = 0.03 * midpoint_sine_sum(600) / 2000.0;
+  EXPECT_NEAR(mean(i), per_half * (1 - 0.8), rounding(0.03, i.size()));
+  // Continuous: mean = A (2w/π) (D − (1 − D) r); the arch's midpoint sum exceeds its integral
+  // by π²/(24M²) + O(M⁻⁴) relative (M = 600): allowed twice the leading term.
+  const double exact = 0.03 * (2 * 0.6 / pi) * (0.5 - 0.5 * 0.8);
+  EXPECT_NEAR(cycle_mean(w), exact, 1e-17);
+  EXPECT_NEAR(mean(i), exact, exact * 2 * pi * pi / (24.0 * 600 * 600));
+  EXPECT_GT(mean(i), exact);  // the midpoint rule overestimates a concave arch
+}
+
+TEST(Synth, LinearDriftKeepsThePhaseContinuous) {
+  CaptureSpec spec;
+  Timebase& tb = spec.timebase;
+  tb.sample_rate_hz = 1e6;
+  tb.duration_s = 0.1;
+  tb.start_frequency_hz = 1000.0;
+  tb.end_frequency_hz = 1200.0;
+  spec.current.peak = 1.0;
+  Generator gen(spec);
+  // ∫₀ᵀ f = (f0 + f1) T / 2 = 110 cycles.
+  EXPECT_NEAR(phase_cycles(tb, 0.1), 110.0, 1e-12);
+  EXPECT_NEAR(frequency_hz(tb, 0.05), 1100.0, 1e-12);
+
+  const auto i = all_frames(gen);
+  // Mean value theorem: |Δ(A sin 2πφ)| ≤ 2π f_max A / rate between samples. A phase that
+  // jumped (e.g. φ = f(t)·t instead of ∫f) would break it.
+  double worst_step = 0.0;
+  for (std::size_t k = 1; k < i.size(); ++k)
+    worst_step = std::max(worst_step, std::abs(i[k] - i[k - 1]));
+  EXPECT_LE(worst_step, 2 * pi * 1200.0 / 1e6);
+  // …and the waveform really runs near the end frequency: some step exceeds 2π·1180 A / rate.
+  EXPECT_GE(worst_step, 2 * pi * 1180.0 / 1e6);
+
+  // Rising zero crossings k = 1, 2, … lie where φ(τ) = k: τ_k = (−f0 + √(f0² + 2 s k)) / s,
+  // s = (f1 − f0)/T. Located by linear interpolation (error ~ h³ near a sine's zero).
+  const double s = (1200.0 - 1000.0) / 0.1;
+  int k = 0;
+  for (std::size_t n = 1; n < i.size(); ++n) {
+    if (i[n - 1] < 0.0 && i[n] >= 0.0) {
+      ++k;
+      const double t0 = gen.elapsed_s(n - 1);
+      const double crossing = t0 + (-i[n - 1] / (i[n] - i[n - 1])) / 1e6;
+      const double expected = (-1000.0 + std::sqrt(1000.0 * 1000.0 + 2 * s * k)) / s;
+      ASSERT_NEAR(crossing, expected, 1e-10) << "crossing " << k;
+    }
+  }
+  EXPECT_EQ(k, 109);  // φ reaches 110 only at τ = T, one sample after the last frame
+}
+
+TEST(Synth, NoiseIsSeededGaussianOfTheGivenRms) {
+  CaptureSpec spec = whole_cycles(100, 2000);  // 200 000 frames
+  spec.current.peak = 0.02;
+  spec.noise_rms_a = 1e-3;
+  spec.seed = 42;
+  Generator a(spec), b(spec);
+  const auto xa = all_frames(a);
+  // Block sizes must not change the sequence.
+  std::vector<double> xb, block;
+  while (b.read(block, 7) > 0) xb.insert(xb.end(), block.begin(), block.end());
+  EXPECT_EQ(xa, xb);
+  spec.seed = 43;
+  Generator c(spec);
+  EXPECT_NE(all_frames(c), xa);
+
+  std::vector<double> noise;
+  for (std::size_t n = 0; n < xa.size(); ++n)
+    noise.push_back(xa[n] - a.ideal_current_a(a.elapsed_s(n)));
+  const double count = static_cast<double>(noise.size());
+  // Sampling theory of the normal distribution: mean has standard error σ/√N, the sample
+  // standard deviation σ/√(2N). Five standard errors: a false alarm has probability < 1e-6,
+  // and the seed is fixed, so the check is deterministic.
+  EXPECT_NEAR(mean(noise), 0.0, 5 * 1e-3 / std::sqrt(count));
+  EXPECT_NEAR(rms(noise), 1e-3, 5 * 1e-3 / std::sqrt(2 * count));
+}
+
+TEST(Synth, ClippingModelsTheRecorderRange) {
+  CaptureSpec spec = whole_cycles(1000, 10);
+  spec.current.peak = 0.02;
+  spec.clip_high_a = 0.016;
+  spec.clip_low_a = -0.019;
+  Generator gen(spec);
+  const auto i = all_frames(gen);
+  std::size_t high = 0, low = 0;
+  for (double v : i) {
+    ASSERT_LE(v, 0.016);
+    ASSERT_GE(v, -0.019);
+    high += v == 0.016 ? 1 : 0;
+    low += v == -0.019 ? 1 : 0;
+  }
+  // A sin above c for a fraction (π − 2 asin(c/A)) / (2π) of the period; counting samples is
+  // exact to one sample per boundary, two boundaries a cycle.
+  const auto expected = [](double c) { return (pi - 2 * std::asin(c / 0.02)) / (2 * pi) * 10000; };
+  EXPECT_NEAR(static_cast<double>(high), expected(0.016), 2 * 10);
+  EXPECT_NEAR(static_cast<double>(low), expected(0.019), 2 * 10);
+  EXPECT_GT(high, 0u);
+  EXPECT_GT(low, 0u);
+  EXPECT_NEAR(current_bound_a(spec), 0.019, 1e-18);
+}
+
+TEST(Synth, VoltageSharesThePhaseWithItsOwnDcAndShare) {
+  CaptureSpec spec;
+  spec.timebase.sample_rate_hz = 1e6;
+  spec.timebase.duration_s = 2e-3;
+  spec.timebase.start_frequency_hz = 32e3;
+  spec.timebase.end_frequency_hz = 31e3;
+  spec.timebase.start_phase_deg = 30.0;
+  spec.voltage = Waveform{};
+  spec.voltage->peak = 1500.0;
+  spec.voltage->dc = 12.0;
+  Generator gen(spec);
+  ASSERT_EQ(gen.channels(), 2u);
+  const auto frames = all_frames(gen);
+  const auto v = channel(frames, 2, 1);
+  const auto i = channel(frames, 2, 0);
+  for (std::size_t n = 0; n < v.size(); n += 97) {
+    // Independent formula: V sin(2π(φ0 + f0 τ + (f1 − f0) τ² / (2T))) + dc.
+    const double tau = static_cast<double>(n) / 1e6;
+    const double phi = 30.0 / 360 + 32e3 * tau + (31e3 - 32e3) * tau * tau / (2 * 2e-3);
+    ASSERT_NEAR(v[n], 1500.0 * std::sin(2 * pi * phi) + 12.0, 1e-9);
+    ASSERT_NEAR(i[n], 1.0 * std::sin(2 * pi * phi), 1e-12);
+  }
+  // Own positive share: with D = 0.6 the voltage is still positive at 55 % of a cycle.
+  spec.voltage->positive_share = 0.6;
+  spec.timebase.start_phase_deg = 0.0;
+  spec.timebase.end_frequency_hz = 32e3;
+  Generator shared(spec);
+  const double period = 1.0 / 32e3;
+  EXPECT_GT(shared.ideal_voltage_v(0.55 * period), 12.0);
+  EXPECT_LT(shared.ideal_current_a(0.55 * period), 0.0);
+  EXPECT_NEAR(shared.ideal_voltage_v(0.3 * period), 1512.0, 1e-9);
+}
+
+TEST(Synth, RejectsOutOfRangeSpecs) {
+  CaptureSpec spec;
+  spec.current.positive_share = 1.0;
+  EXPECT_THROW(Generator{spec}, std::invalid_argument);
+  spec = CaptureSpec{};
+  spec.timebase.start_frequency_hz = 60e3;  // above Nyquist at 100 kHz
+  EXPECT_THROW(Generator{spec}, std::invalid_argument);
+  spec = CaptureSpec{};
+  spec.current.shape = Shape::lobed;
+  spec.current.breakdown_share = 0.5;
+  spec.current.lobe_share = 0.6;
+  EXPECT_THROW(Generator{spec}, std::invalid_argument);
+  spec = CaptureSpec{};
+  spec.clip_high_a = -0.01;
+  spec.clip_low_a = 0.01;
+  EXPECT_THROW(Generator{spec}, std::invalid_argument);
+}
+
+TEST(Synth, NiceFullScaleIsTheNextOneTwoFiveStepAbove) {
+  EXPECT_EQ(nice_full_scale(0.021), 0.05);
+  EXPECT_EQ(nice_full_scale(0.02), 0.05);  // strictly above: the peak must not clip
+  EXPECT_EQ(nice_full_scale(0.0199), 0.02);
+  EXPECT_EQ(nice_full_scale(1450.0), 2000.0);
+  EXPECT_EQ(nice_full_scale(7.0), 10.0);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Text output.
+
+namespace {
+
+CaptureSpec small_supply() {
+  CaptureSpec spec;
+  spec.timebase.sample_rate_hz = 1e6;
+  spec.timebase.duration_s = 20e-6;
+  spec.timebase.start_frequency_hz = 32e3;
+  spec.timebase.end_frequency_hz = 32e3;
+  spec.timebase.start_phase_deg = 10.0;
+  spec.current.peak = 0.02;
+  spec.voltage = Waveform{};
+  spec.voltage->peak = 1500.0;
+  return spec;
+}
+
+std::vector<std::string> lines_of(const std::string& text, const std::string& eol = "\n") {
+  std::vector<std::string> out;
+  std::size_t start = 0;
+  for (std::size_t end; (end = text.find(eol, start)) != std::string::npos;
+       start = end + eol.size()) {
+    out.push_back(text.substr(start, end - start));
+  }
+  EXPECT_EQ(start, text.size()) << "text must end with a line end";
+  return out;
+}
+
+std::vector<std::string> split(const std::string& line, char sep) {
+  std::vector<std::string> out;
+  std::string cell;
+  std::istringstream in(line);
+  while (std::getline(in, cell, sep)) out.push_back(cell);
+  return out;
+}
+
+std::string write(const CaptureSpec& spec, const TextFormat& f) {
+  Generator gen(spec);
+  std::ostringstream out;
+  write_text(gen, f, out);
+  return out.str();
+}
+
+}  // namespace
+
+TEST(SynthText, DefaultCsvHasHeaderAndSiValues) {
+  const CaptureSpec spec = small_supply();
+  const auto lines = lines_of(write(spec, TextFormat{}));
+  ASSERT_EQ(lines.size(), 21u);
+  EXPECT_EQ(lines[0], "time (s),current (A),voltage (V)");
+  Generator gen(spec);
+  for (std::size_t n = 0; n < 20; ++n) {
+    const auto cells = split(lines[n + 1], ',');
+    ASSERT_EQ(cells.size(), 3u);
+    EXPECT_DOUBLE_EQ(std::stod(cells[0]), static_cast<double>(n) * 1e-6);
+    // 6 significant digits: relative error ≤ 5e-6 (half a unit in the last digit).
+    const double i = gen.ideal_current_a(gen.elapsed_s(n));
+    const double v = gen.ideal_voltage_v(gen.elapsed_s(n));
+    EXPECT_NEAR(std::stod(cells[1]), i, std::abs(i) * 5e-6);
+    EXPECT_NEAR(std::stod(cells[2]), v, std::abs(v) * 5e-6);
+  }
+}
+
+TEST(SynthText, SemicolonWritesDecimalCommasAndPrefixedUnits) {
+  const CaptureSpec spec = small_supply();
+  TextFormat f;
+  f.delimiter = Delimiter::semicolon;
+  f.unit_style = UnitStyle::brackets;
+  f.time_unit = "\xC2\xB5s";  // µ, U+00B5 MICRO SIGN in UTF-8
+  f.current_unit = "mA";
+  f.voltage_unit = "kV";
+  f.quote_header = true;
+  f.crlf = true;
+  const std::string text = write(spec, f);
+  const auto lines = lines_of(text, "\r\n");
+  ASSERT_EQ(lines.size(), 21u);
+  for (const auto& line : lines) EXPECT_EQ(line.find('\n'), std::string::npos);  // no bare LF
+  EXPECT_EQ(lines[0], "\"time [\xC2\xB5s]\";\"current [mA]\";\"voltage [kV]\"");
+  Generator gen(spec);
+  for (std::size_t n = 1; n < 20; ++n) {
+    std::string row = lines[n + 1];
+    EXPECT_EQ(row.find('.'), std::string::npos) << row;
+    for (char& c : row) c = c == ',' ? '.' : c;
+    const auto cells = split(row, ';');
+    ASSERT_EQ(cells.size(), 3u);
+    EXPECT_DOUBLE_EQ(std::stod(cells[0]), static_cast<double>(n));  // µs
+    const double i_ma = gen.ideal_current_a(gen.elapsed_s(n)) * 1e3;
+    const double v_kv = gen.ideal_voltage_v(gen.elapsed_s(n)) * 1e-3;
+    EXPECT_NEAR(std::stod(cells[1]), i_ma, std::abs(i_ma) * 5e-6);
+    EXPECT_NEAR(std::stod(cells[2]), v_kv, std::abs(v_kv) * 5e-6);
+  }
+}
+
+TEST(SynthText, PreambleCommentsAndNoHeader) {
+  CaptureSpec spec = small_supply();
+  spec.voltage.reset();
+  TextFormat f;
+  f.preamble = true;
+  f.comments = true;
+  f.metadata = {{"Unit under test", "BT-32K serial 0042"}};
+  f.header = false;
+  f.time_column = false;
+  const auto lines = lines_of(write(spec, f));
+  const std::vector<std::string> head{
+      "Bench: Brightwell Tubeworks QA-2",
+      "",
+      "Record length,20",
+      "Sample interval,1e-06",
+      "Start time,0",
+      "Channels,1",
+      "Unit under test,BT-32K serial 0042",
+      "",
+      "# Brightwell Tubeworks bench QA capture, synthetic (lopside-synth)",
+      "# seed 1"};
+  ASSERT_EQ(lines.size(), head.size() + 20 + 1);
+  for (std::size_t k = 0; k < head.size(); ++k) EXPECT_EQ(lines[k], head[k]);
+  EXPECT_EQ(split(lines[head.size()], ',').size(), 1u);  // data only: no time, no header
+  EXPECT_EQ(lines.back(), "# end of record");
+}
+
+TEST(SynthText, FewTimeDigitsDoNotResolveTheStep) {
+  CaptureSpec spec = small_supply();
+  spec.timebase.sample_rate_hz = 10e6;  // 100 ns steps
+  spec.timebase.start_time_s = 12.0;
+  TextFormat f;
+  f.time_digits = 8;  // resolves 1e-6 s at t ≥ 10 s
+  const auto lines = lines_of(write(spec, f));
+  EXPECT_EQ(split(lines[1], ',')[0], "12");
+  EXPECT_EQ(split(lines[2], ',')[0], "12");
+  EXPECT_EQ(split(lines[11], ',')[0], "12.000001");  // 10 steps = 1 µs
+}
+
+TEST(SynthText, WhitespaceColumnsAlign) {
+  const CaptureSpec spec = small_supply();
+  TextFormat f;
+  f.delimiter = Delimiter::whitespace;
+  f.current_name = "tube current";
+  const auto lines = lines_of(write(spec, f));
+  EXPECT_EQ(lines[0].substr(0, 7), "time(s)");
+  std::istringstream header(lines[0]);
+  std::string a, b, c;
+  header >> a >> b >> c;
+  EXPECT_EQ(b, "tube_current(A)");
+  EXPECT_EQ(c, "voltage(V)");
+  const std::size_t second_column = lines[0].find('t', 7);
+  for (std::size_t n = 1; n < lines.size(); ++n) {
+    EXPECT_NE(lines[n][second_column], ' ') << lines[n];
+    EXPECT_EQ(lines[n][second_column - 1], ' ') << lines[n];
+  }
+}
+
+TEST(SynthText, RejectsUnknownUnits) {
+  TextFormat f;
+  f.current_unit = "mV";
+  Generator gen(small_supply());
+  std::ostringstream out;
+  EXPECT_THROW(write_text(gen, f, out), std::invalid_argument);
+  EXPECT_TRUE(out.str().empty());
+}
