@@ -55,7 +55,8 @@ void write_measure_text(std::ostream& out, const MeasureResult& r) {
                           " at the ends left out" +
                           (s.excluded_cycles ? ", " + std::to_string(s.excluded_cycles) + " in the zero stretch" : std::string()) +
                           ")");
-  line(out, "fundamental", format_with_uncertainty(s.fundamental_hz.value, s.fundamental_hz.u95, "Hz", false));
+  line(out, "fundamental", format_with_uncertainty(s.fundamental_hz.value, s.fundamental_hz.u95, "Hz", false) +
+                               "  (recorder clock tolerance not included)");
   out << '\n';
   line(out, "DC offset", format_with_uncertainty(s.dc_offset_a.value, s.dc_offset_a.u95, "A", true) +
                              (s.dc_significant ? "  significant" : "  not significant"));

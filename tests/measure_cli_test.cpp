@@ -1,0 +1,182 @@
+// `lopside measure` run as a user runs it, on the shipped samples (whose truth samples/README.md
+// derives from the generator's formulas) and on bad input.
+#include <cmath>
+#include <fstream>
+#include <string>
+#include <vector>
+
+#include "cli_support.hpp"
+
+namespace {
+
+using lopside::test::Cli;
+using lopside::test::json;
+using lopside::test::RunResult;
+namespace fs = std::filesystem;
+
+const std::string kSamples = std::string(LOPSIDE_SOURCE_DIR) + "/samples/";
+
+class Measure : public Cli {
+ protected:
+  json measure_json(const std::string& path, std::vector<std::string> extra = {}) {
+    std::vector<std::string> args{"measure", path, "--json", "-"};
+    args.insert(args.end(), extra.begin(), extra.end());
+    const RunResult r = run(args);
+    EXPECT_EQ(r.status, 0) << r.err;
+    try {
+      return json::parse(r.out);
+    } catch (const std::exception& e) {
+      ADD_FAILURE() << "not JSON: " << e.what() << "\n" << r.out;
+      return json::object();
+    }
+  }
+};
+
+// The acceptance: DC within 0.03 % of peak plus the noise's standard error (u95 is
+// about two of those), RMS within 0.2 %.
+void expect_dc(const json& j, double truth_a, double peak_a) {
+  const double value = j["dc_offset_a"]["value"].get<double>();
+  const double u95 = j["dc_offset_a"]["u95"].get<double>();
+  EXPECT_NEAR(value, truth_a, 3e-4 * peak_a + u95) << "u95 " << u95;
+}
+
+TEST_F(Measure, JsonCarriesTheVersionedSchemaAndEveryKey) {
+  const json j = measure_json(kSamples + "bt32k-unit0417-dc-fault.csv");
+  EXPECT_EQ(j["schema"], "lopside.measure/1");
+  for (const char* key : {"path", "format", "sample_rate_hz", "samples"}) {
+    EXPECT_TRUE(j["input"].contains(key)) << key;
+  }
+  for (const char* key : {"fundamental_hz", "cycle_count", "partial_cycles", "dc_offset_a", "rms_a",
+                          "ac_rms_a", "charge_positive_c", "charge_negative_c", "charge_asymmetry",
+                          "positive_share", "peak_positive_a", "peak_negative_a", "clipped_cycles",
+                          "voltage", "warnings"}) {
+    EXPECT_TRUE(j.contains(key)) << key;
+  }
+  for (const char* key : {"value", "u95", "significant"}) EXPECT_TRUE(j["dc_offset_a"].contains(key)) << key;
+  EXPECT_TRUE(j["clipped_cycles"].contains("positive"));
+  EXPECT_TRUE(j["voltage"].contains("power_w"));
+}
+
+TEST_F(Measure, UnequalHalfPeriodsSample) {
+  // (2A/π)(2D − 1) with A = 28 mA, D = 0.53 (samples/README.md); voltage 1800 V peak likewise.
+  const json j = measure_json(kSamples + "bt32k-unit0417-dc-fault.csv");
+  expect_dc(j, 2 * 0.028 / M_PI * 0.06, 0.028);
+  EXPECT_TRUE(j["dc_offset_a"]["significant"].get<bool>());
+  EXPECT_NEAR(j["voltage"]["mean_v"]["value"].get<double>(), 2 * 1800 / M_PI * 0.06, 3e-4 * 1800 + 0.5);
+  EXPECT_NEAR(j["voltage"]["positive_share"]["value"].get<double>(), 0.53, 2e-3);
+  EXPECT_NEAR(j["fundamental_hz"]["value"].get<double>(), 32000, 32000 * 1e-4);
+  EXPECT_EQ(j["reference"], "voltage");
+}
+
+TEST_F(Measure, HealthySampleIsNotSignificant) {
+  const json j = measure_json(kSamples + "bt32k-unit0412-healthy.csv");
+  expect_dc(j, 0.0, 0.022);
+  // A sine's rms is A/√2; with 0.2 mA rms noise, √(A²/2 + σ²) (analytic).
+  const double rms = std::sqrt(0.022 * 0.022 / 2 + 0.0002 * 0.0002);
+  EXPECT_NEAR(j["rms_a"]["value"].get<double>(), rms, 2e-3 * rms);
+  EXPECT_EQ(j["voltage"], nullptr);
+}
+
+TEST_F(Measure, GlowSampleAt60Hz) {
+  // Lobed halves: mean 2wA/π per half, w = 0.75, A = 30 mA, negative lobe 0.94:
+  // DC = (2·0.75·0.03/π)·(1 − 0.94)/2 (samples/README.md).
+  const json j = measure_json(kSamples + "bt60hz-xfmr-glow.csv");
+  expect_dc(j, 2 * 0.75 * 0.03 / M_PI * 0.06 / 2, 0.03);
+  EXPECT_NEAR(j["fundamental_hz"]["value"].get<double>(), 60, 60 * 1e-4);
+  // 0.25 s at 60 Hz from phase 0: crossings at k + 0.04 for k = 0…14, so 14 whole cycles.
+  EXPECT_EQ(j["cycle_count"].get<int>(), 14);
+}
+
+TEST_F(Measure, EuropeanExportSample) {
+  const json j = measure_json(kSamples + "bt40k-unit0521-export.csv");
+  expect_dc(j, 0.0012, 0.018);
+}
+
+TEST_F(Measure, WavSampleNeedsScaleAndUnits) {
+  const json j = measure_json(kSamples + "bt-rack3-stereo24.wav",
+                              {"--scale", "1=0.1", "--scale", "2=5000", "--unit", "1=A", "--unit", "2=V"});
+  // Negative lobe weaker by ε = 0.03: DC = εA/π (DOMAIN.md), A = 21 mA.
+  expect_dc(j, 0.03 * 0.021 / M_PI, 0.021);
+  // Charge asymmetry of lobes 1 : 0.97 is 0.03/1.97.
+  EXPECT_NEAR(j["charge_asymmetry"]["value"].get<double>(), 0.03 / 1.97, 0.003);
+  // Without units no channel is known to be the current: a usage error naming the fix.
+  const RunResult r = run({"measure", kSamples + "bt-rack3-stereo24.wav"});
+  EXPECT_EQ(r.status, 2);
+  EXPECT_NE(r.err.find("--current"), std::string::npos) << r.err;
+}
+
+TEST_F(Measure, ClippedSampleIsFlagged) {
+  const json j = measure_json(kSamples + "bt32k-unit0433-clipped.tsv");
+  EXPECT_EQ(j["clipped_cycles"]["negative"].get<long>(), j["cycle_count"].get<long>());
+  EXPECT_EQ(j["clipped_cycles"]["positive"].get<long>(), 0);
+  bool warned = false;
+  for (const auto& w : j["warnings"]) warned = warned || w.get<std::string>().find("clipped") != std::string::npos;
+  EXPECT_TRUE(warned);
+}
+
+TEST_F(Measure, TextSummaryShowsSignedFiguresWithUncertainty) {
+  const RunResult r = run({"measure", kSamples + "bt32k-unit0417-dc-fault.csv"});
+  ASSERT_EQ(r.status, 0) << r.err;
+  EXPECT_NE(r.out.find("DC offset           +1.0"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find(" mA \xC2\xB1 "), std::string::npos);
+  EXPECT_NE(r.out.find("significant"), std::string::npos);
+}
+
+TEST_F(Measure, CyclesTableHasOneRowPerCycle) {
+  const fs::path table = dir_ / "cycles.csv";
+  const json j = measure_json(kSamples + "bt32k-unit0412-healthy.csv", {"--cycles", table.string()});
+  std::ifstream in(table);
+  std::string header, line;
+  std::getline(in, header);
+  EXPECT_EQ(header.rfind("index,start_s,period_s,dc_offset_a,rms_a", 0), 0u) << header;
+  long rows = 0;
+  while (std::getline(in, line)) ++rows;
+  EXPECT_EQ(rows, j["cycle_count"].get<long>());
+}
+
+TEST_F(Measure, ZeroStretchIsSubtracted) {
+  // 10 ms of probe offset alone (+0.5 mA, no discharge), then 32 kHz of 20 mA peak on the same
+  // offset: after --zero 0:0.009 the DC must be 0 within the judged tolerance.
+  std::string text = "time (s),current (A)\n";
+  char row[96];
+  const double rate = 1e6;
+  for (int k = 0; k < 30000; ++k) {
+    const double t = k / rate;
+    const double i = 0.0005 + (t >= 0.01 ? 0.02 * std::sin(2 * M_PI * 32000 * (t - 0.01)) : 0.0);
+    std::snprintf(row, sizeof row, "%.7f,%.9f\n", t, i);
+    text += row;
+  }
+  const fs::path p = file("zeroed.csv", text);
+  const json raw = measure_json(p.string());
+  expect_dc(raw, 0.0005, 0.02);
+  const json j = measure_json(p.string(), {"--zero", "0:0.009"});
+  expect_dc(j, 0.0, 0.02);
+  EXPECT_NEAR(j["probe"]["zero_a"].get<double>(), 0.0005, 1e-9);
+}
+
+TEST_F(Measure, FewerThanTwoCyclesExitsTwoSayingWhatWasFound) {
+  const fs::path p = dir_ / "short.csv";
+  const RunResult g = run({"-o", p.string(), "--frequency", "50", "--rate", "10000", "--duration", "0.025"},
+                          LOPSIDE_SYNTH);
+  ASSERT_EQ(g.status, 0) << g.err;
+  const RunResult r = run({"measure", p.string()});
+  EXPECT_EQ(r.status, 2);
+  EXPECT_NE(r.err.find(p.string()), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("crossing"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("expected at least two whole cycles"), std::string::npos) << r.err;
+}
+
+TEST_F(Measure, BadZeroAndProbeOptionsAreUsageErrors) {
+  EXPECT_EQ(run({"measure", kSamples + "bt32k-unit0412-healthy.csv", "--zero", "5"}).status, 2);
+  EXPECT_EQ(run({"measure", kSamples + "bt32k-unit0412-healthy.csv", "--probe-offset", "-1"}).status, 2);
+}
+
+TEST_F(Measure, ProbeTolerancesWidenTheDcUncertainty) {
+  const json plain = measure_json(kSamples + "bt32k-unit0412-healthy.csv");
+  const json probe = measure_json(kSamples + "bt32k-unit0412-healthy.csv", {"--probe-offset", "0.0001"});
+  // ±0.1 mA rectangular is 57.7 µA standard (GUM 4.3.7); k = 2 gives at least 115 µA.
+  EXPECT_GE(probe["dc_offset_a"]["u95"].get<double>(), 2 * 0.0001 / std::sqrt(3.0));
+  EXPECT_LT(plain["dc_offset_a"]["u95"].get<double>(), probe["dc_offset_a"]["u95"].get<double>());
+}
+
+}  // namespace
