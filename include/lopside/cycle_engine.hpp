@@ -16,6 +16,7 @@
 #include <string>
 #include <vector>
 
+#include "lopside/harmonics.hpp"
 #include "lopside/sample_source.hpp"
 #include "lopside/uncertainty.hpp"
 
@@ -36,6 +37,8 @@ struct CycleConfig {
   double probe_gain_pct = 0;
   /// Cycles overlapping [exclude_from_s, exclude_to_s] are left out (the `--zero` stretch).
   std::optional<std::pair<double, double>> exclude_s;
+  /// Cycle-synchronous harmonics of the current; sample_rate_hz is filled in by the engine.
+  std::optional<HarmonicConfig> harmonics;
 };
 
 /// One whole cycle, integrated over its exact fractional-sample span.
@@ -96,6 +99,11 @@ struct CycleSummary {
   Estimate voltage_mean_v, voltage_rms_v, voltage_peak_positive_v, voltage_peak_negative_v;
   Estimate voltage_positive_share, power_w;
   Estimate energy_positive_j, energy_negative_j;  ///< per cycle
+  /// Peak over RMS: the mean of max(|peak+|, |peak−|) per cycle over the RMS.
+  double crest_factor = 0;
+  /// RMS over the rectified mean, (Q+ + Q−)/T.
+  double form_factor = 0;
+  std::optional<HarmonicSummary> harmonics;
   std::vector<std::string> warnings;
   /// Crossings of the reference seen (for the "fewer than two whole cycles" message).
   std::uint64_t crossings = 0;

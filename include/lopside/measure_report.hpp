@@ -36,6 +36,10 @@ void write_measure_text(std::ostream& out, const MeasureResult& result);
 /// with an uncertainty is {value, u95, k}.
 void write_measure_json(std::ostream& out, const MeasureResult& result);
 
+/// The per-order harmonic table as CSV: order, frequency_hz, amplitude_a, rms_a, phase_deg,
+/// spreads, and the IEC 61000-4-7 group and subgroup where they apply.
+void write_spectrum_csv(std::ostream& out, const MeasureResult& result);
+
 /// The per-cycle table as CSV, one row per whole cycle, written as the cycles are found.
 class CycleCsvWriter {
  public:

@@ -36,6 +36,9 @@ struct MeasureOptions {
   double probe_offset_a = 0;
   double probe_gain_pct = 0;
   std::string zero;  ///< "FROM:TO" in seconds, empty for none
+  std::string spectrum_path;     ///< per-order harmonic table as CSV; empty for none
+  std::size_t block_cycles = 10;  ///< harmonic block length for non-mains captures
+  std::size_t max_order = 40;     ///< highest harmonic order asked for
   ReaderOptions reader;
 };
 

@@ -187,6 +187,8 @@ struct CycleEngine::Impl {
   double clip_min = std::numeric_limits<double>::infinity();
   std::uint64_t clip_max_count = 0, clip_min_count = 0;
   bool finished = false;
+  std::optional<HarmonicAnalyzer> harmonic;
+  BatchMeans crest_peak;
 
   const Frame& at(std::uint64_t index) const { return ring[index & (kRing - 1)]; }
 
@@ -332,6 +334,7 @@ struct CycleEngine::Impl {
         boundaries.pop_front();
         add_piece(a, b, m - 1, from, x);
         on_boundary(x);
+        if (harmonic) harmonic->on_boundary(x);
         from = x;
       }
       add_piece(a, b, m - 1, from, to);
@@ -341,6 +344,7 @@ struct CycleEngine::Impl {
         on_boundary(0.0);
       }
     }
+    if (harmonic) harmonic->on_sample(m, b.i);
     if (in_cycle) acc.sample(b.i, b.v);
     else if (!leading_partial) leading_partial = true;
   }
@@ -435,6 +439,7 @@ struct CycleEngine::Impl {
     s.share.add(r.positive_share, T);
     s.peak_pos.add(r.peak_positive_a);
     s.peak_neg.add(r.peak_negative_a);
+    crest_peak.add(std::max(std::fabs(r.peak_positive_a), std::fabs(r.peak_negative_a)));
     if (cfg.voltage_channel) {
       s.v_mean.add(r.voltage_mean_v, T);
       s.v_ms.add(r.voltage_rms_v * r.voltage_rms_v, T);
@@ -546,6 +551,9 @@ struct CycleEngine::Impl {
     };
     s.peak_positive_a = estimate(a.peak_pos, peak_parts(a.peak_pos.mean(), u_gain_rel, u_off));
     s.peak_negative_a = estimate(a.peak_neg, peak_parts(a.peak_neg.mean(), u_gain_rel, u_off));
+    if (s.rms_a.value > 0) s.crest_factor = crest_peak.mean() / s.rms_a.value;
+    if (q_sum > 0) s.form_factor = s.rms_a.value / (q_sum / period);
+    if (harmonic) s.harmonics = harmonic->finish();
     s.clipped_positive = clip_max_count;
     s.clipped_negative = clip_min_count;
     if (s.has_voltage) {
@@ -583,6 +591,11 @@ CycleEngine::CycleEngine(const CycleConfig& config, Sink sink) : impl_(std::make
   impl_->sink = std::move(sink);
   impl_->dt = 1.0 / config.sample_rate_hz;
   impl_->ref_is_voltage = config.voltage_channel.has_value();
+  if (config.harmonics) {
+    HarmonicConfig h = *config.harmonics;
+    h.sample_rate_hz = config.sample_rate_hz;
+    impl_->harmonic.emplace(h);
+  }
   impl_->held.reserve(std::min<std::size_t>(kAcquireFrames, 1 << 16));
 }
 

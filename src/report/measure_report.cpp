@@ -1,5 +1,6 @@
 #include "lopside/measure_report.hpp"
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdio>
@@ -34,6 +35,56 @@ void line(std::ostream& out, const std::string& label, const std::string& text) 
 
 std::string count_text(std::uint64_t n, const char* one, const char* many) {
   return std::to_string(n) + " " + (n == 1 ? one : many);
+}
+
+std::string fixed(double v, int decimals) {
+  std::array<char, 48> buf{};
+  std::snprintf(buf.data(), buf.size(), "%.*f", decimals, v);
+  return buf.data();
+}
+
+// The leading orders as a small table: enough to see DC, the fundamental and the first even
+// and odd harmonics at a glance; the full table goes to --spectrum and the JSON.
+void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1) {
+  out << '\n';
+  line(out, "THD (IEC)", fixed(100 * h.thd, 2) + " %   orders 2\xE2\x80\x93" + std::to_string(h.max_usable_order) +
+                             " over the fundamental, DC excluded");
+  line(out, "THD with DC", fixed(100 * h.thd_with_dc, 2) + " %   IEEE 1459: DC counted as distortion");
+  line(out, "even harmonics", fixed(100 * h.even_harmonic_share, 2) + " % of the harmonic content (orders \xE2\x89\xA5 2)");
+  line(out, "DC / fundamental", fixed(100 * h.dc_to_fundamental, 3) + " %");
+  out << "  harmonics (" << h.blocks << " blocks of " << h.block_cycles << " cycles"
+      << (h.iec_61000_4_7 ? ", IEC 61000-4-7 window" : "") << "):\n";
+  out << "    order   frequency        amplitude (peak)   % of H1   phase\n";
+  const double a1 = h.orders.size() > 1 ? h.orders[1].amplitude_a : 0.0;
+  const std::size_t shown = std::min<std::size_t>(h.orders.size(), 8);
+  for (std::size_t n = 0; n < shown; ++n) {
+    const HarmonicOrder& o = h.orders[n];
+    std::array<char, 160> buf{};
+    const std::string freq = format_si(static_cast<double>(n) * f1, "Hz", 4);
+    const std::string amp = format_si(o.amplitude_a, "A", 4, n == 0);
+    const std::string pct = a1 > 0 ? fixed(100 * std::fabs(o.amplitude_a) / a1, 3) : "-";
+    const std::string ph = n >= 1 ? fixed(o.phase_deg, 1) + "\xC2\xB0" : "";
+    std::snprintf(buf.data(), buf.size(), "    %5zu   %-14s   %-16s   %8s   %s\n", n,
+                  n == 0 ? "DC" : freq.c_str(), amp.c_str(), pct.c_str(), ph.c_str());
+    out << buf.data();
+  }
+}
+
+json harmonics_json(const HarmonicSummary& h) {
+  json orders = json::array();
+  for (const HarmonicOrder& o : h.orders) {
+    json j;
+    j["order"] = o.order;
+    j["amplitude_a"] = o.amplitude_a;
+    j["rms_a"] = o.rms_a;
+    j["phase_deg"] = o.phase_deg;
+    j["amplitude_spread_a"] = o.amplitude_spread_a;
+    j["phase_spread_deg"] = o.phase_spread_deg;
+    if (o.group_rms_a) j["group_rms_a"] = *o.group_rms_a;
+    if (o.subgroup_rms_a) j["subgroup_rms_a"] = *o.subgroup_rms_a;
+    orders.push_back(j);
+  }
+  return orders;
 }
 
 }  // namespace
@@ -72,6 +123,8 @@ void write_measure_text(std::ostream& out, const MeasureResult& r) {
   line(out, "peak \xE2\x88\x92", format_with_uncertainty(s.peak_negative_a.value, s.peak_negative_a.u95, "A", true));
   line(out, "clipped cycles", std::to_string(s.clipped_positive) + " positive, " +
                                   std::to_string(s.clipped_negative) + " negative");
+  line(out, "crest factor", fixed(s.crest_factor, 3) + "   form factor " + fixed(s.form_factor, 4));
+  if (s.harmonics && s.harmonics->blocks > 0) write_harmonics_text(out, *s.harmonics, s.fundamental_hz.value);
   if (s.has_voltage) {
     out << '\n';
     line(out, "voltage mean", format_with_uncertainty(s.voltage_mean_v.value, s.voltage_mean_v.u95, "V", true));
@@ -149,9 +202,44 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   } else {
     doc["voltage"] = nullptr;
   }
+  doc["crest_factor"] = s.crest_factor;
+  doc["form_factor"] = s.form_factor;
+  if (s.harmonics) {
+    const HarmonicSummary& h = *s.harmonics;
+    doc["harmonics"] = harmonics_json(h);
+    doc["thd"] = h.thd;
+    doc["thd_with_dc"] = h.thd_with_dc;
+    doc["even_harmonic_share"] = h.even_harmonic_share;
+    doc["dc_to_fundamental"] = h.dc_to_fundamental;
+    doc["max_usable_order"] = h.max_usable_order;
+    doc["harmonic_blocks"] = h.blocks;
+    doc["harmonic_block_cycles"] = h.block_cycles;
+    doc["harmonic_iec_61000_4_7"] = h.iec_61000_4_7;
+    doc["harmonic_phase_convention"] = "phase_deg = phi_n - n*phi_1, sine basis a*sin(n*theta + phi)";
+  } else {
+    doc["harmonics"] = nullptr;
+  }
   doc["sign_convention"] = "positive current flows from the probed lead into the electrode it feeds";
   doc["warnings"] = r.warnings;
   out << doc.dump(2, ' ', false, json::error_handler_t::replace) << '\n';
+}
+
+void write_spectrum_csv(std::ostream& out, const MeasureResult& r) {
+  out << "order,frequency_hz,amplitude_a,rms_a,phase_deg,amplitude_spread_a,phase_spread_deg,"
+         "group_rms_a,subgroup_rms_a\n";
+  if (!r.summary.harmonics) return;
+  const double f1 = r.summary.fundamental_hz.value;
+  std::array<char, 320> buf{};
+  for (const HarmonicOrder& o : r.summary.harmonics->orders) {
+    std::snprintf(buf.data(), buf.size(), "%zu,%.9g,%.9g,%.9g,%.6g,%.6g,%.6g,", o.order,
+                  static_cast<double>(o.order) * f1, o.amplitude_a, o.rms_a, o.phase_deg,
+                  o.amplitude_spread_a, o.phase_spread_deg);
+    out << buf.data();
+    if (o.group_rms_a) out << fixed(*o.group_rms_a * 1, 12);
+    out << ',';
+    if (o.subgroup_rms_a) out << fixed(*o.subgroup_rms_a, 12);
+    out << '\n';
+  }
 }
 
 CycleCsvWriter::CycleCsvWriter(std::ostream& out, bool with_voltage)
