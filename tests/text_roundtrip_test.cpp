@@ -105,7 +105,7 @@ double time_fit_bound(std::uint64_t n, double t0, double dt, int digits) {
 }
 
 struct Outcome {
-  CaptureInfo info;                    // after read() returned 0 (frames and rate final)
+  CaptureInfo info;  // after read() returned 0 (frames and rate final)
   std::vector<std::string> warnings;
   std::vector<ChannelSummary> summaries;
 };
@@ -119,8 +119,7 @@ Outcome read_and_compare(SampleSource& source, const CaptureSpec& spec,
   Generator reference(spec);
   const std::size_t ch = reference.channels();
   if (source.info().channels.size() != ch) {
-    ADD_FAILURE() << "reader has " << source.info().channels.size() << " channels, written "
-                  << ch;
+    ADD_FAILURE() << "reader has " << source.info().channels.size() << " channels, written " << ch;
     out.info = source.info();
     return out;
   }
@@ -153,8 +152,8 @@ Outcome read_and_compare(SampleSource& source, const CaptureSpec& spec,
     }
   }
   EXPECT_EQ(bad, 0u) << "samples outside the printing bound";
-  EXPECT_EQ(reference.read(expected, 1), 0u) << "reader ended after " << frame << " of "
-                                              << reference.frames() << " frames";
+  EXPECT_EQ(reference.read(expected, 1), 0u)
+      << "reader ended after " << frame << " of " << reference.frames() << " frames";
   out.info = source.info();
   out.warnings = source.warnings();
   out.summaries = stats.summaries();
@@ -182,6 +181,11 @@ struct Case {
   bool via_file = false;  // through open_capture on a temp file instead of a stream
 };
 
+// GoogleTest prints a failing parameter with this instead of its bytes.
+void PrintTo(const Case& c, std::ostream* os) {
+  *os << c.name;
+}
+
 Case make(const std::string& name, const std::function<void(Case&)>& edit) {
   Case c;
   c.name = name;
@@ -205,10 +209,11 @@ void no_header(Case& c) {
 
 std::vector<Case> all_cases() {
   std::vector<Case> v;
-  const std::vector<std::pair<std::string, Delimiter>> delimiters{{"comma", Delimiter::comma},
-                                                                  {"semicolon", Delimiter::semicolon},
-                                                                  {"tab", Delimiter::tab},
-                                                                  {"whitespace", Delimiter::whitespace}};
+  const std::vector<std::pair<std::string, Delimiter>> delimiters{
+      {"comma", Delimiter::comma},
+      {"semicolon", Delimiter::semicolon},
+      {"tab", Delimiter::tab},
+      {"whitespace", Delimiter::whitespace}};
   for (const auto& [dname, d] : delimiters) {
     const Delimiter delim = d;
     v.push_back(make(dname, [&](Case& c) { c.format.delimiter = delim; }));
@@ -268,16 +273,24 @@ std::vector<Case> all_cases() {
     c.format.current_name = "tube current";
     c.format.voltage_name = "tube voltage";
   }));
-  for (const auto& [uname, unit] : std::vector<std::pair<std::string, std::string>>{
-           {"mA", "mA"}, {"uA", "uA"}, {"microsign_A", "\xC2\xB5" "A"}, {"kA", "kA"}}) {
+  for (const auto& [uname, unit] : std::vector<std::pair<std::string, std::string>>{{"mA", "mA"},
+                                                                                    {"uA", "uA"},
+                                                                                    {"microsign_A",
+                                                                                     "\xC2\xB5"
+                                                                                     "A"},
+                                                                                    {"kA", "kA"}}) {
     const std::string u = unit;
     v.push_back(make("current_unit_" + uname, [&](Case& c) { c.format.current_unit = u; }));
   }
   for (const std::string& u : std::vector<std::string>{"mV", "kV"}) {
     v.push_back(make("voltage_unit_" + u, [&](Case& c) { c.format.voltage_unit = u; }));
   }
-  for (const auto& [tname, unit] : std::vector<std::pair<std::string, std::string>>{
-           {"ms", "ms"}, {"us", "us"}, {"microsign_s", "\xC2\xB5" "s"}, {"ns", "ns"}}) {
+  for (const auto& [tname, unit] : std::vector<std::pair<std::string, std::string>>{{"ms", "ms"},
+                                                                                    {"us", "us"},
+                                                                                    {"microsign_s",
+                                                                                     "\xC2\xB5"
+                                                                                     "s"},
+                                                                                    {"ns", "ns"}}) {
     const std::string u = unit;
     v.push_back(make("time_unit_" + tname, [&](Case& c) { c.format.time_unit = u; }));
   }
@@ -323,8 +336,12 @@ std::vector<Case> all_cases() {
     c.format.crlf = true;
     c.format.quote_header = true;
     c.format.unit_style = UnitStyle::brackets;
-    c.format.time_unit = "\xC2\xB5" "s";
-    c.format.current_unit = "\xC2\xB5" "A";
+    c.format.time_unit =
+        "\xC2\xB5"
+        "s";
+    c.format.current_unit =
+        "\xC2\xB5"
+        "A";
     c.format.voltage_unit = "kV";
   };
   v.push_back(make("everything_semicolon_stream", everything));
@@ -384,7 +401,8 @@ TEST_P(TextRoundTrip, ReadsBackWhatWasWritten) {
 
   // Sample rate.
   if (c.format.time_column) {
-    const double bound = time_fit_bound(frames, c.start_time_s, 1.0 / kRateHz, c.format.time_digits);
+    const double bound =
+        time_fit_bound(frames, c.start_time_s, 1.0 / kRateHz, c.format.time_digits);
     EXPECT_LE(bound, 1e-9) << "the case should print enough time digits to resolve each step";
     EXPECT_NEAR(r.info.sample_rate_hz, kRateHz, kRateHz * bound);
     // The first printed time is within half its last digit of the true start (ISO C
@@ -432,10 +450,18 @@ TEST_P(TextRoundTrip, ReadsBackWhatWasWritten) {
   if (columns > 1) {
     const char* expected_format = "csv";
     switch (c.format.delimiter) {
-      case Delimiter::comma: expected_format = "csv"; break;
-      case Delimiter::semicolon: expected_format = "csv-semicolon"; break;
-      case Delimiter::tab: expected_format = "tsv"; break;
-      case Delimiter::whitespace: expected_format = "text"; break;
+      case Delimiter::comma:
+        expected_format = "csv";
+        break;
+      case Delimiter::semicolon:
+        expected_format = "csv-semicolon";
+        break;
+      case Delimiter::tab:
+        expected_format = "tsv";
+        break;
+      case Delimiter::whitespace:
+        expected_format = "text";
+        break;
     }
     EXPECT_EQ(r.info.format, expected_format);
   }

@@ -116,8 +116,9 @@ void setup_measure(CLI::App& app) {
   sub->add_option("--block-cycles", options->block_cycles,
                   "Cycles per harmonic block (50/60 Hz captures use IEC 61000-4-7's 10/12)")
       ->check(CLI::Range(1, 1000));
-  sub->add_option("--max-order", options->max_order, "Highest harmonic order to report")
-      ->check(CLI::Range(1, 1000));
+  sub->add_option("--max-order", options->max_order,
+                  "Highest harmonic order to report; 0 skips the harmonic analysis")
+      ->check(CLI::Range(0, 1000));
   add_reader_flags(*sub, options->reader);
   sub->callback([options]() { run_measure(*options); });
 }
@@ -153,10 +154,12 @@ void run_measure(const MeasureOptions& o) {
   config.probe_offset_a = o.probe_offset_a;
   config.probe_gain_pct = o.probe_gain_pct;
   config.exclude_s = zero_stretch;
-  HarmonicConfig harmonics;
-  harmonics.block_cycles = o.block_cycles;
-  harmonics.max_order = o.max_order;
-  config.harmonics = harmonics;
+  if (o.max_order > 0) {
+    HarmonicConfig harmonics;
+    harmonics.block_cycles = o.block_cycles;
+    harmonics.max_order = o.max_order;
+    config.harmonics = harmonics;
+  }
 
   std::optional<CycleCsvWriter> cycles;
   if (cycles_out) cycles.emplace(cycles_out->stream(), voltage.has_value());

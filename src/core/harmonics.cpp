@@ -4,6 +4,7 @@
 #include <array>
 #include <cmath>
 #include <complex>
+#include <limits>
 #include <map>
 #include <stdexcept>
 
@@ -12,17 +13,19 @@
 namespace lopside {
 namespace {
 
-// Band-limited resampling: a Kaiser-windowed sinc of 32 taps (Oppenheim & Schafer,
-// Discrete-Time Signal Processing, 3rd ed., 7.6: Kaiser window design). β = 9 gives about
-// 90 dB stop-band attenuation and a transition width of (A − 8)/(2.285·(N − 1)) ≈ 1.1 rad, so
-// the kernel is flat (ripple ~3e-5) up to π − 0.55 rad: 0.82 of Nyquist. The kernel is
-// tabulated at kPhases fractional positions and interpolated linearly between them.
-constexpr int kHalfTaps = 16;
-constexpr int kTaps = 2 * kHalfTaps;
-constexpr int kPhases = 512;
+// Band-limited resampling: a Kaiser-windowed sinc (Oppenheim & Schafer, Discrete-Time Signal
+// Processing, 3rd ed., 7.6: Kaiser window design). β = 9 gives about 90 dB stop-band
+// attenuation (pass-band ripple ~3e-5) whatever the length; the transition width is
+// (A − 8)/(2.285·(N − 1)): 1.1 rad for N = 32 taps, flat up to 0.82 of Nyquist, and 2.4 rad
+// for N = 16, flat up to 0.62. The short kernel costs half and is used whenever the orders
+// asked for lie inside its flat band; kernels are tabulated at kPhases + 1 fractional positions.
+constexpr int kMaxHalfTaps = 16;  // margin kept on either side of a block, in samples
+constexpr int kPhases = 1024;
 constexpr double kKaiserBeta = 9.0;
-// Orders up to 0.4 samples-per-cycle stay inside that flat band (0.8 of Nyquist).
-constexpr double kUsableShareOfSamplesPerCycle = 0.4;
+// Orders up to this share of the samples per cycle stay inside each kernel's flat band
+// (0.82 and 0.62 of Nyquist, less a margin).
+constexpr double kUsableShareLong = 0.4;
+constexpr double kUsableShareShort = 0.3;
 // The grid has at least as many points per cycle as the source (no decimation, so nothing
 // above the grid's Nyquist folds back), up to 2^16: beyond, the source's content above
 // order 32768 would alias, which no discharge supply has in any measurable amount.
@@ -39,29 +42,46 @@ double bessel_i0(double x) {
   return sum;
 }
 
+template <int Half>
 struct Kernel {
-  // table[p][j] = h(p/kPhases − (j − kHalfTaps + 1)), rows normalised to unit sum (DC gain 1).
+  static constexpr std::size_t kTaps = 2 * static_cast<std::size_t>(Half);
+  // table[p][j] = h(p/kPhases − (j − Half + 1)), rows normalised to unit sum (DC gain 1).
   std::vector<std::array<double, kTaps>> table;
   Kernel() : table(kPhases + 1) {
     const double i0_beta = bessel_i0(kKaiserBeta);
     for (int p = 0; p <= kPhases; ++p) {
       const double t = static_cast<double>(p) / kPhases;
       double sum = 0;
-      for (int j = 0; j < kTaps; ++j) {
-        const double x = t - static_cast<double>(j - kHalfTaps + 1);
+      auto& row = table[static_cast<std::size_t>(p)];
+      for (int j = 0; j < static_cast<int>(kTaps); ++j) {
+        const double x = t - static_cast<double>(j - Half + 1);
         const double sinc = x == 0.0 ? 1.0 : std::sin(M_PI * x) / (M_PI * x);
-        const double r = x / kHalfTaps;
+        const double r = x / Half;
         const double w = std::fabs(r) < 1 ? bessel_i0(kKaiserBeta * std::sqrt(1 - r * r)) / i0_beta : 0.0;
-        table[static_cast<std::size_t>(p)][static_cast<std::size_t>(j)] = sinc * w;
+        row[static_cast<std::size_t>(j)] = sinc * w;
         sum += sinc * w;
       }
-      for (double& v : table[static_cast<std::size_t>(p)]) v /= sum;
+      for (double& v : row) v /= sum;
     }
+  }
+
+  // The value at fractional index x ≥ 0 of the samples `s` (s[0] is frame `first`), from the
+  // nearest tabulated phase: at most 1/(2·kPhases) of a sample off, a timing error that moves
+  // no order's amplitude by more than 1e-3 of itself and averages out over a block.
+  double at(const double* s, std::int64_t first, double x) const {
+    const auto i0 = static_cast<std::int64_t>(x);  // x ≥ 0: truncation is the floor
+    const auto p = static_cast<std::size_t>((x - static_cast<double>(i0)) * kPhases + 0.5);
+    const double* h = table[p].data();
+    const double* v = s + (i0 - Half + 1 - first);
+    double y = 0;
+    for (std::size_t j = 0; j < kTaps; ++j) y += v[j] * h[j];
+    return y;
   }
 };
 
-const Kernel& kernel() {
-  static const Kernel k;
+template <int Half>
+const Kernel<Half>& kernel() {
+  static const Kernel<Half> k;
   return k;
 }
 
@@ -97,25 +117,19 @@ struct HarmonicAnalyzer::Impl {
   double min_cycle_samples = 1e300;
   std::size_t grid = 0;
 
-  double sample(std::int64_t index) const {
-    return buf[static_cast<std::size_t>(index - static_cast<std::int64_t>(buf_start))];
-  }
+  // The nearest tabulated phase: at most 1/(2·kPhases) of a sample off, a timing error of
+  // 0.5 ns at 1 MS/s that moves no order's amplitude by more than 1e-3 of itself and averages
+  // out over a block.
+  bool short_kernel = false;  // chosen at the first block, kept for the capture
 
-  double interpolate(double x) const {
-    const double fl = std::floor(x);
-    const auto i0 = static_cast<std::int64_t>(fl);
-    const double phase = (x - fl) * kPhases;
-    const auto p0 = static_cast<std::size_t>(std::min<double>(std::floor(phase), kPhases - 1));
-    const double f = phase - static_cast<double>(p0);
-    const auto& lo = kernel().table[p0];
-    const auto& hi = kernel().table[p0 + 1];
-    double y = 0;
-    const std::int64_t first = i0 - kHalfTaps + 1;
-    for (int j = 0; j < kTaps; ++j) {
-      const auto jj = static_cast<std::size_t>(j);
-      y += sample(first + j) * (lo[jj] + f * (hi[jj] - lo[jj]));
+  template <int Half>
+  void resample(double* in, std::size_t B, std::size_t M) const {
+    const Kernel<Half>& k = kernel<Half>();
+    const auto first = static_cast<std::int64_t>(buf_start);
+    for (std::size_t j = 0; j < B; ++j) {
+      const double x0 = bounds[j], step = (bounds[j + 1] - bounds[j]) / static_cast<double>(M);
+      for (std::size_t m = 0; m < M; ++m) in[j * M + m] = k.at(buf.data(), first, x0 + step * static_cast<double>(m));
     }
-    return y;
   }
 
   void decide_block(double period_samples) {
@@ -132,20 +146,27 @@ struct HarmonicAnalyzer::Impl {
     }
   }
 
-  bool ready() const {
-    if (block_cycles == 0 || bounds.size() < block_cycles + 1) return false;
-    const double end = bounds[block_cycles];
-    return static_cast<double>(next_sample) > std::ceil(end) + kHalfTaps + 1;
+  // The first sample index at which the pending block has every sample its last
+  // interpolation needs; max() while no block is pending. Kept so that on_sample, called for
+  // every sample, only compares two integers.
+  std::uint64_t ready_at = std::numeric_limits<std::uint64_t>::max();
+
+  void update_ready_at() {
+    if (block_cycles == 0 || bounds.size() < block_cycles + 1) {
+      ready_at = std::numeric_limits<std::uint64_t>::max();
+      return;
+    }
+    ready_at = static_cast<std::uint64_t>(std::ceil(bounds[block_cycles])) + kMaxHalfTaps + 2;
   }
+
+  bool ready() const { return next_sample >= ready_at; }
 
   void process_block() {
     const std::size_t B = block_cycles;
     double longest = 0;
-    for (std::size_t j = 0; j < B; ++j) {
-      const double len = bounds[j + 1] - bounds[j];
-      longest = std::max(longest, len);
-      min_cycle_samples = std::min(min_cycle_samples, len);
-    }
+    for (std::size_t j = 0; j < B; ++j) longest = std::max(longest, bounds[j + 1] - bounds[j]);
+    // The block's mean cycle length: single cycles carry the boundaries' jitter.
+    min_cycle_samples = std::min(min_cycle_samples, (bounds[B] - bounds[0]) / static_cast<double>(B));
     const std::size_t want_orders = cfg.max_order + 2;
     const std::size_t M = std::min(kMaxGridPerCycle,
                                    next_pow2(std::max<std::size_t>(static_cast<std::size_t>(std::ceil(longest)),
@@ -154,12 +175,14 @@ struct HarmonicAnalyzer::Impl {
     const std::size_t N = B * M;
     auto& plan = plans[N];
     if (!plan) plan = std::make_unique<RealFft>(N);
-    double* in = plan->input();
-    for (std::size_t j = 0; j < B; ++j) {
-      const double x0 = bounds[j], len = bounds[j + 1] - bounds[j];
-      for (std::size_t m = 0; m < M; ++m) {
-        in[j * M + m] = interpolate(x0 + len * static_cast<double>(m) / static_cast<double>(M));
-      }
+    if (blocks == 0) {
+      short_kernel = kUsableShareShort * (bounds[B] - bounds[0]) / static_cast<double>(B) >=
+                     static_cast<double>(cfg.max_order) + 1;
+    }
+    if (short_kernel) {
+      resample<8>(plan->input(), B, M);
+    } else {
+      resample<16>(plan->input(), B, M);
     }
     const std::complex<double>* X = plan->forward();
     const double n_points = static_cast<double>(N);
@@ -191,17 +214,19 @@ struct HarmonicAnalyzer::Impl {
   }
 
   void advance() {
+    update_ready_at();
     while (ready()) {
       process_block();
       bounds.erase(bounds.begin(), bounds.begin() + static_cast<std::ptrdiff_t>(block_cycles));
       trim();
+      update_ready_at();
     }
   }
 
   // Keeps the samples the next block's first interpolation needs, and no more.
   void trim() {
     if (bounds.empty()) return;
-    const auto keep_from = static_cast<std::int64_t>(std::floor(bounds.front())) - kHalfTaps - 1;
+    const auto keep_from = static_cast<std::int64_t>(std::floor(bounds.front())) - kMaxHalfTaps - 1;
     if (keep_from > static_cast<std::int64_t>(buf_start)) {
       const auto drop = static_cast<std::size_t>(keep_from - static_cast<std::int64_t>(buf_start));
       buf.erase(buf.begin(), buf.begin() + static_cast<std::ptrdiff_t>(std::min(drop, buf.size())));
@@ -226,17 +251,17 @@ void HarmonicAnalyzer::on_sample(std::uint64_t index, double value) {
   m.buf.push_back(value);
   m.next_sample = index + 1;
   // Before the first usable boundary only the interpolation margin is worth keeping.
-  if (m.bounds.empty() && m.buf.size() > 4 * kHalfTaps) {
-    m.buf.erase(m.buf.begin(), m.buf.begin() + 2 * kHalfTaps);
-    m.buf_start += 2 * kHalfTaps;
+  if (m.bounds.empty() && m.buf.size() > 4 * kMaxHalfTaps) {
+    m.buf.erase(m.buf.begin(), m.buf.begin() + 2 * kMaxHalfTaps);
+    m.buf_start += 2 * kMaxHalfTaps;
   }
-  m.advance();
+  if (m.ready()) m.advance();
 }
 
 void HarmonicAnalyzer::on_boundary(double index) {
   Impl& m = *impl_;
   // A block must start where the kernel has its samples on the left.
-  if (m.bounds.empty() && (m.buf.empty() || std::floor(index) - kHalfTaps + 1 < static_cast<double>(m.buf_start))) {
+  if (m.bounds.empty() && (m.buf.empty() || std::floor(index) - kMaxHalfTaps + 1 < static_cast<double>(m.buf_start))) {
     return;
   }
   m.bounds.push_back(index);
@@ -258,7 +283,8 @@ HarmonicSummary HarmonicAnalyzer::finish() {
     return out;
   }
   const auto usable_by_sampling =
-      static_cast<std::size_t>(std::floor(kUsableShareOfSamplesPerCycle * m.min_cycle_samples));
+      static_cast<std::size_t>(std::floor((m.short_kernel ? kUsableShareShort : kUsableShareLong) *
+                                              m.min_cycle_samples + 0.01));
   std::size_t usable = std::min({m.cfg.max_order, usable_by_sampling, m.sums.size() - 1});
   if (m.grid == kMaxGridPerCycle) usable = std::min(usable, kMaxGridPerCycle / 2 - 1);
   out.max_usable_order = usable;
@@ -266,7 +292,7 @@ HarmonicSummary HarmonicAnalyzer::finish() {
     out.warnings.push_back("harmonics reported up to order " + std::to_string(usable) +
                            ": the sampling resolves no more (" +
                            std::to_string(static_cast<long>(m.min_cycle_samples)) +
-                           " samples in the shortest cycle)");
+                           " samples per cycle at the fastest)");
   }
   const double nb = static_cast<double>(m.blocks);
   for (std::size_t n = 0; n <= usable; ++n) {

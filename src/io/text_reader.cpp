@@ -236,12 +236,15 @@ bool all_numeric(const std::vector<std::string_view>& cells, char decimal) {
   return true;
 }
 
-// The dialect of a data row: the first candidate whose cells all read as numbers. The order
+// The dialects under which a data row reads as numbers, in order of preference. The order
 // settles the ambiguous cases: tab before anything; ';' always pairs with the decimal comma
-// (the European spreadsheet convention); ',' with the decimal point; blanks last.
-std::optional<Dialect> detect_dialect(std::string_view line) {
+// (the European spreadsheet convention); ',' with the decimal point; blanks last. A row of one
+// number without any delimiter also reads as one cell with a decimal comma ("0,5"), which only
+// the header can tell from two cells.
+std::vector<Dialect> detect_dialects(std::string_view line) {
   std::vector<std::string_view> cells;
   std::string scratch;
+  std::vector<Dialect> found;
   const std::array<Dialect, 6> candidates{{{'\t', '.'},
                                            {'\t', ','},
                                            {';', ','},
@@ -251,11 +254,21 @@ std::optional<Dialect> detect_dialect(std::string_view line) {
   for (const Dialect& d : candidates) {
     if (d.delimiter != ' ' && line.find(d.delimiter) == std::string_view::npos) continue;
     split_cells(line, d.delimiter, cells, scratch);
-    if (all_numeric(cells, d.decimal)) return d;
+    if (all_numeric(cells, d.decimal)) found.push_back(d);
   }
   split_cells(line, ' ', cells, scratch);
-  if (all_numeric(cells, ',')) return Dialect{' ', ','};
-  return std::nullopt;
+  if (all_numeric(cells, ',')) found.push_back(Dialect{' ', ','});
+  return found;
+}
+
+// Header cells of `line` under `d`; one column of data is named by the whole line, blanks and
+// all ("current (A)").
+std::vector<std::string_view> header_cells(std::string_view line, const Dialect& d, std::size_t columns,
+                                           std::string& scratch) {
+  std::vector<std::string_view> head;
+  split_cells(line, d.delimiter, head, scratch);
+  if (columns == 1 && head.size() > 1 && d.delimiter == ' ') head.assign(1, trim(line));
+  return head;
 }
 
 bool is_time_name(const std::string& n) {
@@ -385,13 +398,13 @@ class TextReader final : public SampleSource {
   void open() {
     std::vector<std::pair<std::uint64_t, std::string>> preamble;  // (line, text)
     std::string_view line;
-    std::optional<Dialect> dialect;
+    std::vector<Dialect> dialects;
     bool any_text = false;
     while (lines_.next(line)) {
       any_text = any_text || !is_blank(line);
       if (is_blank(line) || is_comment(line)) continue;
-      dialect = detect_dialect(line);
-      if (dialect) break;
+      dialects = detect_dialects(line);
+      if (!dialects.empty()) break;
       if (preamble.size() >= kMaxPreambleLines) {
         throw InputError(path_, InputLocation::at_line(lines_.line_number()),
                          "no rows of numbers in the first " + std::to_string(kMaxPreambleLines) +
@@ -399,7 +412,7 @@ class TextReader final : public SampleSource {
       }
       preamble.emplace_back(lines_.line_number(), std::string(line));
     }
-    if (!dialect) {
+    if (dialects.empty()) {
       if (!any_text) throw InputError(path_, "the file holds no text; expected a capture");
       if (!preamble.empty()) {
         throw InputError(path_, InputLocation::at_line(preamble.back().first),
@@ -408,9 +421,21 @@ class TextReader final : public SampleSource {
       }
       throw InputError(path_, "no data rows; expected rows of numbers");
     }
-    dialect_ = *dialect;
     const std::uint64_t first_data_line = lines_.line_number();
     std::string first_row(line);
+    // Where the row reads more than one way, the header above it decides: the dialect under
+    // which it has as many cells as the row.
+    dialect_ = dialects.front();
+    if (dialects.size() > 1 && !preamble.empty()) {
+      for (const Dialect& d : dialects) {
+        split_cells(first_row, d.delimiter, cells_, scratch_);
+        std::string head_scratch;
+        if (header_cells(preamble.back().second, d, cells_.size(), head_scratch).size() == cells_.size()) {
+          dialect_ = d;
+          break;
+        }
+      }
+    }
     split_cells(first_row, dialect_.delimiter, cells_, scratch_);
     columns_ = cells_.size();
 
@@ -420,13 +445,9 @@ class TextReader final : public SampleSource {
     bool has_header = false;
     std::uint64_t header_line = 0;
     if (!preamble.empty()) {
-      std::vector<std::string_view> head;
       std::string head_scratch;
-      split_cells(preamble.back().second, dialect_.delimiter, head, head_scratch);
-      // One column of data: the whole line names it ("current (A)" holds a blank).
-      if (columns_ == 1 && head.size() > 1 && dialect_.delimiter == ' ') {
-        head.assign(1, trim(preamble.back().second));
-      }
+      const std::vector<std::string_view> head =
+          header_cells(preamble.back().second, dialect_, columns_, head_scratch);
       bool numeric_cell = false;
       for (auto c : head) numeric_cell = numeric_cell || parse_number(c, dialect_.decimal);
       if (head.size() == columns_ && !numeric_cell) {
@@ -660,7 +681,7 @@ class TextReader final : public SampleSource {
     }
     if (dt_s_ > 0) {
       check_time(k, rel, q, line_no, static_cast<double>(fit_.predict(k)), prev_t_ - t0_,
-                 prev_q_, prev_k_, true, true);
+                 prev_q_, prev_k_, true, true, fit_.count());
     } else {
       lookahead_times_.push_back({k, rel, q, line_no});
     }
@@ -674,7 +695,8 @@ class TextReader final : public SampleSource {
   // when printing resolves each step) and against the fitted line (the only one that sees a
   // gap when the printed time resolves less than a step).
   void check_time(double k, double rel, double q, std::uint64_t line_no, double predicted,
-                  double prev_rel, double prev_q, double prev_k, bool local_test, bool fit_test) {
+                  double prev_rel, double prev_q, double prev_k, bool local_test, bool fit_test,
+                  std::uint64_t fit_n = 0) {
     const double printed = 0.5 * q;
     if (local_test && k > prev_k) {
       const double local = (rel - prev_rel) - (k - prev_k) * dt_s_;
@@ -686,12 +708,19 @@ class TextReader final : public SampleSource {
     if (!fit_test) return;
     const double residual = rel - predicted;
     if (std::fabs(residual) > printed + 0.5 * dt_s_) time_error(residual, rel, printed, line_no);
-    // Jitter: off the grid by more than printing explains, plus 2 % of a step for the rounding
-    // of the recorder's own time arithmetic (common practice for exported time stamps).
-    if (std::fabs(residual) > printed + 0.02 * dt_s_) {
+    // Jitter: off the grid by more than printing explains, plus the fitted line's own error,
+    // plus 2 % of a step for the rounding of the recorder's own time arithmetic (common
+    // practice for exported time stamps). A line through n rows whose times carry uniform
+    // rounding of width q (standard deviation q/√12) predicts the next row with a standard
+    // deviation of (q/√12)·2/√n (least-squares prediction variance σ²(1/n + (x − x̄)²/Sxx) at the
+    // end of the range); four of those are allowed.
+    const double n = std::max<double>(2.0, static_cast<double>(fit_n));
+    const double fit_error = 4.0 * (q / std::sqrt(12.0)) * 2.0 / std::sqrt(n);
+    const double beyond = std::fabs(residual) - printed - fit_error;
+    if (beyond > 0.02 * dt_s_) {
       if (jitter_rows_ == 0) first_jitter_line_ = line_no;
       ++jitter_rows_;
-      max_jitter_s_ = std::max(max_jitter_s_, std::fabs(residual));
+      max_jitter_s_ = std::max(max_jitter_s_, beyond);
     }
   }
 
@@ -759,7 +788,8 @@ class TextReader final : public SampleSource {
       const TimeFit& against = i < kSettleRows ? settle : running;
       if (i > 0) {
         check_time(rows[i].k, rows[i].rel, rows[i].q, rows[i].line,
-                   static_cast<double>(against.predict(rows[i].k)), 0.0, 0.0, 0.0, false, true);
+                   static_cast<double>(against.predict(rows[i].k)), 0.0, 0.0, 0.0, false, true,
+                   against.count());
       }
       running.add(rows[i].k, rows[i].rel);
     }
@@ -792,7 +822,7 @@ class TextReader final : public SampleSource {
       warnings_.push_back(std::to_string(jitter_rows_) +
                           " row(s) off the uniform time grid by more than the printed precision "
                           "explains, the first at line " + std::to_string(first_jitter_line_) +
-                          "; largest deviation " + format_g(max_jitter_s_ / dt_s_ * 100.0, 3) +
+                          "; largest excess " + format_g(max_jitter_s_ / dt_s_ * 100.0, 3) +
                           " % of the sample interval");
     }
     for (auto& n : role_notes_) warnings_.push_back(n);
