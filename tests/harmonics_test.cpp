@@ -105,6 +105,25 @@ TEST(Harmonics, HalfWaveRectifiedSine) {
   EXPECT_NEAR(h.orders[2].phase_deg, -90.0, 0.5);
 }
 
+TEST(Harmonics, HalfWaveRectifiedSineUnderTenPercentDrift) {
+  for (const double f1 : {44e3, 36e3}) {
+    Capture c;
+    c.f1_hz = f1;
+    c.duration_s = 150.3 / (0.5 * (c.f0_hz + f1));
+    const double A = 1.0;
+    const CycleSummary s = run(c, [&](double p) { return std::max(0.0, A * std::sin(2 * kPi * p)); });
+    const HarmonicSummary& h = *s.harmonics;
+    expect_order(h, 1, A / 2, A / 2, "drifting half-wave");
+    for (std::size_t n = 2; n <= 20; ++n) {
+      const double truth = n % 2 ? 0.0 : 2 * A / (kPi * (static_cast<double>(n * n) - 1.0));
+      expect_order(h, n, truth, A / 2, "drifting half-wave");
+    }
+    EXPECT_NEAR(h.orders[2].phase_deg, -90.0, 0.5) << f1;
+    EXPECT_NEAR(h.orders[4].phase_deg, -90.0, 0.5) << f1;
+    EXPECT_NEAR(h.thd, 0.435, 0.005) << f1;
+  }
+}
+
 TEST(Harmonics, BandLimitedSquare) {
   Capture c;
   c.duration_s = 100.3 / c.f0_hz;

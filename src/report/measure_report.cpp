@@ -24,13 +24,16 @@ json estimate_json(const Estimate& e) {
   return j;
 }
 
-void line(std::ostream& out, const std::string& label, const std::string& text) {
-  std::string padded = label;
-  // Pad by characters as a terminal shows them (the labels are ASCII but for "−").
+// Pads to `width` characters as a terminal shows them: UTF-8 continuation bytes (µ, −, ±)
+// take no column of their own.
+std::string pad(const std::string& text, std::size_t width) {
   std::size_t shown = 0;
-  for (char c : label) shown += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
-  if (shown < 20) padded += std::string(20 - shown, ' ');
-  out << "  " << padded << text << '\n';
+  for (char c : text) shown += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
+  return shown < width ? text + std::string(width - shown, ' ') : text;
+}
+
+void line(std::ostream& out, const std::string& label, const std::string& text) {
+  out << "  " << pad(label, 20) << text << '\n';
 }
 
 std::string count_text(std::uint64_t n, const char* one, const char* many) {
@@ -64,9 +67,10 @@ void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1
     const std::string amp = format_si(o.amplitude_a, "A", 4, n == 0);
     const std::string pct = a1 > 0 ? fixed(100 * std::fabs(o.amplitude_a) / a1, 3) : "-";
     const std::string ph = n >= 1 ? fixed(o.phase_deg, 1) + "\xC2\xB0" : "";
-    std::snprintf(buf.data(), buf.size(), "    %5zu   %-14s   %-16s   %8s   %s\n", n,
-                  n == 0 ? "DC" : freq.c_str(), amp.c_str(), pct.c_str(), ph.c_str());
-    out << buf.data();
+    std::snprintf(buf.data(), buf.size(), "    %5zu   ", n);
+    out << buf.data() << pad(n == 0 ? "DC" : freq, 14) << "   " << pad(amp, 16) << "   ";
+    std::snprintf(buf.data(), buf.size(), "%8s   ", pct.c_str());
+    out << buf.data() << ph << '\n';
   }
 }
 
