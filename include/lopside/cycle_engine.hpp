@@ -58,6 +58,7 @@ struct CycleRecord {
   double positive_share = 0;  ///< share of the period with i > 0
   bool flat_top_positive = false;  ///< the positive peak is held by ≥ 3 equal samples
   bool flat_top_negative = false;
+  bool has_voltage = false;  ///< the voltage fields below are measured
   // voltage (zero when there is no voltage channel)
   double voltage_mean_v = 0;
   double voltage_rms_v = 0;

@@ -8,6 +8,9 @@
 
 #include <CLI/CLI.hpp>
 
+#include <functional>
+
+#include "lopside/measure_report.hpp"
 #include "lopside/reader_options.hpp"
 
 namespace lopside::cli {
@@ -27,25 +30,40 @@ void setup_inspect(CLI::App& app);
 /// Throws lopside::InputError on bad input.
 void run_inspect(const InspectOptions& options);
 
-/// `lopside measure CAPTURE [--json FILE|-] [--cycles FILE.csv] [--probe-offset A]
-/// [--probe-gain-pct PCT] [--zero FROM:TO] [reader flags]`
-struct MeasureOptions {
+/// What every command that measures a capture needs: the capture, the reader flags, the
+/// probe's tolerances and zero, and the harmonic settings.
+struct AnalysisOptions {
   std::string capture_path;
-  std::string json_path;    ///< empty for none, "-" for standard output
-  std::string cycles_path;  ///< per-cycle CSV; empty for none
   double probe_offset_a = 0;
   double probe_gain_pct = 0;
-  std::string zero;  ///< "FROM:TO" in seconds, empty for none
-  std::string spectrum_path;     ///< per-order harmonic table as CSV; empty for none
+  std::string zero;               ///< "FROM:TO" in seconds, empty for none
   std::size_t block_cycles = 10;  ///< harmonic block length for non-mains captures
-  std::size_t max_order = 40;     ///< highest harmonic order asked for
+  std::size_t max_order = 40;     ///< highest harmonic order asked for; 0: no harmonics
   ReaderOptions reader;
+};
+
+/// Binds --probe-offset, --probe-gain-pct, --zero, --block-cycles, --max-order and the reader
+/// flags (not the capture path) to `options`.
+void add_analysis_flags(CLI::App& app, AnalysisOptions& options);
+
+/// Measures one capture: opens it, subtracts the zero, streams it through the cycle engine
+/// (harmonics and time course included) and returns the result; `per_cycle` sees each whole
+/// cycle as it is found. Throws lopside::InputError on bad input or fewer than two cycles.
+MeasureResult analyse_capture(const AnalysisOptions& options,
+                              const std::function<void(const CycleRecord&)>& per_cycle = {});
+
+/// `lopside measure CAPTURE [--json FILE|-] [--cycles FILE.csv] [--spectrum FILE.csv]
+/// [analysis flags]`
+struct MeasureOptions {
+  AnalysisOptions analysis;
+  std::string json_path;      ///< empty for none, "-" for standard output
+  std::string cycles_path;    ///< per-cycle CSV; empty for none
+  std::string spectrum_path;  ///< per-order harmonic table as CSV; empty for none
 };
 
 void setup_measure(CLI::App& app);
 
-/// Streams the capture through the cycle engine and prints the summary (text, and JSON where
-/// `--json` says). Throws lopside::InputError on bad input or fewer than two whole cycles.
+/// Measures the capture and prints the summary (text, and JSON where `--json` says).
 void run_measure(const MeasureOptions& options);
 
 }  // namespace lopside::cli

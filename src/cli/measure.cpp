@@ -1,212 +1,50 @@
-// `lopside measure`: cycle-by-cycle DC offset, RMS and charge asymmetry with uncertainty.
-#include <cmath>
+// `lopside measure`: cycle-by-cycle DC offset, RMS and charge asymmetry with uncertainty,
+// harmonics, and the diagnosis of where a DC comes from.
 #include <iostream>
 #include <memory>
 #include <optional>
 #include <stdexcept>
-#include <string>
 
 #include "commands.hpp"
 #include "lopside/atomic_file.hpp"
-#include "lopside/capture_reader.hpp"
-#include "lopside/cycle_engine.hpp"
-#include "lopside/error.hpp"
 #include "lopside/measure_report.hpp"
-#include "lopside/number_parse.hpp"
-#include "lopside/uncertainty.hpp"
-#include "progress.hpp"
-#include "reader_flags.hpp"
 
 namespace lopside::cli {
-namespace {
-
-constexpr std::size_t kBlockFrames = std::size_t{1} << 16;
-
-std::optional<std::size_t> channel_with_role(const CaptureInfo& info, ChannelRole role) {
-  for (std::size_t c = 0; c < info.channels.size(); ++c) {
-    if (info.channels[c].role == role) return c;
-  }
-  return std::nullopt;
-}
-
-std::string channel_list(const CaptureInfo& info) {
-  std::string out;
-  for (const auto& c : info.channels) {
-    if (!out.empty()) out += ", ";
-    out += std::to_string(c.index) + " '" + c.name + "'" + (c.unit.empty() ? "" : " [" + c.unit + "]");
-  }
-  return out;
-}
-
-struct Zero {
-  double value_a = 0;
-  double u_a = 0;
-};
-
-// The probe's offset: the mean current over a stretch with no discharge. Its standard error
-// comes from batch means over the samples, which allows for correlated noise.
-Zero measure_zero(const MeasureOptions& o, double from_s, double to_s) {
-  const auto source = open_capture(o.capture_path, o.reader);
-  const CaptureInfo& info = source->info();
-  const auto current = channel_with_role(info, ChannelRole::current);
-  if (!current) return {};
-  BatchMeans mean;
-  SampleBlock block;
-  std::uint64_t frame = 0;
-  const double dt = 1.0 / info.sample_rate_hz;
-  bool past = false;
-  while (!past && source->read(block, kBlockFrames) > 0) {
-    for (std::size_t f = 0; f < block.frames; ++f, ++frame) {
-      const double t = info.start_time_s + static_cast<double>(frame) * dt;
-      if (t > to_s) {
-        past = true;
-        break;
-      }
-      if (t >= from_s) mean.add(block.value(f, *current));
-    }
-  }
-  if (mean.count() < 2) {
-    throw InputError(o.capture_path, "--zero " + o.zero + ": the stretch holds " +
-                                         std::to_string(mean.count()) +
-                                         " sample(s); expected a stretch inside the capture");
-  }
-  const double se = mean.standard_error();
-  return {mean.mean(), std::isfinite(se) ? se : 0.0};
-}
-
-std::pair<double, double> parse_zero(const std::string& text) {
-  const auto colon = text.find(':');
-  if (colon != std::string::npos) {
-    const auto a = parse_number(text.substr(0, colon));
-    const auto b = parse_number(text.substr(colon + 1));
-    if (a && b && *b > *a) return {*a, *b};
-  }
-  throw CLI::ValidationError("--zero", "expected FROM:TO in seconds with FROM < TO, e.g. 0:0.05; got '" +
-                                           text + "'");
-}
-
-}  // namespace
 
 void setup_measure(CLI::App& app) {
   auto options = std::make_shared<MeasureOptions>();
   CLI::App* sub = app.add_subcommand(
-      "measure", "Measure cycle by cycle: DC offset, RMS, charge asymmetry, with uncertainty");
-  sub->add_option("CAPTURE", options->capture_path, "The capture file (CSV/TSV text, WAV, …)")
+      "measure", "Measure cycle by cycle: DC offset, RMS, charge asymmetry, harmonics, with uncertainty");
+  sub->add_option("CAPTURE", options->analysis.capture_path, "The capture file (CSV/TSV text, WAV, …)")
       ->required();
   sub->add_option("--json", options->json_path,
                   "Also write the results as JSON to FILE; '-' writes them alone to standard output")
       ->type_name("FILE|-");
   sub->add_option("--cycles", options->cycles_path, "Write the per-cycle table as CSV to FILE")
       ->type_name("FILE.csv");
-  sub->add_option("--probe-offset", options->probe_offset_a,
-                  "The current probe's stated offset tolerance, ± AMPS (taken as rectangular)")
-      ->type_name("AMPS")
-      ->check(CLI::NonNegativeNumber);
-  sub->add_option("--probe-gain-pct", options->probe_gain_pct,
-                  "The current probe's stated gain tolerance, ± PCT percent (rectangular)")
-      ->type_name("PCT")
-      ->check(CLI::NonNegativeNumber);
-  sub->add_option("--zero", options->zero,
-                  "Measure the probe's offset on a stretch with no discharge, FROM:TO seconds, "
-                  "and subtract it")
-      ->type_name("FROM:TO");
   sub->add_option("--spectrum", options->spectrum_path,
                   "Write the per-order harmonic table as CSV to FILE")
       ->type_name("FILE.csv");
-  sub->add_option("--block-cycles", options->block_cycles,
-                  "Cycles per harmonic block (50/60 Hz captures use IEC 61000-4-7's 10/12)")
-      ->check(CLI::Range(1, 1000));
-  sub->add_option("--max-order", options->max_order,
-                  "Highest harmonic order to report; 0 skips the harmonic analysis")
-      ->check(CLI::Range(0, 1000));
-  add_reader_flags(*sub, options->reader);
+  add_analysis_flags(*sub, options->analysis);
   sub->callback([options]() { run_measure(*options); });
 }
 
 void run_measure(const MeasureOptions& o) {
-  std::optional<std::pair<double, double>> zero_stretch;
-  if (!o.zero.empty()) zero_stretch = parse_zero(o.zero);
   // Outputs are opened first so that an unwritable target fails before a long read.
   std::optional<AtomicOutput> json_out, cycles_out, spectrum_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);
   if (!o.cycles_path.empty()) cycles_out.emplace(o.cycles_path);
   if (!o.spectrum_path.empty()) spectrum_out.emplace(o.spectrum_path);
 
-  Zero zero;
-  if (zero_stretch) zero = measure_zero(o, zero_stretch->first, zero_stretch->second);
-
-  const std::unique_ptr<SampleSource> source = open_capture(o.capture_path, o.reader);
-  const CaptureInfo& info = source->info();
-  const auto current = channel_with_role(info, ChannelRole::current);
-  if (!current) {
-    throw InputError(o.capture_path, "no channel is known to carry the current; expected "
-                                     "--current CH (channels: " + channel_list(info) + ")");
-  }
-  const auto voltage = channel_with_role(info, ChannelRole::voltage);
-
-  CycleConfig config;
-  config.sample_rate_hz = info.sample_rate_hz;
-  config.start_time_s = info.start_time_s;
-  config.current_channel = *current;
-  config.voltage_channel = voltage;
-  config.current_zero_a = zero.value_a;
-  config.current_zero_u_a = zero.u_a;
-  config.probe_offset_a = o.probe_offset_a;
-  config.probe_gain_pct = o.probe_gain_pct;
-  config.exclude_s = zero_stretch;
-  if (o.max_order > 0) {
-    HarmonicConfig harmonics;
-    harmonics.block_cycles = o.block_cycles;
-    harmonics.max_order = o.max_order;
-    config.harmonics = harmonics;
-  }
-
+  // The per-cycle table is written as cycles are found; its header needs to know whether a
+  // voltage channel exists, which the first cycle tells.
   std::optional<CycleCsvWriter> cycles;
-  if (cycles_out) cycles.emplace(cycles_out->stream(), voltage.has_value());
-  CycleEngine engine(config, [&cycles](const CycleRecord& r) {
-    if (cycles) cycles->write(r);
-  });
-
-  ProgressBar progress;
-  SampleBlock block;
-  std::uint64_t frames = 0;
-  while (const std::size_t n = source->read(block, kBlockFrames)) {
-    engine.consume(block);
-    frames += n;
-    const double share = info.frames ? static_cast<double>(frames) / static_cast<double>(*info.frames)
-                                     : source->progress();
-    progress.update(share, frames);
-  }
-  progress.done();
-  const CycleSummary& summary = engine.finish();
-
-  if (summary.cycles < 2) {
-    const ChannelInfo& ref = info.channels[voltage ? *voltage : *current];
-    throw InputError(o.capture_path,
-                     "found " + std::to_string(summary.cycles) + " whole cycle(s) from " +
-                         std::to_string(summary.crossings) + " rising crossing(s) of the " +
-                         summary.reference + " channel '" + ref.name + "' in " +
-                         std::to_string(frames) + " samples; expected at least two whole cycles");
-  }
-
-  MeasureResult result;
-  result.info = source->info();  // text readers refine the rate once the read has ended
-  result.current_name = info.channels[*current].name;
-  if (voltage) result.voltage_name = info.channels[*voltage].name;
-  result.probe_offset_a = o.probe_offset_a;
-  result.probe_gain_pct = o.probe_gain_pct;
-  result.zero_stretch_s = zero_stretch;
-  result.zero_u_a = zero.u_a;
-  result.summary = summary;
-  result.warnings = source->warnings();
-  for (const auto& w : summary.warnings) result.warnings.push_back(w);
-  if (summary.harmonics) {
-    for (const auto& w : summary.harmonics->warnings) result.warnings.push_back(w);
-  }
-  if (std::fabs(result.info.sample_rate_hz / config.sample_rate_hz - 1.0) > 1e-6) {
-    result.warnings.push_back("the time column's final fit moved the sample rate by more than "
-                              "1e-6 after the first rows; times may be off by that share");
-  }
+  const auto per_cycle = [&](const CycleRecord& r) {
+    if (!cycles_out) return;
+    if (!cycles) cycles.emplace(cycles_out->stream(), r.has_voltage);
+    cycles->write(r);
+  };
+  const MeasureResult result = analyse_capture(o.analysis, per_cycle);
 
   if (cycles_out) cycles_out->commit();
   if (spectrum_out) {

@@ -388,6 +388,7 @@ struct CycleEngine::Impl {
     r.positive_share = c.t_pos / T;
     r.flat_top_positive = c.best_run_max >= 3;
     r.flat_top_negative = c.best_run_min >= 3;
+    r.has_voltage = cfg.voltage_channel.has_value();
     if (cfg.voltage_channel) {
       r.voltage_mean_v = c.int_v / T;
       r.voltage_rms_v = std::sqrt(c.int_v2 / T);
