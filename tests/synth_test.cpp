@@ -510,3 +510,34 @@ TEST(SynthText, RejectsUnknownUnits) {
   EXPECT_THROW(write_text(gen, f, out), std::invalid_argument);
   EXPECT_TRUE(out.str().empty());
 }
+
+namespace {
+
+// Build-up and flip: the generator's per-cycle mean must follow the model it states
+// (synth.hpp): ratio(t) = 1 + (r − 1)(1 − e^(−t/τ)), DC = (2A/π)·½·(1 − ratio) for sine halves
+// (cycle_mean), and the mirrored waveform after a flip has the opposite DC.
+TEST(SynthTimeCourse, BuildUpFollowsTheFirstOrderModelAndFlipNegatesTheDc) {
+  lopside::synth::CaptureSpec s;
+  s.timebase.sample_rate_hz = 100e3;
+  s.timebase.duration_s = 2.0;
+  s.timebase.start_frequency_hz = s.timebase.end_frequency_hz = 1000;
+  s.current.peak = 1.0;
+  s.current.negative_ratio = 0.8;
+  s.build_up_tau_s = 0.5;
+  s.polarity_flip_s = 1.5;
+  lopside::synth::Generator g(s);
+  for (const double t : {0.0, 0.25, 0.5, 1.0, 1.49}) {
+    const double ratio = 1 + (0.8 - 1) * (1 - std::exp(-t / 0.5));
+    EXPECT_NEAR(lopside::synth::cycle_mean(g.current_waveform_at(t)), (2 / M_PI) * 0.5 * (1 - ratio), 1e-12) << t;
+  }
+  const double before = lopside::synth::cycle_mean(g.current_waveform_at(1.4999));
+  const double after = lopside::synth::cycle_mean(g.current_waveform_at(1.5));
+  EXPECT_NEAR(after, -before, 1e-4 * std::fabs(before));
+  // The mirrored waveform's positive peak is the ratio in force: at the crest of the cycle
+  // starting at 1.5 s (a quarter period later), 1 − 0.2·(1 − e^(−t/0.5)).
+  const double crest = 1.5 + 0.25e-3;
+  const double ratio = 1 + (0.8 - 1) * (1 - std::exp(-crest / 0.5));
+  EXPECT_NEAR(g.ideal_current_a(crest), ratio, 1e-9);
+}
+
+}  // namespace

@@ -37,6 +37,8 @@ struct SynthOptions {
   double full_scale_voltage_v = 0.0;
   double clip_high_a = 0.0;
   double clip_low_a = 0.0;
+  double build_up_tau_s = 0.0;
+  double flip_at_s = 0.0;
   std::string shape;
   std::string delimiter;
   std::string unit_style;
@@ -119,6 +121,14 @@ void setup(CLI::App& app, SynthOptions& o) {
   app.add_option("--clip-high", o.clip_high_a, "clip the current above this level [A]")
       ->group(wave);
   app.add_option("--clip-low", o.clip_low_a, "clip the current below this level [A] (negative)")
+      ->group(wave);
+  app.add_option("--build-up-tau", o.build_up_tau_s,
+                 "the lobe asymmetry builds up from none with this time constant after t = 0 [s]")
+      ->check(CLI::PositiveNumber)
+      ->group(wave);
+  app.add_option("--flip-at", o.flip_at_s,
+                 "from this time on the lobe asymmetry is mirrored: the DC changes sign [s]")
+      ->check(CLI::NonNegativeNumber)
       ->group(wave);
 
   auto* timing = "Timing";
@@ -269,6 +279,8 @@ int run(const CLI::App& app, SynthOptions& o) {
   o.text.time_column = !o.no_time;
   if (app.count("--clip-high") > 0) spec.clip_high_a = o.clip_high_a;
   if (app.count("--clip-low") > 0) spec.clip_low_a = o.clip_low_a;
+  if (app.count("--build-up-tau") > 0) spec.build_up_tau_s = o.build_up_tau_s;
+  if (app.count("--flip-at") > 0) spec.polarity_flip_s = o.flip_at_s;
   if (app.count("--full-scale-current") > 0) o.sound.current_full_scale_a = o.full_scale_current_a;
   if (app.count("--full-scale-voltage") > 0) o.sound.voltage_full_scale_v = o.full_scale_voltage_v;
 

@@ -127,6 +127,11 @@ void validate(const CaptureSpec& spec) {
   validate_waveform(spec.current, "current");
   if (spec.voltage) validate_waveform(*spec.voltage, "voltage");
   require(finite(spec.noise_rms_a) && spec.noise_rms_a >= 0.0, "noise rms must be ≥ 0");
+  require(!spec.build_up_tau_s || (finite(*spec.build_up_tau_s) && *spec.build_up_tau_s > 0.0),
+          "build-up time constant must be > 0");
+  require(!spec.polarity_flip_s || (finite(*spec.polarity_flip_s) && *spec.polarity_flip_s >= 0.0 &&
+                                    spec.current.negative_ratio > 0.0),
+          "polarity flip needs a time ≥ 0 and a negative ratio > 0");
   require(!spec.clip_high_a || finite(*spec.clip_high_a), "clip level must be finite");
   require(!spec.clip_low_a || finite(*spec.clip_low_a), "clip level must be finite");
   require(!spec.clip_high_a || !spec.clip_low_a || *spec.clip_low_a < *spec.clip_high_a,
@@ -203,8 +208,24 @@ double Generator::elapsed_s(std::uint64_t frame) const {
   return static_cast<double>(frame) / spec_.timebase.sample_rate_hz;
 }
 
+Waveform Generator::current_waveform_at(double elapsed) const {
+  Waveform w = spec_.current;
+  if (spec_.build_up_tau_s) {
+    // First-order approach to the plateau, the response of the thermal feedback the DOMAIN
+    // note describes (a model for tests, not a claim about any discharge).
+    const double g = 1.0 - std::exp(-elapsed / *spec_.build_up_tau_s);
+    w.negative_ratio = 1.0 + (spec_.current.negative_ratio - 1.0) * g;
+  }
+  if (spec_.polarity_flip_s && elapsed >= *spec_.polarity_flip_s) {
+    const double r = w.negative_ratio;
+    w.peak *= r;
+    w.negative_ratio = 1.0 / r;
+  }
+  return w;
+}
+
 double Generator::ideal_current_a(double elapsed) const {
-  return waveform_value(spec_.current, phase_cycles(spec_.timebase, elapsed));
+  return waveform_value(current_waveform_at(elapsed), phase_cycles(spec_.timebase, elapsed));
 }
 
 double Generator::ideal_voltage_v(double elapsed) const {
@@ -220,7 +241,8 @@ std::size_t Generator::read(std::vector<double>& interleaved, std::size_t max_fr
   for (std::size_t f = 0; f < n; ++f, ++next_) {
     const double elapsed = elapsed_s(next_);
     const double phase = phase_cycles(spec_.timebase, elapsed);
-    double current = waveform_value(spec_.current, phase);
+    const bool varies = spec_.build_up_tau_s || spec_.polarity_flip_s;
+    double current = waveform_value(varies ? current_waveform_at(elapsed) : spec_.current, phase);
     // One standard normal draw per frame, scaled: the sequence depends on the seed only.
     if (spec_.noise_rms_a > 0.0) current += spec_.noise_rms_a * noise_(rng_);
     if (spec_.clip_high_a) current = std::min(current, *spec_.clip_high_a);

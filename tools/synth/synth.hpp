@@ -58,6 +58,13 @@ struct CaptureSpec {
   std::optional<double> clip_high_a;  ///< recorder range: current values above are clipped
   std::optional<double> clip_low_a;   ///< recorder range: current values below are clipped
   std::optional<Waveform> voltage;    ///< channel 2, volts (usually Shape::sine)
+  /// Self-rectification building up after ignition at t = 0: the current's negative_ratio
+  /// approaches its set value from 1 (symmetric) as 1 + (ratio − 1)·(1 − e^(−t/τ)) [s].
+  std::optional<double> build_up_tau_s;
+  /// The discharge changing its preferred cathode: from this time on [s, after the first
+  /// frame] the current's lobe asymmetry is mirrored (positive peak ratio × peak, negative peak
+  /// peak), so its DC changes sign. Needs negative_ratio > 0.
+  std::optional<double> polarity_flip_s;
   std::uint64_t seed = 1;             ///< seed of the std::mt19937_64 noise generator
 };
 
@@ -108,6 +115,9 @@ class Generator {
 
   /// Noise-free, unclipped current `elapsed_s` after the first frame [A].
   double ideal_current_a(double elapsed_s) const;
+  /// The current's waveform in force `elapsed_s` after the first frame (build-up and flip
+  /// applied); cycle_mean() of it is the DC of a cycle there.
+  Waveform current_waveform_at(double elapsed_s) const;
   /// Noise-free voltage `elapsed_s` after the first frame [V]; 0 without a voltage channel.
   double ideal_voltage_v(double elapsed_s) const;
 
