@@ -68,6 +68,10 @@ struct CycleRecord {
   double power_w = 0;              ///< mean of v·i over the cycle
   double energy_positive_j = 0;    ///< ∫ v·i dt while i > 0
   double energy_negative_j = 0;    ///< ∫ v·i dt while i < 0
+  /// Mean voltage while the current conducts strongly in each direction (|i| above a fifth of
+  /// the previous cycle's peak of that polarity): the burning voltage [V]; NaN when unknown.
+  double burning_voltage_positive_v = 0;
+  double burning_voltage_negative_v = 0;
 };
 
 /// A summary figure with its expanded uncertainty (95 %).
@@ -100,6 +104,7 @@ struct CycleSummary {
   Estimate voltage_mean_v, voltage_rms_v, voltage_peak_positive_v, voltage_peak_negative_v;
   Estimate voltage_positive_share, power_w;
   Estimate energy_positive_j, energy_negative_j;  ///< per cycle
+  Estimate burning_voltage_positive_v, burning_voltage_negative_v;
   /// Peak over RMS: the mean of max(|peak+|, |peak−|) per cycle over the RMS.
   double crest_factor = 0;
   /// RMS over the rectified mean, (Q+ + Q−)/T.

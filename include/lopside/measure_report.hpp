@@ -9,6 +9,8 @@
 #include <vector>
 
 #include "lopside/cycle_engine.hpp"
+#include "lopside/diagnosis.hpp"
+#include "lopside/time_course.hpp"
 #include "lopside/sample_source.hpp"
 
 namespace lopside {
@@ -25,8 +27,17 @@ struct MeasureResult {
   std::optional<std::pair<double, double>> zero_stretch_s;  ///< `--zero` [s]
   double zero_u_a = 0;  ///< standard uncertainty of the measured zero [A]
   CycleSummary summary;
+  TimeCourseResult time_course;
+  Diagnosis diagnosis;
+  std::optional<HeatingShare> heating;  ///< measure fills it; swap does not
   std::vector<std::string> warnings;  ///< reader's, then the engine's
 };
+
+/// The caution every output that advises an action carries.
+inline constexpr const char* kHighVoltageCaution =
+    "High voltage can kill. lopside only analyses recordings: make any change or inspection "
+    "with the supply isolated and discharged, use probes and leads rated for the voltage, and "
+    "follow local electrical codes and licensed practice, which prevail over this advice.";
 
 /// Aligned lines with SI prefixes, signs shown, each figure with its u95; ends with warnings
 /// and the sign convention.

@@ -7,6 +7,8 @@
 #include "commands.hpp"
 #include "lopside/capture_reader.hpp"
 #include "lopside/cycle_engine.hpp"
+#include "lopside/diagnosis.hpp"
+#include "lopside/time_course.hpp"
 #include "lopside/error.hpp"
 #include "lopside/number_parse.hpp"
 #include "lopside/uncertainty.hpp"
@@ -142,7 +144,9 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
     config.harmonics = harmonics;
   }
 
-  CycleEngine engine(config, [&per_cycle](const CycleRecord& r) {
+  TimeCourse course;
+  CycleEngine engine(config, [&per_cycle, &course](const CycleRecord& r) {
+    course.add(r);
     if (per_cycle) per_cycle(r);
   });
 
@@ -177,6 +181,8 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
   result.zero_stretch_s = zero_stretch;
   result.zero_u_a = zero.u_a;
   result.summary = summary;
+  result.time_course = course.finish();
+  result.diagnosis = diagnose(summary, result.time_course);
   result.warnings = source->warnings();
   for (const auto& w : summary.warnings) result.warnings.push_back(w);
   if (summary.harmonics) {

@@ -29,6 +29,7 @@ int main(int argc, char** argv) {
 
   lopside::cli::setup_inspect(app);
   lopside::cli::setup_measure(app);
+  lopside::cli::setup_swap(app);
 
   // The one place where errors become exit statuses (lopside/error.hpp): bad usage and bad
   // input are the user's to fix (2), anything else is a bug (1).

@@ -60,9 +60,22 @@ struct CycleAccumulator {
   std::uint32_t run_max = 0, best_run_max = 0, run_min = 0, best_run_min = 0;
   double prev_sample_i = std::numeric_limits<double>::quiet_NaN();
   std::uint64_t samples = 0;
+  // Burning voltage: the voltage while |i| exceeds these thresholds (set from the previous
+  // cycle's peaks; infinite, so nothing counts, in the first cycle).
+  double burn_threshold_pos = std::numeric_limits<double>::infinity();
+  double burn_threshold_neg = -std::numeric_limits<double>::infinity();
+  double burn_v_pos = 0, burn_v_neg = 0;
+  std::uint64_t burn_n_pos = 0, burn_n_neg = 0;
 
   void sample(double i, double v) {
     ++samples;
+    if (i > burn_threshold_pos) {
+      burn_v_pos += v;
+      ++burn_n_pos;
+    } else if (i < burn_threshold_neg) {
+      burn_v_neg += v;
+      ++burn_n_neg;
+    }
     if (i > max_i) {
       max_i = i;
       run_max = best_run_max = 1;
@@ -136,7 +149,7 @@ struct CycleAccumulator {
 
 struct Accumulators {
   BatchMeans dc, ms, ac_ms, q_pos, q_neg, asym, share, peak_pos, peak_neg;
-  BatchMeans v_mean, v_ms, v_peak_pos, v_peak_neg, v_share, power, e_pos, e_neg;
+  BatchMeans v_mean, v_ms, v_peak_pos, v_peak_neg, v_share, power, e_pos, e_neg, burn_pos, burn_neg;
 };
 
 }  // namespace
@@ -357,11 +370,19 @@ struct CycleEngine::Impl {
     acc.piece((to - from) * dt, ia, ib, va, vb);
   }
 
+  // A fifth of the peak: well into the conducting part of a glow lobe, above the noise of the
+  // dwell at zero (common practice for reading a burning voltage off a scope trace).
+  static constexpr double kBurnShare = 0.2;
+  double last_peak_pos = std::numeric_limits<double>::quiet_NaN();
+  double last_peak_neg = std::numeric_limits<double>::quiet_NaN();
+
   void on_boundary(double x) {
     if (in_cycle) close_cycle(x);
     in_cycle = true;
     cycle_start = x;
     acc = CycleAccumulator{};
+    if (std::isfinite(last_peak_pos) && last_peak_pos > 0) acc.burn_threshold_pos = kBurnShare * last_peak_pos;
+    if (std::isfinite(last_peak_neg) && last_peak_neg < 0) acc.burn_threshold_neg = kBurnShare * last_peak_neg;
   }
 
   double time_of(double index) const { return cfg.start_time_s + index * dt; }
@@ -399,6 +420,11 @@ struct CycleEngine::Impl {
       r.energy_positive_j = c.e_pos;
       r.energy_negative_j = c.e_neg;
     }
+    const double nan = std::numeric_limits<double>::quiet_NaN();
+    r.burning_voltage_positive_v = c.burn_n_pos > 0 ? c.burn_v_pos / static_cast<double>(c.burn_n_pos) : nan;
+    r.burning_voltage_negative_v = c.burn_n_neg > 0 ? c.burn_v_neg / static_cast<double>(c.burn_n_neg) : nan;
+    last_peak_pos = c.max_i;
+    last_peak_neg = c.min_i;
 
     // The reference's level and swing follow the signal from cycle to cycle.
     const double ref_mean = ref_is_voltage ? r.voltage_mean_v : r.mean_a;
@@ -450,6 +476,8 @@ struct CycleEngine::Impl {
       s.power.add(r.power_w, T);
       s.e_pos.add(r.energy_positive_j);
       s.e_neg.add(r.energy_negative_j);
+      if (std::isfinite(r.burning_voltage_positive_v)) s.burn_pos.add(r.burning_voltage_positive_v);
+      if (std::isfinite(r.burning_voltage_negative_v)) s.burn_neg.add(r.burning_voltage_negative_v);
     }
     // Clipping: a cycle whose peak is held flat by ≥ 3 equal samples at the most extreme value
     // seen so far. A new extreme restarts the count, so at the end it counts the cycles that
@@ -566,6 +594,9 @@ struct CycleEngine::Impl {
       s.power_w = estimate(a.power, {{u_gain_rel * std::fabs(a.power.mean()), 1e300}});
       s.energy_positive_j = estimate(a.e_pos, {{u_gain_rel * std::fabs(a.e_pos.mean()), 1e300}});
       s.energy_negative_j = estimate(a.e_neg, {{u_gain_rel * std::fabs(a.e_neg.mean()), 1e300}});
+      const double nan = std::numeric_limits<double>::quiet_NaN();
+      s.burning_voltage_positive_v = a.burn_pos.count() >= 2 ? estimate(a.burn_pos) : Estimate{nan, nan, 2};
+      s.burning_voltage_negative_v = a.burn_neg.count() >= 2 ? estimate(a.burn_neg) : Estimate{nan, nan, 2};
     }
     if (s.clipped_positive > 0 || s.clipped_negative > 0) {
       s.warnings.push_back(std::to_string(s.clipped_positive) + " cycle(s) clipped at the positive and " +

@@ -74,6 +74,63 @@ void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1
   }
 }
 
+std::string course_text(const TimeCourseResult& c) {
+  std::string out;
+  for (const Event& e : c.events) {
+    if (!out.empty()) out += "; ";
+    if (e.kind == "flip") {
+      out += "polarity flip at " + format_si(e.time_s, "s", 4) + " (" + format_si(e.level_before_a, "A", 3, true) +
+             " \xE2\x86\x92 " + format_si(e.level_after_a, "A", 3, true) + ")";
+    } else if (e.kind == "build_up" && e.tau_s) {
+      out += "DC builds up from " + format_si(e.level_before_a, "A", 3, true) + " to " +
+             format_si(e.level_after_a, "A", 3, true) + ", \xCF\x84 = " + format_si(*e.tau_s, "s", 3);
+    }
+  }
+  if (out.empty()) out = c.steady ? "steady" : "no flip, no build-up";
+  if (c.drift_significant) out += "; drifts " + format_si(c.drift_a_per_s.value, "A/s", 3, true);
+  return out;
+}
+
+void write_diagnosis_text(std::ostream& out, const MeasureResult& r) {
+  const Diagnosis& d = r.diagnosis;
+  out << '\n';
+  line(out, "time course", course_text(r.time_course));
+  if (r.heating) {
+    const HeatingShare& h = *r.heating;
+    line(out, "electrode heating", "A " + fixed(100 * h.electrode_a, 1) + " %, B " + fixed(100 * h.electrode_b, 1) +
+                                       " % (cathode share " + fixed(100 * h.cathode_share_used, 0) + " %, " + h.regime + ")");
+    if (h.erosion_a_ug_per_h) {
+      line(out, "cathode erosion", "A " + fixed(*h.erosion_a_ug_per_h, 3) + " \xC2\xB5g/h, B " +
+                                       fixed(*h.erosion_b_ug_per_h, 3) + " \xC2\xB5g/h");
+    }
+  }
+  out << "\n  evidence:\n";
+  for (const Evidence& e : d.evidence) {
+    const bool deciding = std::find(d.deciding.begin(), d.deciding.end(), e.code) != d.deciding.end();
+    out << "    " << (deciding ? "* " : "  ") << pad(e.code, 38) << e.text << '\n';
+  }
+  out << '\n';
+  line(out, "VERDICT", std::string(to_string(d.verdict)) + "  (confidence " + fixed(d.confidence, 2) + ")");
+  for (const std::string& step : d.next_steps) out << "  next: " << step << '\n';
+  out << "  " << kHighVoltageCaution << '\n';
+  out << "  Electrode A is the one the probed lead feeds: while i > 0, A is the anode.\n";
+}
+
+json estimate_or_null(const Estimate& e) {
+  return std::isfinite(e.value) ? estimate_json(e) : json(nullptr);
+}
+
+json build_up_json(const std::optional<BuildUp>& b, const char* unit_suffix) {
+  if (!b) return nullptr;
+  json j;
+  j["start_s"] = b->start_s;
+  j["tau_s"] = estimate_json(b->tau_s);
+  j[std::string("plateau") + unit_suffix] = estimate_json(b->plateau);
+  j[std::string("initial") + unit_suffix] = b->initial;
+  j["significant"] = b->significant;
+  return j;
+}
+
 json harmonics_json(const HarmonicSummary& h) {
   json orders = json::array();
   for (const HarmonicOrder& o : h.orders) {
@@ -143,12 +200,13 @@ void write_measure_text(std::ostream& out, const MeasureResult& r) {
   out << "\n  Uncertainties are expanded (95 %, k = 2 unless stated otherwise in the JSON): "
          "cycle-to-cycle scatter by batch means";
   if (r.probe_offset_a > 0 || r.probe_gain_pct > 0) out << " and the probe's stated tolerances";
-  out << ".\n  Sign convention: positive current flows from the probed lead into the electrode "
-         "it feeds.\n";
+  out << ".\n  Sign convention: positive current flows from the probed lead into electrode A, so "
+         "while i > 0 electrode A is the anode.\n";
   if (!r.warnings.empty()) {
     out << "\nwarnings:\n";
     for (const auto& w : r.warnings) out << "  - " << w << '\n';
   }
+  write_diagnosis_text(out, r);
 }
 
 void write_measure_json(std::ostream& out, const MeasureResult& r) {
@@ -223,7 +281,62 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   } else {
     doc["harmonics"] = nullptr;
   }
-  doc["sign_convention"] = "positive current flows from the probed lead into the electrode it feeds";
+  if (s.has_voltage) {
+    doc["voltage"]["burning_voltage_positive_v"] = estimate_or_null(s.burning_voltage_positive_v);
+    doc["voltage"]["burning_voltage_negative_v"] = estimate_or_null(s.burning_voltage_negative_v);
+  }
+  {
+    const Diagnosis& d = r.diagnosis;
+    json diag;
+    diag["verdict"] = to_string(d.verdict);
+    diag["confidence"] = d.confidence;
+    diag["deciding"] = d.deciding;
+    json ev = json::array();
+    for (const Evidence& e : d.evidence) {
+      ev.push_back(json{{"code", e.code}, {"value", e.value}, {"threshold", e.threshold}, {"text", e.text}});
+    }
+    diag["evidence"] = ev;
+    diag["next_steps"] = d.next_steps;
+    diag["caution"] = kHighVoltageCaution;
+    doc["diagnosis"] = diag;
+    const TimeCourseResult& c = r.time_course;
+    json events = json::array();
+    for (const Event& e : c.events) {
+      json j{{"kind", e.kind}, {"time_s", e.time_s}, {"level_before_a", e.level_before_a}, {"level_after_a", e.level_after_a}};
+      if (e.tau_s) j["tau_s"] = *e.tau_s;
+      events.push_back(j);
+    }
+    doc["events"] = events;
+    json tc;
+    tc["cycles_per_point"] = c.cycles_per_point;
+    tc["build_up"] = build_up_json(c.build_up, "_a");
+    tc["asymmetry_build_up"] = build_up_json(c.asymmetry_build_up, "");
+    tc["drift_a_per_s"] = estimate_json(c.drift_a_per_s);
+    tc["drift_significant"] = c.drift_significant;
+    tc["scatter_a"] = c.scatter_a;
+    tc["steady"] = c.steady;
+    json segs = json::array();
+    for (const Segment& g : c.segments) {
+      segs.push_back(json{{"start_s", g.start_s}, {"end_s", g.end_s}, {"mean_dc_a", g.mean_dc_a}, {"u95_a", g.u95_a}});
+    }
+    tc["segments"] = segs;
+    json pts = json::array();
+    for (const CoursePoint& p : c.points) pts.push_back(json::array({p.time_s, p.dc_offset_a, p.charge_asymmetry}));
+    tc["points_time_s_dc_a_asymmetry"] = pts;
+    doc["time_course"] = tc;
+    if (r.heating) {
+      const HeatingShare& h = *r.heating;
+      json hs{{"electrode_a", h.electrode_a}, {"electrode_b", h.electrode_b},
+              {"cathode_share_used", h.cathode_share_used}, {"regime", h.regime}};
+      hs["erosion_a_ug_per_h"] = h.erosion_a_ug_per_h ? json(*h.erosion_a_ug_per_h) : json(nullptr);
+      hs["erosion_b_ug_per_h"] = h.erosion_b_ug_per_h ? json(*h.erosion_b_ug_per_h) : json(nullptr);
+      doc["heating_share"] = hs;
+    } else {
+      doc["heating_share"] = nullptr;
+    }
+  }
+  doc["sign_convention"] =
+      "positive current flows from the probed lead into electrode A, so while i > 0 electrode A is the anode";
   doc["warnings"] = r.warnings;
   out << doc.dump(2, ' ', false, json::error_handler_t::replace) << '\n';
 }

@@ -1,0 +1,84 @@
+#pragma once
+/// \file
+/// The lead-swap test: two captures of one unit, the supply's output leads exchanged between
+/// them, split into the part of the DC (and of the charge asymmetry) that follows the supply
+/// and the part that stays with the electrodes (DOMAIN.md, lead-swap test [common practice]).
+///
+/// With the probe kept on the same electrode's lead, the supply's bias reverses and the
+/// electrodes' stays:  N = D + E, S = −D + E  →  D = (N − S)/2, E = (N + S)/2.
+/// With the probe kept on one supply terminal, it is the other way round:
+///                     N = D + E, S = D − E   →  D = (N + S)/2, E = (N − S)/2.
+/// D and E are both stated as seen in the normal capture: a current flowing from the probed
+/// lead into the electrode it fed there (the sign convention of `lopside measure`).
+
+#include <string>
+#include <vector>
+
+#include "lopside/cycle_engine.hpp"
+#include "lopside/diagnosis.hpp"
+#include "lopside/uncertainty.hpp"
+
+namespace lopside {
+
+/// Where the current probe stayed while the leads were exchanged.
+enum class ProbeOn {
+  electrode,  ///< on the lead of the same electrode in both captures
+  supply,     ///< on the same supply terminal in both captures
+};
+/// "electrode" or "supply", as on the command line and in the JSON.
+const char* to_string(ProbeOn on) noexcept;
+
+/// One capture of the pair: its summary, measured with the probe tolerances set to 0, and the
+/// statistical (type-A) standard uncertainties of its DC offset and charge asymmetry. The
+/// probe's tolerances are added by analyse_lead_swap, once, because the same probe took both
+/// captures (its errors are fully correlated between them, GUM 5.2).
+struct SwapCapture {
+  CycleSummary summary;
+  UncertaintyComponent dc_type_a;         ///< standard uncertainty of summary.dc_offset_a [A]
+  UncertaintyComponent asymmetry_type_a;  ///< standard uncertainty of summary.charge_asymmetry [1]
+};
+
+/// The standard uncertainty and degrees of freedom behind an Estimate made without type-B
+/// parts: u95 / k, with ν recovered from k (k = 2 means ν ≥ 30, GUM 6.3.3; it is taken as 30,
+/// the conservative end; a larger k is the Student t95 of ν, inverted).
+UncertaintyComponent statistical_part(const Estimate& estimate);
+
+/// The probe that took both captures and where it stayed.
+struct SwapProbe {
+  double offset_a = 0;  ///< stated offset tolerance ±a [A], ≥ 0 (rectangular, GUM 4.3.7)
+  double gain_pct = 0;  ///< stated gain tolerance ±p [%], ≥ 0 (rectangular)
+  ProbeOn on = ProbeOn::electrode;
+};
+
+/// Thresholds of the verdict; README.md gives the rule.
+struct SwapThresholds {
+  double part_share = 0.10;            ///< a part counts from this share of |D| + |E| on
+  double symmetric_u95_share = 0.01;   ///< "symmetric" needs u95 below this share of the AC RMS
+  double frequency_mismatch = 0.02;    ///< fundamentals differing by more: not the same set-up?
+  double ac_rms_mismatch = 0.15;       ///< AC RMS differing by more: not the same load?
+};
+
+struct LeadSwapResult {
+  ProbeOn probe_on = ProbeOn::electrode;
+  Estimate driver_bias_a;        ///< D of the DC offset [A]
+  Estimate electrode_bias_a;     ///< E of the DC offset [A]
+  Estimate driver_asymmetry;     ///< D of the charge asymmetry (Q+ − Q−)/(Q+ + Q−) [1]
+  Estimate electrode_asymmetry;  ///< E of the charge asymmetry [1]
+  /// Each capture's DC offset and charge asymmetry with the probe's tolerances included (as
+  /// `lopside measure` with the same probe flags would state them).
+  Estimate normal_dc_a, swapped_dc_a, normal_asymmetry, swapped_asymmetry;
+  Verdict verdict = Verdict::inconclusive;
+  double confidence = 0;               ///< 0…1, rule in analyse_lead_swap and README.md
+  std::vector<std::string> deciding;   ///< codes of the evidence that decided the verdict
+  std::vector<Evidence> evidence;      ///< everything examined, deciding or not
+  std::vector<std::string> warnings;
+  std::vector<std::string> next_steps;
+};
+
+/// Splits the pair into supply and electrode parts with their expanded uncertainties and draws
+/// the verdict. Throws std::invalid_argument on negative probe tolerances (a programming
+/// error: the command line checks them).
+LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& swapped,
+                                 const SwapProbe& probe, const SwapThresholds& thresholds = {});
+
+}  // namespace lopside

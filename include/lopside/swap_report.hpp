@@ -1,0 +1,40 @@
+#pragma once
+/// \file
+/// What `lopside swap` found, and its renderings: a text summary for the bench and a versioned
+/// JSON document.
+
+#include <iosfwd>
+#include <string>
+#include <vector>
+
+#include "lopside/cycle_engine.hpp"
+#include "lopside/lead_swap.hpp"
+
+namespace lopside {
+
+/// Bump when a key changes meaning or goes away; adding keys keeps the number.
+inline constexpr const char* kSwapSchema = "lopside.swap/1";
+
+/// One capture of the pair as the report shows it.
+struct SwapCaptureReport {
+  std::string path;
+  CycleSummary summary;               ///< measured with the probe tolerances set to 0
+  std::vector<std::string> warnings;  ///< the reader's and the cycle engine's
+};
+
+struct SwapReport {
+  SwapCaptureReport normal, swapped;
+  double probe_offset_a = 0;  ///< stated ±offset tolerance used [A]
+  double probe_gain_pct = 0;  ///< stated ±gain tolerance used [%]
+  LeadSwapResult result;
+};
+
+/// Aligned lines with SI prefixes, signs shown, each figure with its u95; then the verdict,
+/// its evidence and next steps, the formulas and sign convention, the high-voltage caution,
+/// and the warnings (the pair's, then each capture's).
+void write_swap_text(std::ostream& out, const SwapReport& report);
+
+/// One JSON object, schema kSwapSchema; a figure with an uncertainty is {value, u95, k}.
+void write_swap_json(std::ostream& out, const SwapReport& report);
+
+}  // namespace lopside

@@ -1,0 +1,287 @@
+#include "lopside/diagnosis.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+
+namespace lopside {
+namespace {
+
+std::string num(double v, const char* fmt = "%.3g") {
+  char buf[48];
+  std::snprintf(buf, sizeof buf, fmt, v);
+  return buf;
+}
+
+std::string pct(double share) { return num(100 * share, "%.2f") + " %"; }
+
+// Weights of the deciding evidence in the confidence: 1 − Π(1 − w) over the items that support
+// the verdict (README.md states the rule). Items that read the cause off the voltage directly
+// weigh most; a build-up alone could also be a supply warming up, so it weighs least.
+constexpr double kWeightVoltageHalfPeriods = 0.8;
+constexpr double kWeightVoltageDc = 0.7;
+constexpr double kWeightCurrentOnly = 0.7;
+constexpr double kWeightFlip = 0.8;
+constexpr double kWeightBuildUp = 0.6;
+constexpr double kWeightBurning = 0.5;
+
+double weight_of(const std::string& code) {
+  if (code == "voltage_half_periods") return kWeightVoltageHalfPeriods;
+  if (code == "voltage_dc") return kWeightVoltageDc;
+  if (code == "current_asymmetric_voltage_symmetric") return kWeightCurrentOnly;
+  if (code == "polarity_flip") return kWeightFlip;
+  if (code == "dc_builds_up") return kWeightBuildUp;
+  if (code == "burning_voltage_asymmetry") return kWeightBurning;
+  return 0.0;
+}
+
+double combine_weights(const std::vector<std::string>& codes) {
+  double miss = 1.0;
+  for (const std::string& c : codes) miss *= 1.0 - weight_of(c);
+  return 1.0 - miss;
+}
+
+}  // namespace
+
+const char* to_string(Verdict v) noexcept {
+  switch (v) {
+    case Verdict::symmetric: return "symmetric";
+    case Verdict::driver_imbalance: return "driver_imbalance";
+    case Verdict::self_rectification: return "self_rectification";
+    case Verdict::mixed: return "mixed";
+    case Verdict::inconclusive: break;
+  }
+  return "inconclusive";
+}
+
+Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
+                   const DiagnosisThresholds& th) {
+  Diagnosis d;
+  auto add = [&](std::string code, double value, double threshold, std::string text) {
+    d.evidence.push_back(Evidence{std::move(code), value, threshold, std::move(text)});
+  };
+
+  // --- what would make any conclusion unsafe ------------------------------------------
+  const std::uint64_t clipped = s.clipped_positive + s.clipped_negative;
+  if (clipped > 0) {
+    add("clipped", static_cast<double>(clipped), 0,
+        std::to_string(clipped) + " cycle(s) sit on the recorder's extreme: clipping of one "
+        "polarity fakes a DC and an asymmetry, so nothing can be concluded from this capture.");
+  }
+  const double dc = s.dc_offset_a.value;
+  const bool dc_significant = s.dc_significant;
+  const bool asym_significant = std::fabs(s.charge_asymmetry.value) > s.charge_asymmetry.u95;
+  if (!dc_significant) {
+    add("dc_not_significant", dc, s.dc_offset_a.u95,
+        "The DC offset is not above its expanded uncertainty: no DC is shown, so no cause is "
+        "given.");
+  }
+
+  // --- the supply ------------------------------------------------------------------------
+  bool driver = false, self = false;
+  std::vector<std::string> driver_codes, self_codes;
+  bool voltage_symmetric = false;
+  if (s.has_voltage) {
+    const double vpeak = 0.5 * (std::fabs(s.voltage_peak_positive_v.value) + std::fabs(s.voltage_peak_negative_v.value));
+    const double vdc_share = vpeak > 0 ? s.voltage_mean_v.value / vpeak : 0.0;
+    const bool vdc = std::fabs(vdc_share) > th.voltage_dc_share &&
+                     std::fabs(s.voltage_mean_v.value) > s.voltage_mean_v.u95;
+    add("voltage_dc", vdc_share, th.voltage_dc_share,
+        vdc ? "The voltage carries a DC component of " + pct(vdc_share) +
+                  " of its peak: the supply's switching is unbalanced."
+            : "The voltage has no DC component beyond " + pct(th.voltage_dc_share) + " of its peak.");
+    const double half = s.voltage_positive_share.value - 0.5;
+    const bool vhalf = std::fabs(half) > th.voltage_half_period_share &&
+                       std::fabs(half) > s.voltage_positive_share.u95;
+    add("voltage_half_periods", half, th.voltage_half_period_share,
+        vhalf ? "The voltage's positive half lasts " + pct(s.voltage_positive_share.value) +
+                    " of the period: the supply switches unevenly."
+              : "The voltage's half-periods are equal within " + pct(th.voltage_half_period_share) + ".");
+    if (vdc) {
+      driver = true;
+      driver_codes.push_back("voltage_dc");
+    }
+    if (vhalf) {
+      driver = true;
+      driver_codes.push_back("voltage_half_periods");
+    }
+    voltage_symmetric = !vdc && !vhalf;
+    const double asym = s.charge_asymmetry.value;
+    const bool current_only = voltage_symmetric && std::fabs(asym) > th.current_asymmetry && asym_significant;
+    add("current_asymmetric_voltage_symmetric", asym, th.current_asymmetry,
+        current_only ? "The current's half-cycles differ (charge asymmetry " + num(asym, "%+.4f") +
+                           ") while the voltage is symmetric: the discharge itself rectifies."
+                     : "The current's asymmetry is not accompanied by a symmetric voltage, or is "
+                       "below the threshold.");
+    if (current_only) {
+      self = true;
+      self_codes.push_back("current_asymmetric_voltage_symmetric");
+    }
+    // Different cathode falls at the two electrodes show as different burning voltages.
+    const double vp = s.burning_voltage_positive_v.value, vn = s.burning_voltage_negative_v.value;
+    if (std::isfinite(vp) && std::isfinite(vn) && std::fabs(vp) + std::fabs(vn) > 0) {
+      const double mean_burn = 0.5 * (std::fabs(vp) + std::fabs(vn));
+      const double diff = (std::fabs(vp) - std::fabs(vn)) / mean_burn;
+      const double u = std::hypot(s.burning_voltage_positive_v.u95, s.burning_voltage_negative_v.u95) / mean_burn;
+      const bool burn = std::fabs(diff) > th.burning_voltage_share && std::fabs(diff) > u;
+      add("burning_voltage_asymmetry", diff, th.burning_voltage_share,
+          burn ? "The burning voltage differs by polarity (" + pct(diff) +
+                     "): the electrodes differ as cathodes."
+               : "The burning voltage is the same in both directions within " + pct(th.burning_voltage_share) + ".");
+      if (burn) {
+        self = true;
+          self_codes.push_back("burning_voltage_asymmetry");
+      }
+    }
+  } else {
+    add("no_voltage_channel", 0, 0,
+        "Without a voltage channel the supply cannot be checked from this capture: the "
+        "lead-swap test tells the supply's part from the electrodes'.");
+  }
+
+  // --- the time course -------------------------------------------------------------------
+  const bool built_up = course.build_up && course.build_up->significant;
+  if (course.build_up) {
+    add("dc_builds_up", built_up ? course.build_up->tau_s.value : 0.0, 0,
+        built_up ? "The DC builds up after ignition with a time constant of " +
+                       num(course.build_up->tau_s.value) + " s towards " +
+                       num(course.build_up->plateau.value * 1e3) +
+                       " mA: the thermal feedback of an electrode that became the cathode."
+                 : "The DC does not build up after ignition.");
+  }
+  if (built_up) {
+    self = true;
+    self_codes.push_back("dc_builds_up");
+  }
+  std::size_t flips = 0;
+  for (const Event& e : course.events) flips += e.kind == "flip" ? 1u : 0u;
+  add("polarity_flip", static_cast<double>(flips), 0,
+      flips ? std::to_string(flips) + " polarity flip(s): the discharge picks its cathode, so the "
+                                      "bias is the discharge's, not the supply's."
+            : "The DC keeps its sign throughout.");
+  if (flips) {
+    self = true;
+    self_codes.push_back("polarity_flip");
+  }
+
+  // --- the spectrum: DC and even harmonics travel together --------------------------------
+  bool offset_like = false;
+  if (s.harmonics && s.harmonics->orders.size() > 2 && dc_significant) {
+    const HarmonicSummary& h = *s.harmonics;
+    double even2 = 0;
+    for (std::size_t n = 2; n < h.orders.size(); n += 2) even2 += h.orders[n].rms_a * h.orders[n].rms_a;
+    const double ratio = std::sqrt(even2) / std::fabs(dc);
+    offset_like = ratio < th.even_rms_to_dc;
+    add("even_harmonics", ratio, th.even_rms_to_dc,
+        offset_like
+            ? "The DC comes without even harmonics (their rms is " + pct(ratio) +
+                  " of the DC): the half-cycles have one shape, so a probe offset or a DC leak is "
+                  "more likely than a half-cycle difference; zero the probe (--zero)."
+            : "Even harmonics (rms " + pct(ratio) +
+                  " of the DC) come with the DC, as a difference between the half-cycles must give.");
+  }
+
+  // A rectifying discharge changes the shape of one half-cycle, and that makes even
+  // harmonics; a DC without them is a level shift (a probe offset, a DC leak), under which the
+  // current's "asymmetry" and the polarity-dependent burning voltage are only its echoes.
+  if (offset_like) {
+    for (const char* echo : {"current_asymmetric_voltage_symmetric", "burning_voltage_asymmetry"}) {
+      if (std::erase(self_codes, std::string(echo)) == 0) continue;
+      for (Evidence& e : d.evidence) {
+        if (e.code == echo) e.text = "Discounted (no even harmonics, see even_harmonics): " + e.text;
+      }
+    }
+    self = !self_codes.empty();
+  }
+
+  // --- the verdict (README.md, "Diagnosis rules") ------------------------------------------
+  if (clipped > 0) {
+    d.verdict = Verdict::inconclusive;
+    d.deciding = {"clipped"};
+    d.confidence = 0;
+  } else if (!dc_significant && !asym_significant && flips == 0) {
+    // Symmetric only if the capture could have shown a DC of 1 % of the AC current.
+    const bool sharp = s.dc_offset_a.u95 < 0.01 * s.ac_rms_a.value;
+    d.verdict = sharp ? Verdict::symmetric : Verdict::inconclusive;
+    d.deciding = {"dc_not_significant"};
+    d.confidence = sharp ? 0.9 : 0.0;
+  } else if (driver && self) {
+    d.verdict = Verdict::mixed;
+    d.confidence = std::min(combine_weights(driver_codes), combine_weights(self_codes));
+  } else if (driver) {
+    d.verdict = Verdict::driver_imbalance;
+    d.confidence = combine_weights(driver_codes);
+  } else if (self) {
+    d.verdict = Verdict::self_rectification;
+    d.confidence = combine_weights(self_codes);
+  } else {
+    d.verdict = Verdict::inconclusive;
+    d.confidence = 0;
+  }
+  if (d.deciding.empty()) {
+    if (driver) d.deciding.insert(d.deciding.end(), driver_codes.begin(), driver_codes.end());
+    if (self) d.deciding.insert(d.deciding.end(), self_codes.begin(), self_codes.end());
+    if (!driver && !self && offset_like) d.deciding.push_back("even_harmonics");
+    if (!driver && !self && !s.has_voltage) d.deciding.push_back("no_voltage_channel");
+  }
+
+  // --- what to do next (the caution is printed with them by every report) -----------------
+  const bool a_cathode_more = s.charge_negative_c.value > s.charge_positive_c.value;
+  const std::string hotter = a_cathode_more ? "A" : "B";
+  switch (d.verdict) {
+    case Verdict::symmetric:
+      d.next_steps.push_back("No DC to act on; keep this capture as the unit's reference.");
+      break;
+    case Verdict::driver_imbalance:
+      d.next_steps.push_back("Check the inverter's switch timing and drive symmetry (dead times, gate drive, "
+                             "output capacitor).");
+      d.next_steps.push_back("Confirm with the lead-swap test (lopside swap): the DC must reverse with the leads.");
+      break;
+    case Verdict::self_rectification:
+      d.next_steps.push_back("Inspect electrode " + hotter + ", the preferred cathode: it takes the extra heat "
+                             "and wears first.");
+      d.next_steps.push_back("Confirm with the lead-swap test (lopside swap): the DC must stay with the electrodes.");
+      break;
+    case Verdict::mixed:
+      d.next_steps.push_back("Run the lead-swap test (lopside swap) to size the supply's and the electrodes' parts.");
+      d.next_steps.push_back("Check the inverter's switch timing, and inspect electrode " + hotter + ".");
+      break;
+    case Verdict::inconclusive:
+      if (clipped > 0) {
+        d.next_steps.push_back("Record again with a wider recorder range (neither polarity may reach full scale).");
+      } else if (offset_like) {
+        d.next_steps.push_back("Zero the current probe on a stretch without discharge (--zero FROM:TO), or degauss "
+                               "a Hall probe, and measure again.");
+      } else {
+        d.next_steps.push_back("Run the lead-swap test (lopside swap), and record the voltage too if you can.");
+      }
+      break;
+  }
+  return d;
+}
+
+HeatingShare heating_share(const CycleSummary& s, double cathode_share, const std::string& regime,
+                           std::optional<double> erosion_ug_per_c) {
+  HeatingShare h;
+  h.cathode_share_used = cathode_share;
+  h.regime = regime;
+  const double c = cathode_share, a = 1.0 - cathode_share;
+  // Sign convention: while i > 0, A is the anode and B the cathode (Q+); while i < 0 the roles
+  // swap (Q−).
+  const double qp = s.charge_positive_c.value, qn = s.charge_negative_c.value;
+  const double heat_a = c * qn + a * qp;
+  const double heat_b = c * qp + a * qn;
+  const double total = heat_a + heat_b;
+  if (total > 0) {
+    h.electrode_a = heat_a / total;
+    h.electrode_b = heat_b / total;
+  }
+  if (erosion_ug_per_c && s.fundamental_hz.value > 0) {
+    const double cycles_per_hour = 3600.0 * s.fundamental_hz.value;
+    h.erosion_a_ug_per_h = *erosion_ug_per_c * qn * cycles_per_hour;
+    h.erosion_b_ug_per_h = *erosion_ug_per_c * qp * cycles_per_hour;
+  }
+  return h;
+}
+
+}  // namespace lopside

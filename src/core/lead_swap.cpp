@@ -1,0 +1,350 @@
+#include "lopside/lead_swap.hpp"
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <cstdio>
+#include <limits>
+#include <stdexcept>
+
+namespace lopside {
+namespace {
+
+constexpr double kInfiniteDof = 1e300;
+
+// Half the difference and half the sum of the two captures' values, each with its combined
+// uncertainty. The statistical parts of the two captures are independent: sensitivities ±½,
+// so ½·√(uN² + uS²) (GUM 5.1.2). The probe's offset δ is the same in both captures (GUM 5.2,
+// correlation +1): it enters with sensitivities c_N and c_S, which add in the sum,
+// (c_N + c_S)/2, and subtract in the difference, (c_N − c_S)/2 (zero for the DC, where
+// c_N = c_S = 1). A gain error scales both captures alike, hence each half alike: a relative
+// part (zero for the charge asymmetry, a ratio in which the gain cancels).
+struct Halves {
+  Estimate difference;  // (N − S)/2
+  Estimate sum;         // (N + S)/2
+};
+
+Estimate expand(double value, const std::vector<UncertaintyComponent>& parts) {
+  const CombinedUncertainty u = combine(parts);
+  return Estimate{value, u.expanded(), u.coverage_factor};
+}
+
+Halves halves(double n, const UncertaintyComponent& u_n, double s, const UncertaintyComponent& u_s,
+              double offset_sensitivity_n, double offset_sensitivity_s, double u_offset,
+              double u_gain_rel) {
+  const UncertaintyComponent half_n{0.5 * u_n.standard, u_n.dof};
+  const UncertaintyComponent half_s{0.5 * u_s.standard, u_s.dof};
+  const double diff = 0.5 * (n - s);
+  const double sum = 0.5 * (n + s);
+  Halves h;
+  h.difference = expand(diff, {half_n, half_s,
+                               {0.5 * std::fabs(offset_sensitivity_n - offset_sensitivity_s) * u_offset, kInfiniteDof},
+                               {u_gain_rel * std::fabs(diff), kInfiniteDof}});
+  h.sum = expand(sum, {half_n, half_s,
+                       {0.5 * std::fabs(offset_sensitivity_n + offset_sensitivity_s) * u_offset, kInfiniteDof},
+                       {u_gain_rel * std::fabs(sum), kInfiniteDof}});
+  return h;
+}
+
+// ∂A/∂δ for the charge asymmetry A = (Q+ − Q−)/(Q+ + Q−): an offset δ moves Q+ − Q− by δ·T and
+// Q+ + Q− by far less, so ≈ T/(Q+ + Q−) (as in the cycle engine).
+double asymmetry_offset_sensitivity(const CycleSummary& s) {
+  const double q_sum = s.charge_positive_c.value + s.charge_negative_c.value;
+  const double f = s.fundamental_hz.value;
+  if (!(q_sum > 0) || !(f > 0)) return 0.0;
+  return (1.0 / f) / q_sum;
+}
+
+std::string percent_text(double share) {
+  std::array<char, 32> buf{};
+  std::snprintf(buf.data(), buf.size(), "%.1f %%", 100.0 * share);
+  return buf.data();
+}
+
+double relative_difference(double a, double b) {
+  const double mean = 0.5 * (std::fabs(a) + std::fabs(b));
+  return mean > 0 ? std::fabs(a - b) / mean : 0.0;
+}
+
+// A part counts when it is significant (|value| > u95) and at least `share` of |D| + |E|.
+bool counts(const Estimate& part, double total, double share) {
+  return std::fabs(part.value) > part.u95 && std::fabs(part.value) >= share * total;
+}
+
+// Evidence for one part: its value, held against the larger of its u95 and its share of the
+// total (the bar it must clear to count).
+Evidence part_evidence(const std::string& code, const Estimate& part, double total, double share,
+                       const std::string& what) {
+  Evidence e;
+  e.code = code;
+  e.value = part.value;
+  e.threshold = std::max(part.u95, share * total);
+  if (counts(part, total, share)) {
+    e.text = what + " is significant and a real share of the whole: it counts";
+  } else if (std::fabs(part.value) > part.u95) {
+    e.text = what + " is significant but under " + percent_text(share) +
+             " of the two parts together: it does not count";
+  } else {
+    e.text = what + " is within its uncertainty: no such part shows";
+  }
+  return e;
+}
+
+}  // namespace
+
+const char* to_string(ProbeOn on) noexcept {
+  switch (on) {
+    case ProbeOn::electrode:
+      return "electrode";
+    case ProbeOn::supply:
+      return "supply";
+  }
+  return "electrode";
+}
+
+UncertaintyComponent statistical_part(const Estimate& estimate) {
+  const double k = estimate.coverage_k > 0 ? estimate.coverage_k : 2.0;
+  UncertaintyComponent c;
+  c.standard = estimate.u95 / k;
+  // combine() uses k = 2 for ν ≥ 30 and t95(ν) below; t95 falls monotonically from 12.706
+  // (ν = 1) to 2.042 (ν = 30), so a bisection inverts it.
+  if (k <= 2.0 + 1e-12) {
+    c.dof = 30.0;
+  } else if (k >= student_t95(1.0)) {
+    c.dof = 1.0;
+  } else {
+    double lo = 1.0, hi = 30.0;
+    for (int i = 0; i < 60; ++i) {
+      const double mid = 0.5 * (lo + hi);
+      if (student_t95(mid) > k) {
+        lo = mid;
+      } else {
+        hi = mid;
+      }
+    }
+    c.dof = 0.5 * (lo + hi);
+  }
+  return c;
+}
+
+LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& swapped,
+                                 const SwapProbe& probe, const SwapThresholds& th) {
+  if (!(probe.offset_a >= 0) || !(probe.gain_pct >= 0)) {
+    throw std::invalid_argument("SwapProbe tolerances must be non-negative");
+  }
+  const CycleSummary& ns = normal.summary;
+  const CycleSummary& ss = swapped.summary;
+  const double u_off = rectangular(probe.offset_a);              // GUM 4.3.7
+  const double u_gain_rel = rectangular(probe.gain_pct / 100.0);  // relative
+
+  LeadSwapResult r;
+  r.probe_on = probe.on;
+
+  // Each capture on its own, with the probe's tolerances as `measure` adds them.
+  const double n_dc = ns.dc_offset_a.value, s_dc = ss.dc_offset_a.value;
+  r.normal_dc_a = expand(n_dc, {normal.dc_type_a, {u_off, kInfiniteDof}, {u_gain_rel * std::fabs(n_dc), kInfiniteDof}});
+  r.swapped_dc_a = expand(s_dc, {swapped.dc_type_a, {u_off, kInfiniteDof}, {u_gain_rel * std::fabs(s_dc), kInfiniteDof}});
+  const double c_n = asymmetry_offset_sensitivity(ns), c_s = asymmetry_offset_sensitivity(ss);
+  const double n_as = ns.charge_asymmetry.value, s_as = ss.charge_asymmetry.value;
+  r.normal_asymmetry = expand(n_as, {normal.asymmetry_type_a, {c_n * u_off, kInfiniteDof}});
+  r.swapped_asymmetry = expand(s_as, {swapped.asymmetry_type_a, {c_s * u_off, kInfiniteDof}});
+
+  // DOMAIN.md lead-swap test. Probe on the electrode's lead: the supply's part reverses with
+  // the leads (N = D + E, S = −D + E), so D is the half difference and E the half sum. Probe on
+  // a supply terminal: the electrodes' part reverses (N = D + E, S = D − E), so D is the half
+  // sum and E the half difference. The probe offset therefore lands in E in the first case and
+  // in D in the second.
+  const Halves dc = halves(n_dc, normal.dc_type_a, s_dc, swapped.dc_type_a, 1.0, 1.0, u_off, u_gain_rel);
+  const Halves as = halves(n_as, normal.asymmetry_type_a, s_as, swapped.asymmetry_type_a, c_n, c_s, u_off, 0.0);
+  const bool on_electrode = probe.on == ProbeOn::electrode;
+  r.driver_bias_a = on_electrode ? dc.difference : dc.sum;
+  r.electrode_bias_a = on_electrode ? dc.sum : dc.difference;
+  r.driver_asymmetry = on_electrode ? as.difference : as.sum;
+  r.electrode_asymmetry = on_electrode ? as.sum : as.difference;
+
+  const Estimate& d = r.driver_bias_a;
+  const Estimate& e = r.electrode_bias_a;
+  const double total = std::fabs(d.value) + std::fabs(e.value);
+  const double total_as = std::fabs(r.driver_asymmetry.value) + std::fabs(r.electrode_asymmetry.value);
+  const bool d_counts = counts(d, total, th.part_share);
+  const bool e_counts = counts(e, total, th.part_share);
+  const bool d_as_counts = counts(r.driver_asymmetry, total_as, th.part_share);
+  const bool e_as_counts = counts(r.electrode_asymmetry, total_as, th.part_share);
+
+  r.evidence.push_back(part_evidence("driver_bias", d, total, th.part_share,
+                                     "the supply's part of the DC offset"));
+  r.evidence.push_back(part_evidence("electrode_bias", e, total, th.part_share,
+                                     "the electrodes' part of the DC offset"));
+  r.evidence.push_back(part_evidence("driver_asymmetry", r.driver_asymmetry, total_as, th.part_share,
+                                     "the supply's part of the charge asymmetry"));
+  r.evidence.push_back(part_evidence("electrode_asymmetry", r.electrode_asymmetry, total_as, th.part_share,
+                                     "the electrodes' part of the charge asymmetry"));
+
+  // Clipping of one polarity fakes an asymmetry (DOMAIN.md): either capture clipped, no cause.
+  const auto clipped_cycles = [](const CycleSummary& s) {
+    return static_cast<double>(s.clipped_positive + s.clipped_negative);
+  };
+  const bool n_clipped = clipped_cycles(ns) > 0, s_clipped = clipped_cycles(ss) > 0;
+  r.evidence.push_back({"clipped_normal", clipped_cycles(ns), 0,
+                        n_clipped ? "the normal capture has cycles clipped at the recorder's range: "
+                                    "a clipped polarity fakes an asymmetry"
+                                  : "the normal capture has no clipped cycle"});
+  r.evidence.push_back({"clipped_swapped", clipped_cycles(ss), 0,
+                        s_clipped ? "the swapped capture has cycles clipped at the recorder's range: "
+                                    "a clipped polarity fakes an asymmetry"
+                                  : "the swapped capture has no clipped cycle"});
+
+  // The test assumes one unit on one load: the two captures must agree in what the swap does
+  // not change.
+  const double df = relative_difference(ns.fundamental_hz.value, ss.fundamental_hz.value);
+  const double da = relative_difference(ns.ac_rms_a.value, ss.ac_rms_a.value);
+  const bool f_mismatch = df > th.frequency_mismatch;
+  const bool a_mismatch = da > th.ac_rms_mismatch;
+  r.evidence.push_back({"fundamental_mismatch", df, th.frequency_mismatch,
+                        f_mismatch ? "the two captures differ in fundamental frequency"
+                                   : "the two captures agree in fundamental frequency"});
+  r.evidence.push_back({"ac_rms_mismatch", da, th.ac_rms_mismatch,
+                        a_mismatch ? "the two captures differ in AC RMS current"
+                                   : "the two captures agree in AC RMS current"});
+  if (f_mismatch) {
+    r.warnings.push_back("the two captures differ in fundamental by " + percent_text(df) + " (more than " +
+                         percent_text(th.frequency_mismatch) +
+                         "): they may not be the same unit on the same load");
+  }
+  if (a_mismatch) {
+    r.warnings.push_back("the two captures differ in AC RMS by " + percent_text(da) + " (more than " +
+                         percent_text(th.ac_rms_mismatch) +
+                         "): they may not be the same unit on the same load");
+  }
+
+  const double ac_rms = 0.5 * (ns.ac_rms_a.value + ss.ac_rms_a.value);
+  const double resolution =
+      ac_rms > 0 ? std::max(d.u95, e.u95) / ac_rms : std::numeric_limits<double>::infinity();
+  r.evidence.push_back({"resolution", resolution, th.symmetric_u95_share,
+                        resolution < th.symmetric_u95_share
+                            ? "the larger u95 of the two parts is small against the AC RMS: an "
+                              "absent part would have shown"
+                            : "the larger u95 of the two parts is not small against the AC RMS: a "
+                              "part could hide in it"});
+
+  const bool agree = d_counts == d_as_counts && e_counts == e_as_counts;
+  if (!agree) {
+    r.warnings.push_back("the DC offset and the charge asymmetry disagree about which part counts; "
+                         "the verdict follows the DC offset");
+  }
+
+  // The verdict follows the DC offset's parts; the charge asymmetry's are a cross-check.
+  if (n_clipped || s_clipped) {
+    r.verdict = Verdict::inconclusive;
+    if (n_clipped) r.deciding.push_back("clipped_normal");
+    if (s_clipped) r.deciding.push_back("clipped_swapped");
+  } else if (d_counts && e_counts) {
+    r.verdict = Verdict::mixed;
+    r.deciding = {"driver_bias", "electrode_bias"};
+  } else if (d_counts) {
+    r.verdict = Verdict::driver_imbalance;
+    r.deciding = {"driver_bias"};
+  } else if (e_counts) {
+    r.verdict = Verdict::self_rectification;
+    r.deciding = {"electrode_bias"};
+  } else if (resolution < th.symmetric_u95_share) {
+    r.verdict = Verdict::symmetric;
+    r.deciding = {"driver_bias", "electrode_bias", "resolution"};
+  } else {
+    r.verdict = Verdict::inconclusive;
+    r.deciding = {"resolution"};
+  }
+
+  // Confidence, 0…1 (README.md "lopside swap"):
+  //  - inconclusive: 0 (there is no cause to be confident in);
+  //  - a cause (driver_imbalance, self_rectification, mixed): 1 − 1/z, z = |value|/u95 of the
+  //    weakest part that counts (z = 2 gives 0.5, z = 10 gives 0.9); halved for each part that
+  //    does not count but could (|value| + u95 reaches its share of |D| + |E|);
+  //  - symmetric: 1 − (larger u95 of the parts)/(1 % of the AC RMS);
+  //  then halved for each mismatch between the captures (fundamental, AC RMS), and × 0.75 when
+  //  the charge asymmetry's parts disagree with the DC offset's about which part counts.
+  double confidence = 0;
+  const auto z = [](const Estimate& p) {
+    return p.u95 > 0 ? std::fabs(p.value) / p.u95 : std::numeric_limits<double>::infinity();
+  };
+  const auto could_count = [&](const Estimate& p) {
+    return std::fabs(p.value) + p.u95 >= th.part_share * total;
+  };
+  switch (r.verdict) {
+    case Verdict::inconclusive:
+      confidence = 0;
+      break;
+    case Verdict::symmetric:
+      confidence = 1.0 - resolution / th.symmetric_u95_share;
+      break;
+    default: {
+      double z_min = std::numeric_limits<double>::infinity();
+      if (d_counts) z_min = std::min(z_min, z(d));
+      if (e_counts) z_min = std::min(z_min, z(e));
+      confidence = 1.0 - 1.0 / z_min;
+      if (!d_counts && could_count(d)) confidence *= 0.5;
+      if (!e_counts && could_count(e)) confidence *= 0.5;
+      break;
+    }
+  }
+  if (f_mismatch) confidence *= 0.5;
+  if (a_mismatch) confidence *= 0.5;
+  if (!agree) confidence *= 0.75;
+  r.confidence = std::clamp(confidence, 0.0, 1.0);
+
+  // Next steps: what a technician does with the verdict.
+  const std::string probed = on_electrode ? "the electrode whose lead carried the probe"
+                                          : "the electrode the probed terminal fed in the normal capture";
+  const auto electrode_step = [&] {
+    // E > 0: net current flows into that electrode, so it is the anode for more charge and
+    // the other one the preferred cathode (the sign convention of `lopside measure`).
+    return std::string("The electrodes' part stays when the leads are exchanged: compare the two "
+                       "electrodes (shape, surface, material, contamination). ") +
+           (e.value > 0 ? "Net current flows into " + probed +
+                              ", so the other electrode is the preferred cathode: it carries more "
+                              "charge as cathode and, in a glow, runs hotter."
+                        : "Net current flows out of " + probed +
+                              ", so it is the preferred cathode: it carries more charge as cathode "
+                              "and, in a glow, runs hotter.");
+  };
+  const std::string driver_step =
+      "The supply's part reverses when the leads are exchanged: look at the driver's switching "
+      "(unequal half-cycle timing, gate drive, output-stage components).";
+  switch (r.verdict) {
+    case Verdict::inconclusive:
+      if (n_clipped || s_clipped) {
+        r.next_steps.push_back("Widen the recorder's range (or choose a less sensitive probe range) until "
+                               "neither polarity clips, then record both captures again.");
+      } else {
+        r.next_steps.push_back("Record longer captures (more cycles); with a DC-passing probe subtract a "
+                               "zero stretch (--zero) or use a probe with a smaller offset tolerance, "
+                               "until the parts' u95 fall well below their size.");
+      }
+      break;
+    case Verdict::symmetric:
+      r.next_steps.push_back("Neither the supply nor the electrodes bias the current at this resolution. "
+                             "If one electrode still wears faster, record again after a longer warm-up: "
+                             "self-rectification builds up over seconds after ignition.");
+      break;
+    case Verdict::driver_imbalance:
+      r.next_steps.push_back(driver_step);
+      r.next_steps.push_back("A self-rectifying discharge whose preferred cathode changed between the two "
+                             "captures looks the same: repeat the normal capture and check that its DC "
+                             "offset comes back.");
+      break;
+    case Verdict::self_rectification:
+      r.next_steps.push_back(electrode_step());
+      break;
+    case Verdict::mixed:
+      r.next_steps.push_back(driver_step);
+      r.next_steps.push_back(electrode_step());
+      break;
+  }
+  if (f_mismatch || a_mismatch) {
+    r.next_steps.push_back("Record both captures on the same unit and load, warmed up alike, and run "
+                           "the test again.");
+  }
+  return r;
+}
+
+}  // namespace lopside

@@ -1,0 +1,194 @@
+#include "lopside/swap_report.hpp"
+
+#include <array>
+#include <cmath>
+#include <cstdio>
+#include <ostream>
+
+#include <nlohmann/json.hpp>
+
+#include "lopside/report_format.hpp"
+#include "lopside/units.hpp"
+
+namespace lopside {
+namespace {
+
+using json = nlohmann::ordered_json;
+
+constexpr const char* kSafety =
+    "High voltage can kill: exchange leads only with the supply isolated and discharged, with "
+    "probes rated for the voltage; local electrical codes and licensed practice prevail.";
+
+constexpr const char* kSignConvention =
+    "positive current flows from the probed lead into the electrode it feeds; both parts are "
+    "stated as the normal capture sees them: D > 0, the supply drives net current towards the "
+    "electrode the probed lead fed in the normal capture; E > 0, the electrodes draw net current "
+    "into that electrode (it is the anode for more charge, the other one the preferred cathode)";
+
+json estimate_json(const Estimate& e) {
+  json j;
+  j["value"] = std::isfinite(e.value) ? json(e.value) : json(nullptr);
+  j["u95"] = std::isfinite(e.u95) ? json(e.u95) : json(nullptr);
+  j["k"] = e.coverage_k;
+  return j;
+}
+
+json finite_or_null(double v) { return std::isfinite(v) ? json(v) : json(nullptr); }
+
+// Pads to `width` characters as a terminal shows them: UTF-8 continuation bytes (µ, −, ±)
+// take no column of their own.
+std::string pad(const std::string& text, std::size_t width) {
+  std::size_t shown = 0;
+  for (char c : text) shown += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
+  return shown < width ? text + std::string(width - shown, ' ') : text;
+}
+
+void line(std::ostream& out, const std::string& label, const std::string& text) {
+  out << "  " << pad(label, 20) << text << '\n';
+}
+
+std::string fixed(double v, int decimals) {
+  std::array<char, 48> buf{};
+  std::snprintf(buf.data(), buf.size(), "%.*f", decimals, v);
+  return buf.data();
+}
+
+bool ends_with(const std::string& s, const std::string& tail) {
+  return s.size() >= tail.size() && s.compare(s.size() - tail.size(), tail.size(), tail) == 0;
+}
+
+// An evidence figure in the unit its code implies.
+std::string evidence_figure(const std::string& code, double v) {
+  if (!std::isfinite(v)) return "n/a";
+  if (ends_with(code, "_bias")) return format_si(v, "A", 3, true);
+  if (ends_with(code, "_asymmetry")) return fixed(v, 4);
+  if (code.rfind("clipped", 0) == 0) return fixed(v, 0) + " cycles";
+  return fixed(100 * v, 2) + " %";
+}
+
+std::string evidence_bar(const std::string& code, double v) {
+  if (!std::isfinite(v)) return "n/a";
+  if (ends_with(code, "_bias")) return format_si(v, "A", 3);
+  return evidence_figure(code, v);
+}
+
+void capture_lines(std::ostream& out, const char* label, const SwapCaptureReport& c,
+                   const Estimate& dc, const Estimate& asymmetry) {
+  const CycleSummary& s = c.summary;
+  line(out, label, c.path);
+  line(out, "", "DC offset " + format_with_uncertainty(dc.value, dc.u95, "A", true) +
+                    ", charge asymmetry " + format_ratio_with_uncertainty(asymmetry.value, asymmetry.u95, true));
+  line(out, "", format_si(s.fundamental_hz.value, "Hz", 5) + ", AC RMS " + format_si(s.ac_rms_a.value, "A", 4) +
+                    ", " + std::to_string(s.cycles) + " whole cycles, " +
+                    std::to_string(s.clipped_positive + s.clipped_negative) + " clipped");
+}
+
+std::string counts_text(const std::vector<std::string>& deciding, const char* code) {
+  for (const auto& d : deciding) {
+    if (d == code) return "counts";
+  }
+  return "does not count";
+}
+
+}  // namespace
+
+void write_swap_text(std::ostream& out, const SwapReport& rep) {
+  const LeadSwapResult& r = rep.result;
+  const bool on_electrode = r.probe_on == ProbeOn::electrode;
+  const std::string diff = "(N \xE2\x88\x92 S)/2", sum = "(N + S)/2";
+  const std::string d_formula = on_electrode ? diff : sum;
+  const std::string e_formula = on_electrode ? sum : diff;
+  const bool decided = r.verdict != Verdict::symmetric && r.verdict != Verdict::inconclusive;
+
+  out << "lopside swap: probe on " << (on_electrode ? "the same electrode's lead" : "the same supply terminal")
+      << '\n';
+  capture_lines(out, "normal (N)", rep.normal, r.normal_dc_a, r.normal_asymmetry);
+  capture_lines(out, "swapped (S)", rep.swapped, r.swapped_dc_a, r.swapped_asymmetry);
+  out << '\n';
+  line(out, "supply part D", pad(format_with_uncertainty(r.driver_bias_a.value, r.driver_bias_a.u95, "A", true), 24) +
+                                 d_formula + (decided ? ", " + counts_text(r.deciding, "driver_bias") : std::string()));
+  line(out, "electrode part E",
+       pad(format_with_uncertainty(r.electrode_bias_a.value, r.electrode_bias_a.u95, "A", true), 24) + e_formula +
+           (decided ? ", " + counts_text(r.deciding, "electrode_bias") : std::string()));
+  line(out, "supply asymmetry",
+       pad(format_ratio_with_uncertainty(r.driver_asymmetry.value, r.driver_asymmetry.u95, true), 24) + d_formula);
+  line(out, "electrode asymmetry",
+       pad(format_ratio_with_uncertainty(r.electrode_asymmetry.value, r.electrode_asymmetry.u95, true), 24) +
+           e_formula);
+  out << '\n';
+  line(out, "verdict", std::string(to_string(r.verdict)) + ", confidence " + fixed(r.confidence, 2));
+  out << "  evidence (value, then the bar it is held against):\n";
+  for (const Evidence& e : r.evidence) {
+    out << "    " << pad(e.code, 21) << pad(evidence_figure(e.code, e.value), 14) << pad(evidence_bar(e.code, e.threshold), 12)
+        << e.text << '\n';
+  }
+  if (!r.next_steps.empty()) {
+    out << "  next steps:\n";
+    for (const auto& s : r.next_steps) out << "    - " << s << '\n';
+  }
+  out << "\n  Uncertainties are expanded (95 %, k = 2 unless stated otherwise in the JSON): each "
+         "capture's cycle-to-cycle scatter, independent between the two";
+  if (rep.probe_offset_a > 0 || rep.probe_gain_pct > 0) {
+    out << ", and the probe's stated tolerances, carried alike into both captures (its offset "
+           "cancels in "
+        << diff << " and adds fully to " << sum << ")";
+  }
+  out << ".\n  Sign convention: " << kSignConvention << ".\n  " << kSafety << '\n';
+
+  const bool any_warning = !r.warnings.empty() || !rep.normal.warnings.empty() || !rep.swapped.warnings.empty();
+  if (any_warning) {
+    out << "\nwarnings:\n";
+    for (const auto& w : r.warnings) out << "  - " << w << '\n';
+    for (const auto& w : rep.normal.warnings) out << "  - normal: " << w << '\n';
+    for (const auto& w : rep.swapped.warnings) out << "  - swapped: " << w << '\n';
+  }
+}
+
+void write_swap_json(std::ostream& out, const SwapReport& rep) {
+  const LeadSwapResult& r = rep.result;
+  const bool on_electrode = r.probe_on == ProbeOn::electrode;
+  json doc;
+  doc["schema"] = kSwapSchema;
+  doc["probe_on"] = to_string(r.probe_on);
+  doc["probe"] = json{{"offset_tolerance_a", rep.probe_offset_a}, {"gain_tolerance_pct", rep.probe_gain_pct}};
+  doc["formulas"] = json{{"driver", on_electrode ? "(N - S)/2" : "(N + S)/2"},
+                         {"electrode", on_electrode ? "(N + S)/2" : "(N - S)/2"}};
+  doc["driver_bias_a"] = estimate_json(r.driver_bias_a);
+  doc["electrode_bias_a"] = estimate_json(r.electrode_bias_a);
+  doc["driver_asymmetry"] = estimate_json(r.driver_asymmetry);
+  doc["electrode_asymmetry"] = estimate_json(r.electrode_asymmetry);
+  doc["verdict"] = to_string(r.verdict);
+  doc["confidence"] = r.confidence;
+  doc["deciding"] = r.deciding;
+  json evidence = json::array();
+  for (const Evidence& e : r.evidence) {
+    evidence.push_back(json{{"code", e.code},
+                            {"value", finite_or_null(e.value)},
+                            {"threshold", finite_or_null(e.threshold)},
+                            {"text", e.text}});
+  }
+  doc["evidence"] = evidence;
+  json warnings = r.warnings;
+  for (const auto& w : rep.normal.warnings) warnings.push_back("normal: " + w);
+  for (const auto& w : rep.swapped.warnings) warnings.push_back("swapped: " + w);
+  doc["warnings"] = warnings;
+  doc["next_steps"] = r.next_steps;
+  const auto capture = [](const SwapCaptureReport& c, const Estimate& dc, const Estimate& asym) {
+    json j;
+    j["path"] = c.path;
+    j["dc_offset_a"] = estimate_json(dc);
+    j["charge_asymmetry"] = estimate_json(asym);
+    j["fundamental_hz"] = finite_or_null(c.summary.fundamental_hz.value);
+    j["ac_rms_a"] = finite_or_null(c.summary.ac_rms_a.value);
+    j["cycle_count"] = c.summary.cycles;
+    j["clipped_cycles"] = json{{"positive", c.summary.clipped_positive}, {"negative", c.summary.clipped_negative}};
+    return j;
+  };
+  doc["normal"] = capture(rep.normal, r.normal_dc_a, r.normal_asymmetry);
+  doc["swapped"] = capture(rep.swapped, r.swapped_dc_a, r.swapped_asymmetry);
+  doc["sign_convention"] = kSignConvention;
+  doc["safety"] = kSafety;
+  out << doc.dump(2, ' ', false, json::error_handler_t::replace) << '\n';
+}
+
+}  // namespace lopside
