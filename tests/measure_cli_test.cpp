@@ -247,3 +247,57 @@ TEST_F(Measure, SpectrumAgreesWithNumpy) {
 }
 
 }  // namespace
+
+namespace {
+
+TEST_F(Measure, DiagnosisOfEachSample) {
+  // The samples' causes are known by construction (samples/README.md).
+  const std::vector<std::pair<std::string, std::string>> cases{
+      {"bt32k-unit0412-healthy.csv", "symmetric"},
+      {"bt32k-unit0417-dc-fault.csv", "driver_imbalance"},
+      {"bt60hz-xfmr-glow.csv", "self_rectification"},
+      {"bt32k-unit0433-clipped.tsv", "inconclusive"},
+      {"bt40k-unit0521-export.csv", "inconclusive"}};
+  for (const auto& [file, verdict] : cases) {
+    const json j = measure_json(kSamples + file);
+    ASSERT_TRUE(j.contains("diagnosis")) << file;
+    EXPECT_EQ(j["diagnosis"]["verdict"], verdict) << file;
+    for (const auto& e : j["diagnosis"]["evidence"]) {
+      for (const char* key : {"code", "value", "threshold", "text"}) EXPECT_TRUE(e.contains(key)) << file << " " << key;
+    }
+    EXPECT_TRUE(j["diagnosis"].contains("confidence"));
+    EXPECT_TRUE(j.contains("events"));
+    EXPECT_TRUE(j.contains("time_course"));
+    for (const char* key : {"electrode_a", "electrode_b", "cathode_share_used"}) {
+      EXPECT_TRUE(j["heating_share"].contains(key)) << key;
+    }
+    // The two shares split the whole electrode heating.
+    EXPECT_NEAR(j["heating_share"]["electrode_a"].get<double>() + j["heating_share"]["electrode_b"].get<double>(), 1.0, 1e-12);
+  }
+  // The clipped capture never gets a cause.
+  const json clipped = measure_json(kSamples + "bt32k-unit0433-clipped.tsv");
+  EXPECT_EQ(clipped["diagnosis"]["deciding"][0], "clipped");
+}
+
+TEST_F(Measure, TextEndsWithVerdictNextStepsAndCaution) {
+  const RunResult r = run({"measure", kSamples + "bt32k-unit0417-dc-fault.csv"});
+  ASSERT_EQ(r.status, 0) << r.err;
+  EXPECT_NE(r.out.find("VERDICT             driver_imbalance"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("next: Check the inverter's switch timing"), std::string::npos);
+  EXPECT_NE(r.out.find("High voltage can kill"), std::string::npos);
+  EXPECT_NE(r.out.find("licensed practice"), std::string::npos);
+  EXPECT_NE(r.out.find("while i > 0, A is the anode"), std::string::npos);
+}
+
+TEST_F(Measure, RegimeChangesTheHeatingSplit) {
+  // A weaker negative lobe: Q+ > Q−, so B (cathode while i > 0) carries more cathode charge:
+  // hotter in a glow (cathode-dominant), cooler in an arc (anode-dominant).
+  const json glow = measure_json(kSamples + "bt60hz-xfmr-glow.csv");
+  const json arc = measure_json(kSamples + "bt60hz-xfmr-glow.csv", {"--regime", "arc"});
+  EXPECT_GT(glow["heating_share"]["electrode_b"].get<double>(), 0.5);
+  EXPECT_LT(arc["heating_share"]["electrode_b"].get<double>(), 0.5);
+  EXPECT_DOUBLE_EQ(arc["heating_share"]["cathode_share_used"].get<double>(), 0.3);
+  EXPECT_EQ(run({"measure", kSamples + "bt60hz-xfmr-glow.csv", "--cathode-share", "1.5"}).status, 2);
+}
+
+}  // namespace

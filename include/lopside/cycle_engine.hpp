@@ -87,6 +87,7 @@ struct CycleSummary {
   std::uint64_t partial_cycles = 0;   ///< incomplete cycles at the ends, left out
   std::uint64_t excluded_cycles = 0;  ///< whole cycles in the `--zero` stretch, left out
   std::uint64_t frames = 0;
+  double samples_per_cycle = 0;  ///< mean period over the sampling interval
   std::string reference;  ///< "voltage" or "current": the channel whose crossings set cycles
   Estimate fundamental_hz;
   Estimate dc_offset_a;

@@ -572,6 +572,7 @@ struct CycleEngine::Impl {
     // A sampled peak misses the true one by up to A·(1 − cos(π/N)) for N samples per cycle
     // (the crest falls between two samples at worst): a type-B part, rectangular.
     const double spc = period / dt;
+    s.samples_per_cycle = spc;
     const double sampling = spc > 1 ? 1 - std::cos(M_PI / spc) : 1.0;
     const auto peak_parts = [&](double peak, double gain_rel, double offset) {
       return std::vector<UncertaintyComponent>{{gain_rel * std::fabs(peak), 1e300},

@@ -1,5 +1,7 @@
 #include "lopside/diagnosis.hpp"
 
+#include "lopside/uncertainty.hpp"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -75,6 +77,10 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     add("dc_not_significant", dc, s.dc_offset_a.u95,
         "The DC offset is not above its expanded uncertainty: no DC is shown, so no cause is "
         "given.");
+  } else if (std::fabs(dc) < th.negligible_dc_share * s.ac_rms_a.value) {
+    add("dc_negligible", dc / s.ac_rms_a.value, th.negligible_dc_share,
+        "The DC offset is measurable but below " + pct(th.negligible_dc_share) +
+            " of the AC current: too small to heat one electrode noticeably.");
   }
 
   // --- the supply ------------------------------------------------------------------------
@@ -122,7 +128,14 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     if (std::isfinite(vp) && std::isfinite(vn) && std::fabs(vp) + std::fabs(vn) > 0) {
       const double mean_burn = 0.5 * (std::fabs(vp) + std::fabs(vn));
       const double diff = (std::fabs(vp) - std::fabs(vn)) / mean_burn;
-      const double u = std::hypot(s.burning_voltage_positive_v.u95, s.burning_voltage_negative_v.u95) / mean_burn;
+      // Beyond the scatter, each window's mean is off by up to one sample's share where the
+      // sampling grid cuts its edges, the same in every cycle when the rate is a multiple of
+      // the frequency: about |V|/N for N ≈ 0.43 samples per cycle in a window (the part of a
+      // sine half above a fifth of its peak), taken as a rectangular half-width.
+      const double n_window = std::max(1.0, 0.43 * s.samples_per_cycle);
+      const double u_grid = 2.0 * rectangular(mean_burn / n_window) * std::sqrt(2.0);
+      const double u = std::hypot(std::hypot(s.burning_voltage_positive_v.u95, s.burning_voltage_negative_v.u95),
+                                  u_grid) / mean_burn;
       const bool burn = std::fabs(diff) > th.burning_voltage_share && std::fabs(diff) > u;
       add("burning_voltage_asymmetry", diff, th.burning_voltage_share,
           burn ? "The burning voltage differs by polarity (" + pct(diff) +
@@ -199,11 +212,14 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     d.verdict = Verdict::inconclusive;
     d.deciding = {"clipped"};
     d.confidence = 0;
-  } else if (!dc_significant && !asym_significant && flips == 0) {
+  } else if (!driver && !self && flips == 0 && !offset_like &&
+             (!dc_significant || std::fabs(dc) < th.negligible_dc_share * s.ac_rms_a.value)) {
+    // No evidence either way and no DC worth the name: a DC that is statistically significant
+    // but below the negligible share is what a clean capture shows one time in twenty.
     // Symmetric only if the capture could have shown a DC of 1 % of the AC current.
     const bool sharp = s.dc_offset_a.u95 < 0.01 * s.ac_rms_a.value;
     d.verdict = sharp ? Verdict::symmetric : Verdict::inconclusive;
-    d.deciding = {"dc_not_significant"};
+    d.deciding = {dc_significant ? "dc_negligible" : "dc_not_significant"};
     d.confidence = sharp ? 0.9 : 0.0;
   } else if (driver && self) {
     d.verdict = Verdict::mixed;

@@ -1,0 +1,310 @@
+// The lead-swap split on hand-made summaries: the decomposition (DOMAIN.md, lead-swap test),
+// the GUM propagation of each capture's scatter and of the shared probe's tolerances, the
+// verdict rule and the confidence rule (README.md "lopside swap").
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <optional>
+#include <string>
+
+#include "lopside/lead_swap.hpp"
+
+namespace lopside {
+namespace {
+
+constexpr double kMa = 1e-3;
+constexpr double kUa = 1e-6;
+
+// A 32 kHz capture of 17 mA AC RMS (25 mA peak sine: 25/√2 ≈ 17.7 mA) with the given DC offset
+// and per-capture standard uncertainty u_dc [A] of infinite degrees of freedom (so every
+// combination below has k = 2, GUM 6.3.3). The charge asymmetry follows from the DC unless
+// given: Q+ − Q− = DC·T per cycle, so A = DC·T/(Q+ + Q−), and likewise its uncertainty.
+SwapCapture capture(double dc_a, double u_dc_a, std::optional<double> asymmetry = std::nullopt,
+                    std::optional<double> u_asym = std::nullopt, double frequency_hz = 32000,
+                    double ac_rms_a = 0.017) {
+  SwapCapture c;
+  CycleSummary& s = c.summary;
+  // Q+ + Q− of a 25 mA sine: 2·(2A/π)·(T/2) = 2A·T/π ≈ 0.497 µC per cycle at 32 kHz.
+  const double period_s = 1 / frequency_hz;
+  const double q = 2 * 0.025 / M_PI * period_s;
+  const double a = asymmetry.value_or(dc_a * period_s / q);
+  const double u_a = u_asym.value_or(u_dc_a * period_s / q);
+  s.cycles = 160;
+  s.fundamental_hz = {frequency_hz, 0.1, 2};
+  s.dc_offset_a = {dc_a, 2 * u_dc_a, 2};
+  s.charge_asymmetry = {a, 2 * u_a, 2};
+  s.ac_rms_a = {ac_rms_a, 1e-5, 2};
+  s.charge_positive_c = {q / 2 * (1 + a), 0, 2};
+  s.charge_negative_c = {q / 2 * (1 - a), 0, 2};
+  c.dc_type_a = {u_dc_a, 1e300};
+  c.asymmetry_type_a = {u_a, 1e300};
+  return c;
+}
+
+SwapProbe probe_on(ProbeOn on, double offset_a = 0, double gain_pct = 0) {
+  SwapProbe p;
+  p.on = on;
+  p.offset_a = offset_a;
+  p.gain_pct = gain_pct;
+  return p;
+}
+
+bool has_warning(const LeadSwapResult& r, const std::string& part) {
+  for (const auto& w : r.warnings) {
+    if (w.find(part) != std::string::npos) return true;
+  }
+  return false;
+}
+
+const Evidence* evidence(const LeadSwapResult& r, const std::string& code) {
+  for (const auto& e : r.evidence) {
+    if (e.code == code) return &e;
+  }
+  return nullptr;
+}
+
+// --- decomposition ------------------------------------------------------------------------
+
+TEST(LeadSwap, ProbeOnElectrodeSplitsIntoHalfDifferenceAndHalfSum) {
+  // DOMAIN.md: N = D + E, S = −D + E, so D = (N − S)/2 and E = (N + S)/2.
+  // N = +3 mA, S = −1 mA → D = 2 mA, E = 1 mA; asymmetry 0.10 and −0.02 → 0.06 and 0.04.
+  const auto r = analyse_lead_swap(capture(3 * kMa, 1 * kUa, 0.10), capture(-1 * kMa, 1 * kUa, -0.02),
+                                   probe_on(ProbeOn::electrode));
+  EXPECT_NEAR(r.driver_bias_a.value, 2 * kMa, 1e-15);
+  EXPECT_NEAR(r.electrode_bias_a.value, 1 * kMa, 1e-15);
+  EXPECT_NEAR(r.driver_asymmetry.value, 0.06, 1e-15);
+  EXPECT_NEAR(r.electrode_asymmetry.value, 0.04, 1e-15);
+  EXPECT_EQ(r.probe_on, ProbeOn::electrode);
+}
+
+TEST(LeadSwap, ProbeOnSupplySplitsTheOtherWayRound) {
+  // The supply's part stays with the probed terminal, the electrodes' part reverses:
+  // N = D + E, S = D − E, so D = (N + S)/2 = 1 mA and E = (N − S)/2 = 2 mA.
+  const auto r = analyse_lead_swap(capture(3 * kMa, 1 * kUa, 0.10), capture(-1 * kMa, 1 * kUa, -0.02),
+                                   probe_on(ProbeOn::supply));
+  EXPECT_NEAR(r.driver_bias_a.value, 1 * kMa, 1e-15);
+  EXPECT_NEAR(r.electrode_bias_a.value, 2 * kMa, 1e-15);
+  EXPECT_NEAR(r.driver_asymmetry.value, 0.04, 1e-15);
+  EXPECT_NEAR(r.electrode_asymmetry.value, 0.06, 1e-15);
+  EXPECT_STREQ(to_string(r.probe_on), "supply");
+}
+
+// --- uncertainty --------------------------------------------------------------------------
+
+TEST(LeadSwap, ScatterOfTwoIndependentCapturesCombinesAsHalfTheQuadratureSum) {
+  // GUM 5.1.2, sensitivities ±½: u = ½·√(uN² + uS²); k = 2 (infinite ν, GUM 6.3.3).
+  const double u_n = 10 * kUa, u_s = 20 * kUa;
+  const auto r = analyse_lead_swap(capture(3 * kMa, u_n), capture(-1 * kMa, u_s), probe_on(ProbeOn::electrode));
+  const double u = 0.5 * std::hypot(u_n, u_s);
+  EXPECT_NEAR(r.driver_bias_a.u95, 2 * u, 1e-12);
+  EXPECT_NEAR(r.electrode_bias_a.u95, 2 * u, 1e-12);
+  EXPECT_DOUBLE_EQ(r.driver_bias_a.coverage_k, 2.0);
+}
+
+TEST(LeadSwap, ProbeOffsetCancelsInTheDifferenceAndAddsFullyToTheSum) {
+  // One probe in both captures: its offset δ (±0.3 mA rectangular, u = a/√3, GUM 4.3.7) moves
+  // N and S alike (correlation +1, GUM 5.2.2), so (N − S)/2 has sensitivity 0 to it and
+  // (N + S)/2 sensitivity 1. The gain tolerance ±1 % (u = 0.01/√3, relative) scales each part.
+  const double u_n = 10 * kUa, u_s = 20 * kUa;
+  const double offset = 0.3 * kMa, gain_pct = 1.0;
+  const double u_off = offset / std::sqrt(3.0), g = 0.01 / std::sqrt(3.0);
+  const double stat2 = 0.25 * (u_n * u_n + u_s * u_s);
+  const SwapCapture n = capture(3 * kMa, u_n), s = capture(-1 * kMa, u_s);
+
+  const auto electrode = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode, offset, gain_pct));
+  const double d = 2 * kMa, e = 1 * kMa;
+  EXPECT_NEAR(electrode.driver_bias_a.u95, 2 * std::sqrt(stat2 + g * g * d * d), 1e-12);
+  EXPECT_NEAR(electrode.electrode_bias_a.u95, 2 * std::sqrt(stat2 + u_off * u_off + g * g * e * e), 1e-12);
+  // Without the gain tolerance the offset leaves the difference exactly as the scatter made it.
+  const auto offset_only = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode, offset, 0));
+  const auto plain = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode));
+  EXPECT_DOUBLE_EQ(offset_only.driver_bias_a.u95, plain.driver_bias_a.u95);
+  EXPECT_GT(offset_only.electrode_bias_a.u95, plain.electrode_bias_a.u95);
+
+  // Probe on the supply terminal: the sum is now D (1 mA) and carries the offset.
+  const auto supply = analyse_lead_swap(n, s, probe_on(ProbeOn::supply, offset, gain_pct));
+  EXPECT_NEAR(supply.driver_bias_a.u95, 2 * std::sqrt(stat2 + u_off * u_off + g * g * 1e-6), 1e-12);
+  EXPECT_NEAR(supply.electrode_bias_a.u95, 2 * std::sqrt(stat2 + g * g * 4e-6), 1e-12);
+
+  // Each capture alone carries the whole offset and its own gain part, as `measure` states it.
+  EXPECT_NEAR(electrode.normal_dc_a.u95, 2 * std::sqrt(u_n * u_n + u_off * u_off + g * g * 9e-6), 1e-12);
+  EXPECT_NEAR(electrode.swapped_dc_a.u95, 2 * std::sqrt(u_s * u_s + u_off * u_off + g * g * 1e-6), 1e-12);
+}
+
+TEST(LeadSwap, AsymmetryOffsetPartUsesEachCapturesSensitivity) {
+  // ∂A/∂δ ≈ T/(Q+ + Q−) per capture (the cycle engine's rule). For a sine of peak A this is
+  // π/(2A) whatever the frequency (T cancels); a swapped capture carrying 10 % less charge has
+  // a sensitivity larger by 1/0.9, so the correlated offset enters (c_N − c_S)/2 and
+  // (c_N + c_S)/2 (GUM 5.2.2, r = +1). The gain cancels in a ratio.
+  const double u_a = 1e-4, offset = 0.2 * kMa;
+  const SwapCapture n = capture(0, 1 * kUa, 0.05, u_a);
+  SwapCapture s = capture(0, 1 * kUa, -0.01, u_a);
+  s.summary.charge_positive_c.value *= 0.9;
+  s.summary.charge_negative_c.value *= 0.9;
+  const double c_n = M_PI / (2 * 0.025), c_s = c_n / 0.9, u_off = offset / std::sqrt(3.0);
+  const auto r = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode, offset, 5.0));
+  const double stat2 = 0.25 * (u_a * u_a + u_a * u_a);
+  const double diff_off = 0.5 * (c_s - c_n) * u_off, sum_off = 0.5 * (c_n + c_s) * u_off;
+  EXPECT_NEAR(r.driver_asymmetry.u95, 2 * std::sqrt(stat2 + diff_off * diff_off), 1e-9);
+  EXPECT_NEAR(r.electrode_asymmetry.u95, 2 * std::sqrt(stat2 + sum_off * sum_off), 1e-9);
+  EXPECT_NEAR(r.normal_asymmetry.u95, 2 * std::hypot(u_a, c_n * u_off), 1e-9);
+  // Like-for-like captures: the offset cancels in the difference.
+  const auto same = analyse_lead_swap(n, capture(0, 1 * kUa, -0.01, u_a), probe_on(ProbeOn::electrode, offset));
+  EXPECT_NEAR(same.driver_asymmetry.u95, 2 * std::sqrt(stat2), 1e-9);
+}
+
+TEST(LeadSwap, StatisticalPartRecoversStandardUncertaintyAndDegreesOfFreedom) {
+  // Student t95 table: t(9) = 2.262 (any statistics handbook; GUM table G.2 for 95.45 %).
+  const UncertaintyComponent few = statistical_part(Estimate{1.0, 2.262 * 3e-6, 2.262});
+  EXPECT_NEAR(few.standard, 3e-6, 1e-15);
+  EXPECT_NEAR(few.dof, 9.0, 1e-6);
+  // k = 2 is what combine() gives for ν ≥ 30 (GUM 6.3.3); 30 is the conservative reading.
+  const UncertaintyComponent many = statistical_part(Estimate{1.0, 4e-6, 2.0});
+  EXPECT_NEAR(many.standard, 2e-6, 1e-18);
+  EXPECT_DOUBLE_EQ(many.dof, 30.0);
+}
+
+TEST(LeadSwap, FewDegreesOfFreedomWidenTheCoverageFactor) {
+  // Two captures of ν = 9 each, equal u: Welch–Satterthwaite (GUM G.4.1) gives ν_eff = 18,
+  // t95(18) = 2.101.
+  SwapCapture n = capture(1 * kMa, 5 * kUa), s = capture(-1 * kMa, 5 * kUa);
+  n.dc_type_a.dof = 9;
+  s.dc_type_a.dof = 9;
+  const auto r = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode));
+  EXPECT_NEAR(r.driver_bias_a.coverage_k, 2.101, 1e-9);
+  EXPECT_NEAR(r.driver_bias_a.u95, 2.101 * 0.5 * std::sqrt(2.0) * 5 * kUa, 1e-12);
+}
+
+TEST(LeadSwap, NegativeToleranceIsAProgrammingError) {
+  EXPECT_THROW(analyse_lead_swap(capture(0, 1e-6), capture(0, 1e-6), probe_on(ProbeOn::electrode, -1e-3)),
+               std::invalid_argument);
+}
+
+// --- verdicts -----------------------------------------------------------------------------
+
+TEST(LeadSwap, BiasThatReversesWithTheLeadsIsDriverImbalance) {
+  const auto r = analyse_lead_swap(capture(1 * kMa, 2 * kUa), capture(-1 * kMa, 2 * kUa), probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::driver_imbalance);
+  ASSERT_EQ(r.deciding.size(), 1u);
+  EXPECT_EQ(r.deciding[0], "driver_bias");
+  EXPECT_TRUE(r.warnings.empty());
+}
+
+TEST(LeadSwap, BiasThatStaysIsSelfRectification) {
+  const auto r = analyse_lead_swap(capture(1 * kMa, 2 * kUa, 0.03), capture(1 * kMa, 2 * kUa, 0.03),
+                                   probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::self_rectification);
+  // E > 0: net current into the probed electrode, so the other one is the preferred cathode.
+  ASSERT_FALSE(r.next_steps.empty());
+  EXPECT_NE(r.next_steps[0].find("the other electrode is the preferred cathode"), std::string::npos)
+      << r.next_steps[0];
+  // The same pair seen from a supply terminal is a pure supply part.
+  const auto supply = analyse_lead_swap(capture(1 * kMa, 2 * kUa, 0.03), capture(1 * kMa, 2 * kUa, 0.03),
+                                        probe_on(ProbeOn::supply));
+  EXPECT_EQ(supply.verdict, Verdict::driver_imbalance);
+}
+
+TEST(LeadSwap, BothPartsAreMixed) {
+  const auto r = analyse_lead_swap(capture(3 * kMa, 2 * kUa), capture(-1 * kMa, 2 * kUa), probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::mixed);
+  EXPECT_EQ(r.next_steps.size(), 2u);
+}
+
+TEST(LeadSwap, APartUnderTenPercentOfTheWholeDoesNotCount) {
+  // E = 0.08 mA against D = 1 mA: significant (u95 ≈ 3 µA) but 7.4 % of |D| + |E|.
+  const auto small = analyse_lead_swap(capture(1.08 * kMa, 2 * kUa), capture(-0.92 * kMa, 2 * kUa),
+                                       probe_on(ProbeOn::electrode));
+  EXPECT_EQ(small.verdict, Verdict::driver_imbalance);
+  EXPECT_NE(evidence(small, "electrode_bias")->text.find("does not count"), std::string::npos);
+  // E = 0.15 mA: 13 % of the whole, it counts.
+  const auto large = analyse_lead_swap(capture(1.15 * kMa, 2 * kUa), capture(-0.85 * kMa, 2 * kUa),
+                                       probe_on(ProbeOn::electrode));
+  EXPECT_EQ(large.verdict, Verdict::mixed);
+}
+
+TEST(LeadSwap, NoPartWithFineResolutionIsSymmetric) {
+  // Parts of +1.5 µA and +0.5 µA within u95 = 2·½√2·5 µA = 7.1 µA, far below 1 % of 17 mA.
+  const auto r = analyse_lead_swap(capture(2 * kUa, 5 * kUa), capture(-1 * kUa, 5 * kUa), probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::symmetric);
+  // Rule: 1 − u95/(1 % of the AC RMS) = 1 − 7.07 µA / 170 µA.
+  EXPECT_NEAR(r.confidence, 1 - std::sqrt(2.0) * 5 * kUa / (0.01 * 0.017), 1e-9);
+}
+
+TEST(LeadSwap, NoPartWithCoarseResolutionIsInconclusive) {
+  // u95 of the parts = √2·1 mA, 8 % of the AC RMS: a part could hide in it.
+  const auto r = analyse_lead_swap(capture(0.2 * kMa, 1 * kMa), capture(0.1 * kMa, 1 * kMa), probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::inconclusive);
+  EXPECT_DOUBLE_EQ(r.confidence, 0.0);
+  ASSERT_EQ(r.deciding.size(), 1u);
+  EXPECT_EQ(r.deciding[0], "resolution");
+}
+
+TEST(LeadSwap, ClippingInEitherCaptureIsInconclusiveWhateverTheParts) {
+  SwapCapture s = capture(-1 * kMa, 2 * kUa);
+  s.summary.clipped_negative = 40;
+  const auto r = analyse_lead_swap(capture(1 * kMa, 2 * kUa), s, probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::inconclusive);
+  EXPECT_DOUBLE_EQ(r.confidence, 0.0);
+  ASSERT_EQ(r.deciding.size(), 1u);
+  EXPECT_EQ(r.deciding[0], "clipped_swapped");
+  EXPECT_DOUBLE_EQ(evidence(r, "clipped_swapped")->value, 40.0);
+  EXPECT_NE(r.next_steps[0].find("range"), std::string::npos);
+}
+
+// --- confidence and mismatch --------------------------------------------------------------
+
+TEST(LeadSwap, ConfidenceFollowsTheStatedRule) {
+  // D = 1 mA, u95(D) = 2·½√2·u. u = 17.68 µA gives u95 = 50 µA: z = 20, 1 − 1/z = 0.95, and
+  // E = 0 with u95 50 µA cannot reach 10 % of 1 mA, so nothing halves it.
+  const double u_fine = 0.05 * kMa / std::sqrt(2.0);
+  const auto fine = analyse_lead_swap(capture(1 * kMa, u_fine), capture(-1 * kMa, u_fine), probe_on(ProbeOn::electrode));
+  EXPECT_EQ(fine.verdict, Verdict::driver_imbalance);
+  EXPECT_NEAR(fine.confidence, 0.95, 1e-9);
+  // u95 = 200 µA: z = 5 gives 0.8, and E's 0 + 200 µA reaches 100 µA, so E could still count:
+  // halved to 0.4.
+  const double u_coarse = 0.2 * kMa / std::sqrt(2.0);
+  const auto coarse = analyse_lead_swap(capture(1 * kMa, u_coarse), capture(-1 * kMa, u_coarse), probe_on(ProbeOn::electrode));
+  EXPECT_EQ(coarse.verdict, Verdict::driver_imbalance);
+  EXPECT_NEAR(coarse.confidence, 0.4, 1e-9);
+}
+
+TEST(LeadSwap, DifferentFundamentalWarnsAndHalvesTheConfidence) {
+  const double u = 0.05 * kMa / std::sqrt(2.0);
+  const auto same = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u), probe_on(ProbeOn::electrode));
+  // 32 against 33 kHz: |Δf| / mean = 1/32.5 = 3.1 % > 2 %.
+  const auto other = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 33000),
+                                       probe_on(ProbeOn::electrode));
+  EXPECT_TRUE(has_warning(other, "may not be the same unit on the same load"));
+  EXPECT_TRUE(has_warning(other, "fundamental"));
+  EXPECT_NEAR(evidence(other, "fundamental_mismatch")->value, 1000.0 / 32500.0, 1e-12);
+  EXPECT_NEAR(other.confidence, 0.5 * same.confidence, 1e-12);
+  EXPECT_FALSE(has_warning(same, "same unit"));
+  // 1.9 % is within the limit.
+  const auto close = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32615),
+                                       probe_on(ProbeOn::electrode));
+  EXPECT_FALSE(has_warning(close, "same unit"));
+}
+
+TEST(LeadSwap, DifferentAcRmsWarns) {
+  // 17 against 20 mA: 3/18.5 = 16.2 % > 15 %; 17 against 19.5 mA: 13.7 %, no warning.
+  const double u = 0.05 * kMa / std::sqrt(2.0);
+  const auto far = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.020),
+                                     probe_on(ProbeOn::electrode));
+  EXPECT_TRUE(has_warning(far, "AC RMS"));
+  EXPECT_NEAR(far.confidence, 0.5 * 0.95, 1e-9);
+  const auto near = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.0195),
+                                      probe_on(ProbeOn::electrode));
+  EXPECT_FALSE(has_warning(near, "AC RMS"));
+}
+
+TEST(LeadSwap, AsymmetryDisagreeingWithTheDcLowersTheConfidence) {
+  // DC parts say supply only; equal asymmetries say electrodes only.
+  const double u = 0.05 * kMa / std::sqrt(2.0);
+  const auto r = analyse_lead_swap(capture(1 * kMa, u, 0.02), capture(-1 * kMa, u, 0.02), probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::driver_imbalance);
+  EXPECT_TRUE(has_warning(r, "disagree"));
+  EXPECT_NEAR(r.confidence, 0.75 * 0.95, 1e-9);
+}
+
+}  // namespace
+}  // namespace lopside

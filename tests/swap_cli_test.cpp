@@ -1,0 +1,222 @@
+// `lopside swap` run as a user runs it, on pairs of captures written by lopside-synth whose
+// truth follows from the generator's formulas, and on bad input.
+//
+// Truth: a sine current whose positive half of peak A takes the share s of the period T and
+// whose negative half has peak r·A over (1 − s)·T. A half-sine's mean over its own duration is
+// 2/π of its peak (∫₀^π sin = 2), so over the cycle
+//   DC = (2A/π)·(s − (1 − s)·r).
+// Probe on the electrode's lead: the supply's part reverses with the leads (the swapped capture
+// has the share 1 − s) and the electrodes' part stays (same r), so
+//   D = (N − S)/2 = (A/π)·(s − (1 − s)r − (1 − s) + s·r) = (A/π)(2s − 1)(1 + r),
+//   E = (N + S)/2 = (A/π)·(s − (1 − s)r + (1 − s) − s·r) = (A/π)(1 − r).
+#include <cmath>
+#include <string>
+#include <vector>
+
+#include "cli_support.hpp"
+
+namespace {
+
+using lopside::test::Cli;
+using lopside::test::json;
+using lopside::test::RunResult;
+namespace fs = std::filesystem;
+
+constexpr double kPeakA = 0.025;     // 25 mA peak: a cold-cathode supply (DOMAIN.md, 18–30 mA)
+constexpr double kNoiseA = 0.0001;   // 0.1 mA rms recorder noise
+
+double driver_truth(double s, double r) { return kPeakA / M_PI * (2 * s - 1) * (1 + r); }
+double electrode_truth(double r) { return kPeakA / M_PI * (1 - r); }
+
+class Swap : public Cli {
+ protected:
+  // A 32 kHz capture, 1 MS/s for 5 ms (160 cycles), of 25 mA peak with 0.1 mA noise.
+  fs::path capture(const std::string& name, std::vector<std::string> extra, int seed,
+                   double frequency_hz = 32000, double peak_a = kPeakA) {
+    const fs::path p = dir_ / name;
+    std::vector<std::string> args{"-o", p.string(), "--frequency", std::to_string(frequency_hz), "--rate", "1e6",
+                                  "--duration", "0.005", "--peak", std::to_string(peak_a),
+                                  "--noise-rms", std::to_string(kNoiseA), "--seed", std::to_string(seed)};
+    args.insert(args.end(), extra.begin(), extra.end());
+    const RunResult g = run(args, LOPSIDE_SYNTH);
+    EXPECT_EQ(g.status, 0) << g.err;
+    return p;
+  }
+
+  json swap_json(const fs::path& normal, const fs::path& swapped, std::vector<std::string> extra = {}) {
+    std::vector<std::string> args{"swap", normal.string(), swapped.string(), "--json", "-"};
+    args.insert(args.end(), extra.begin(), extra.end());
+    const RunResult r = run(args);
+    EXPECT_EQ(r.status, 0) << r.err;
+    try {
+      return json::parse(r.out);
+    } catch (const std::exception& e) {
+      ADD_FAILURE() << "not JSON: " << e.what() << "\n" << r.out;
+      return json::object();
+    }
+  }
+
+  // Each part within 3 % of |D| + |E| (the brief's acceptance; the noise's u95 is ~4 µA and
+  // the cycle boundaries cost ~0.03 % of peak, DOMAIN.md, both far inside it).
+  static void expect_parts(const json& j, double d, double e) {
+    const double tol = 0.03 * (std::fabs(d) + std::fabs(e));
+    EXPECT_NEAR(j["driver_bias_a"]["value"].get<double>(), d, tol);
+    EXPECT_NEAR(j["electrode_bias_a"]["value"].get<double>(), e, tol);
+  }
+
+  static bool has_warning(const json& j, const std::string& part) {
+    for (const auto& w : j["warnings"]) {
+      if (w.get<std::string>().find(part) != std::string::npos) return true;
+    }
+    return false;
+  }
+};
+
+TEST_F(Swap, SupplyPartAloneIsDriverImbalance) {
+  // Half-periods 52 : 48 that follow the leads, symmetric lobes: D = (A/π)(0.04)(2), E = 0.
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 1);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 2);
+  const json j = swap_json(n, s);
+  expect_parts(j, driver_truth(0.52, 1.0), 0.0);
+  EXPECT_EQ(j["verdict"], "driver_imbalance");
+  EXPECT_GT(j["confidence"].get<double>(), 0.5);
+  // Each capture alone: DC = (2A/π)(2s − 1), ± the same 3 % of the whole.
+  EXPECT_NEAR(j["normal"]["dc_offset_a"]["value"].get<double>(), 2 * kPeakA / M_PI * 0.04,
+              0.03 * driver_truth(0.52, 1.0));
+  EXPECT_NEAR(j["swapped"]["dc_offset_a"]["value"].get<double>(), -2 * kPeakA / M_PI * 0.04,
+              0.03 * driver_truth(0.52, 1.0));
+  // Charge asymmetry of r = 1 halves: (s − (1 − s))/1 = 2s − 1 = 0.04 for the supply's part.
+  EXPECT_NEAR(j["driver_asymmetry"]["value"].get<double>(), 0.04, 0.03 * 0.04);
+  EXPECT_FALSE(has_warning(j, "same unit"));
+}
+
+TEST_F(Swap, ElectrodePartAloneIsSelfRectification) {
+  // Negative lobe at 0.9 of the positive in both captures, equal halves: D = 0, E = (A/π)·0.1.
+  const fs::path n = capture("n.csv", {"--negative-ratio", "0.9"}, 3);
+  const fs::path s = capture("s.csv", {"--negative-ratio", "0.9"}, 4);
+  const json j = swap_json(n, s);
+  expect_parts(j, 0.0, electrode_truth(0.9));
+  EXPECT_EQ(j["verdict"], "self_rectification");
+  // Lobes 1 : 0.9 give (1 − 0.9)/(1 + 0.9) as the electrodes' asymmetry.
+  EXPECT_NEAR(j["electrode_asymmetry"]["value"].get<double>(), 0.1 / 1.9, 0.03 * 0.1 / 1.9);
+}
+
+TEST_F(Swap, BothPartsAreMixed) {
+  const double share = 0.52, ratio = 0.9;
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52", "--negative-ratio", "0.9"}, 5);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48", "--negative-ratio", "0.9"}, 6);
+  const json j = swap_json(n, s);
+  expect_parts(j, driver_truth(share, ratio), electrode_truth(ratio));
+  EXPECT_EQ(j["verdict"], "mixed");
+}
+
+TEST_F(Swap, ProbeOnSupplyTerminal) {
+  // The probe stays on one supply terminal: the electrodes' part reverses, so the swapped
+  // capture sees the lobes mirrored (positive peak r·A, negative A, i.e. ratio 1/r):
+  // DC_S = (2/π)(rA/2 − A/2) = −(A/π)(1 − r), and E = (N − S)/2 = (A/π)(1 − r), D = 0.
+  const double ratio = 0.9;
+  const fs::path n = capture("n.csv", {"--negative-ratio", "0.9"}, 7);
+  const fs::path s = capture("s.csv", {"--negative-ratio", std::to_string(1 / ratio)}, 8, 32000, ratio * kPeakA);
+  const json j = swap_json(n, s, {"--probe-on", "supply"});
+  expect_parts(j, 0.0, electrode_truth(ratio));
+  EXPECT_EQ(j["verdict"], "self_rectification");
+  EXPECT_EQ(j["probe_on"], "supply");
+  // Read as if the probe had stayed on the electrode, the same pair is a supply part.
+  const json wrong = swap_json(n, s);
+  expect_parts(wrong, electrode_truth(ratio), 0.0);
+  EXPECT_EQ(wrong["verdict"], "driver_imbalance");
+}
+
+TEST_F(Swap, ProbeOffsetWidensOnlyTheSum) {
+  // ±0.2 mA rectangular is 115 µA standard (GUM 4.3.7): the half sum (E, probe on the
+  // electrode) gains 2·115 µA in quadrature, the half difference (D) nothing from it.
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 9);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 10);
+  const json plain = swap_json(n, s);
+  const json probed = swap_json(n, s, {"--probe-offset", "0.0002"});
+  EXPECT_DOUBLE_EQ(probed["driver_bias_a"]["u95"].get<double>(), plain["driver_bias_a"]["u95"].get<double>());
+  const double e_plain = plain["electrode_bias_a"]["u95"].get<double>() / 2;
+  EXPECT_NEAR(probed["electrode_bias_a"]["u95"].get<double>(),
+              2 * std::hypot(e_plain, 0.0002 / std::sqrt(3.0)), 1e-12);
+}
+
+TEST_F(Swap, ClippedPairIsInconclusive) {
+  // The recorder's range stops the negative half at −20 mA of a 25 mA peak: a faked asymmetry.
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52", "--clip-low", "-0.02"}, 11);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 12);
+  const json j = swap_json(n, s);
+  EXPECT_EQ(j["verdict"], "inconclusive");
+  EXPECT_EQ(j["confidence"].get<double>(), 0.0);
+  EXPECT_GT(j["normal"]["clipped_cycles"]["negative"].get<long>(), 0);
+  bool clipped_evidence = false;
+  for (const auto& e : j["evidence"]) {
+    if (e["code"] == "clipped_normal") clipped_evidence = e["value"].get<double>() > 0;
+  }
+  EXPECT_TRUE(clipped_evidence);
+}
+
+TEST_F(Swap, DifferentFrequenciesWarn) {
+  // 32 kHz against 33 kHz: 3.1 % apart, more than the 2 % a retuned but same load allows.
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 13);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 14, 33000);
+  const json j = swap_json(n, s);
+  EXPECT_TRUE(has_warning(j, "may not be the same unit on the same load")) << j["warnings"].dump();
+  EXPECT_NEAR(j["normal"]["fundamental_hz"].get<double>(), 32000, 32000 * 1e-4);
+  EXPECT_NEAR(j["swapped"]["fundamental_hz"].get<double>(), 33000, 33000 * 1e-4);
+}
+
+TEST_F(Swap, JsonCarriesTheSchemaAndEveryKey) {
+  const fs::path n = capture("n.csv", {"--negative-ratio", "0.9"}, 15);
+  const fs::path s = capture("s.csv", {"--negative-ratio", "0.9"}, 16);
+  const json j = swap_json(n, s);
+  EXPECT_EQ(j["schema"], "lopside.swap/1");
+  for (const char* key : {"driver_bias_a", "electrode_bias_a", "driver_asymmetry", "electrode_asymmetry"}) {
+    EXPECT_TRUE(j[key].contains("value")) << key;
+    EXPECT_TRUE(j[key].contains("u95")) << key;
+  }
+  for (const char* key : {"verdict", "confidence", "evidence", "warnings", "next_steps", "probe_on"}) {
+    EXPECT_TRUE(j.contains(key)) << key;
+  }
+  for (const char* side : {"normal", "swapped"}) {
+    for (const char* key : {"path", "dc_offset_a", "charge_asymmetry", "fundamental_hz", "ac_rms_a"}) {
+      EXPECT_TRUE(j[side].contains(key)) << side << "." << key;
+    }
+  }
+  EXPECT_EQ(j["normal"]["path"], n.string());
+  ASSERT_FALSE(j["evidence"].empty());
+  for (const char* key : {"code", "value", "threshold", "text"}) EXPECT_TRUE(j["evidence"][0].contains(key)) << key;
+  EXPECT_EQ(j["probe_on"], "electrode");
+}
+
+TEST_F(Swap, TextShowsThePartsTheSignConventionAndTheCaution) {
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 17);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 18);
+  const RunResult r = run({"swap", n.string(), s.string()});
+  ASSERT_EQ(r.status, 0) << r.err;
+  // D = (A/π)·0.04·2 = +637 µA.
+  EXPECT_NE(r.out.find("supply part D       +6"), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find(" \xC2\xB5" "A \xC2\xB1 "), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find("driver_imbalance"), std::string::npos);
+  EXPECT_NE(r.out.find("Sign convention"), std::string::npos);
+  EXPECT_NE(r.out.find("High voltage can kill: exchange leads only with the supply isolated and "
+                       "discharged, with probes rated for the voltage; local electrical codes and "
+                       "licensed practice prevail"),
+            std::string::npos);
+}
+
+TEST_F(Swap, MissingFileExitsTwoNamingIt) {
+  const fs::path n = capture("n.csv", {}, 19);
+  const fs::path missing = dir_ / "no-such-capture.csv";
+  const RunResult r = run({"swap", n.string(), missing.string()});
+  EXPECT_EQ(r.status, 2);
+  EXPECT_NE(r.err.find(missing.string()), std::string::npos) << r.err;
+}
+
+TEST_F(Swap, BadUsageExitsTwo) {
+  const fs::path n = capture("n.csv", {}, 20);
+  EXPECT_EQ(run({"swap", n.string()}).status, 2);  // SWAPPED missing
+  EXPECT_EQ(run({"swap", n.string(), n.string(), "--probe-on", "scope"}).status, 2);
+  EXPECT_EQ(run({"swap", n.string(), n.string(), "--max-order", "10"}).status, 2);
+}
+
+}  // namespace
