@@ -163,8 +163,8 @@ std::optional<BuildUp> fit_build_up(const std::vector<double>& t, const std::vec
   const ExpFit f = fit_exp_at(t, y, t0, std::exp(0.5 * (a + b)));
   if (!std::isfinite(f.sse)) return std::nullopt;
 
-  // Covariance of (P, B, τ) from the Jacobian at the optimum: s²·(JᵀJ)⁻¹ (Gauss–Newton;
-  // e.g. Seber & Wild, Nonlinear Regression, 2.1).
+  // Covariance of (P, B, τ) from the matrix J of partial derivatives at the optimum:
+  // s²·(JᵀJ)⁻¹ (Gauss–Newton; e.g. Seber & Wild, Nonlinear Regression, 2.1).
   std::array<std::array<double, 3>, 3> jtj{};
   for (std::size_t i = 0; i < n; ++i) {
     const double e = std::exp(-(t[i] - t0) / f.tau);
