@@ -2,6 +2,7 @@
 /// \file
 /// Units as printed in capture headers, mapped to SI.
 
+#include <array>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -25,6 +26,14 @@ struct NameAndUnit {
   std::string unit_text;  ///< empty when the cell carries no bracketed unit
 };
 NameAndUnit split_name_unit(std::string_view cell);
+
+/// An SI prefix for printing (BIPM SI Brochure, 9th ed., table 7): giga down to femto.
+struct SiPrefix {
+  double factor;
+  const char* symbol;  ///< "µ" as U+00B5 MICRO SIGN
+};
+/// The prefixes, largest first.
+const std::array<SiPrefix, 9>& si_prefixes();
 
 /// Value printed with an SI prefix and unit: format_si(0.00498, "A", 3) → "4.98 mA".
 /// `signed_always` puts a '+' before positive values.

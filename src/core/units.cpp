@@ -65,22 +65,24 @@ NameAndUnit split_name_unit(std::string_view cell) {
   return NameAndUnit{std::string(cell), ""};
 }
 
+const std::array<SiPrefix, 9>& si_prefixes() {
+  static constexpr std::array<SiPrefix, 9> kPrefixes{{{1e9, "G"},
+                                                      {1e6, "M"},
+                                                      {1e3, "k"},
+                                                      {1.0, ""},
+                                                      {1e-3, "m"},
+                                                      {1e-6, "\xC2\xB5"},
+                                                      {1e-9, "n"},
+                                                      {1e-12, "p"},
+                                                      {1e-15, "f"}}};
+  return kPrefixes;
+}
+
 std::string format_si(double value, std::string_view unit, int significant, bool signed_always) {
   if (!std::isfinite(value)) return std::string(std::isnan(value) ? "nan " : "inf ") +
                                     std::string(unit);
-  struct Step {
-    double factor;
-    const char* prefix;
-  };
-  static constexpr std::array<Step, 9> kSteps{{{1e9, "G"},
-                                               {1e6, "M"},
-                                               {1e3, "k"},
-                                               {1.0, ""},
-                                               {1e-3, "m"},
-                                               {1e-6, "\xC2\xB5"},
-                                               {1e-9, "n"},
-                                               {1e-12, "p"},
-                                               {1e-15, "f"}}};
+  using Step = SiPrefix;
+  const auto& kSteps = si_prefixes();
   const double magnitude = std::fabs(value);
   Step chosen{1.0, ""};
   if (magnitude != 0.0) {
@@ -112,7 +114,7 @@ std::string format_si(double value, std::string_view unit, int significant, bool
   std::snprintf(buf, sizeof buf, signed_always ? "%+.*f" : "%.*f", decimals, scaled);
   std::string out(buf);
   out += ' ';
-  out += chosen.prefix;
+  out += chosen.symbol;
   out += unit;
   return out;
 }

@@ -1,5 +1,7 @@
 #include "lopside/report_format.hpp"
 
+#include "lopside/units.hpp"
+
 #include <algorithm>
 #include <array>
 #include <cmath>
@@ -8,28 +10,12 @@
 namespace lopside {
 namespace {
 
-struct Prefix {
-  double factor;
-  const char* symbol;
-};
-
-// BIPM SI Brochure (9th ed.) table 7, the prefixes a bench figure needs.
-constexpr std::array<Prefix, 9> kPrefixes{{{1e9, "G"},
-                                           {1e6, "M"},
-                                           {1e3, "k"},
-                                           {1.0, ""},
-                                           {1e-3, "m"},
-                                           {1e-6, "\xC2\xB5"},
-                                           {1e-9, "n"},
-                                           {1e-12, "p"},
-                                           {1e-15, "f"}}};
-
-Prefix prefix_for(double magnitude) {
+SiPrefix prefix_for(double magnitude) {
   if (!(magnitude > 0) || !std::isfinite(magnitude)) return {1.0, ""};
-  for (const Prefix& p : kPrefixes) {
+  for (const SiPrefix& p : si_prefixes()) {
     if (magnitude >= p.factor * 0.9995) return p;
   }
-  return kPrefixes.back();
+  return si_prefixes().back();
 }
 
 // Decimal places that leave two significant digits in `u` (at least one place is shown for a
@@ -74,7 +60,7 @@ std::string uncertainty_text(double u, int decimals) {
 std::string format_with_uncertainty(double value, double u95, std::string_view unit,
                                     bool signed_always) {
   if (!std::isfinite(value)) return "n/a";
-  const Prefix p = prefix_for(std::max(std::fabs(value), std::isfinite(u95) ? u95 : 0.0));
+  const SiPrefix p = prefix_for(std::max(std::fabs(value), std::isfinite(u95) ? u95 : 0.0));
   const double v = value / p.factor, u = u95 / p.factor;
   const int d = capped_decimals(decimals_for(u, v), v);
   std::string out = printf_string(signed_always ? "%+.*f" : "%.*f", d, v) + " " + p.symbol +
