@@ -194,10 +194,16 @@ TEST(LeadSwap, BiasThatStaysIsSelfRectification) {
   const auto r = analyse_lead_swap(capture(1 * kMa, 2 * kUa, 0.03), capture(1 * kMa, 2 * kUa, 0.03),
                                    probe_on(ProbeOn::electrode));
   EXPECT_EQ(r.verdict, Verdict::self_rectification);
-  // E > 0: net current into the probed electrode, so the other one is the preferred cathode.
+  // E > 0: net current into the probed electrode A, so B is the preferred cathode.
   ASSERT_FALSE(r.next_steps.empty());
-  EXPECT_NE(r.next_steps[0].find("the other electrode is the preferred cathode"), std::string::npos)
+  EXPECT_NE(r.next_steps[0].find("electrode B is the preferred cathode"), std::string::npos)
       << r.next_steps[0];
+  // E < 0: net current out of A, so A is the preferred cathode.
+  const auto reversed = analyse_lead_swap(capture(-1 * kMa, 2 * kUa), capture(-1 * kMa, 2 * kUa),
+                                          probe_on(ProbeOn::electrode));
+  EXPECT_EQ(reversed.verdict, Verdict::self_rectification);
+  EXPECT_NE(reversed.next_steps[0].find("so A is the preferred cathode"), std::string::npos)
+      << reversed.next_steps[0];
   // The same pair seen from a supply terminal is a pure supply part.
   const auto supply = analyse_lead_swap(capture(1 * kMa, 2 * kUa, 0.03), capture(1 * kMa, 2 * kUa, 0.03),
                                         probe_on(ProbeOn::supply));

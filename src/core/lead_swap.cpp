@@ -293,18 +293,20 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   r.confidence = std::clamp(confidence, 0.0, 1.0);
 
   // Next steps: what a technician does with the verdict.
-  const std::string probed = on_electrode ? "the electrode whose lead carried the probe"
-                                          : "the electrode the probed terminal fed in the normal capture";
+  // Electrode A is the one the probed lead fed in the normal capture (the sign convention of
+  // `lopside measure`: positive current flows from the probed lead into electrode A).
+  const std::string probed = on_electrode ? "electrode A (the one whose lead carried the probe)"
+                                          : "electrode A (the one the probed terminal fed in the normal capture)";
   const auto electrode_step = [&] {
-    // E > 0: net current flows into that electrode, so it is the anode for more charge and
-    // the other one the preferred cathode (the sign convention of `lopside measure`).
+    // E > 0: net current flows into A, so A is the anode for more charge and B the preferred
+    // cathode.
     return std::string("The electrodes' part stays when the leads are exchanged: compare the two "
                        "electrodes (shape, surface, material, contamination). ") +
            (e.value > 0 ? "Net current flows into " + probed +
-                              ", so the other electrode is the preferred cathode: it carries more "
-                              "charge as cathode and, in a glow, runs hotter."
+                              ", so electrode B is the preferred cathode: it carries more charge as "
+                              "cathode and, in a glow, runs hotter."
                         : "Net current flows out of " + probed +
-                              ", so it is the preferred cathode: it carries more charge as cathode "
+                              ", so A is the preferred cathode: it carries more charge as cathode "
                               "and, in a glow, runs hotter.");
   };
   const std::string driver_step =

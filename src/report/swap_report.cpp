@@ -20,10 +20,10 @@ constexpr const char* kSafety =
     "probes rated for the voltage; local electrical codes and licensed practice prevail.";
 
 constexpr const char* kSignConvention =
-    "positive current flows from the probed lead into the electrode it feeds; both parts are "
-    "stated as the normal capture sees them: D > 0, the supply drives net current towards the "
-    "electrode the probed lead fed in the normal capture; E > 0, the electrodes draw net current "
-    "into that electrode (it is the anode for more charge, the other one the preferred cathode)";
+    "positive current flows from the probed lead into electrode A, the electrode that lead fed in "
+    "the normal capture; both parts are stated as the normal capture sees them: D > 0, the supply "
+    "drives net current into A; E > 0, the electrodes draw net current into A (A is the anode for "
+    "more charge, B the preferred cathode)";
 
 json estimate_json(const Estimate& e) {
   json j;
@@ -53,6 +53,12 @@ std::string fixed(double v, int decimals) {
   return buf.data();
 }
 
+std::string signed_fixed(double v, int decimals) {
+  std::array<char, 48> buf{};
+  std::snprintf(buf.data(), buf.size(), "%+.*f", decimals, v);
+  return buf.data();
+}
+
 bool ends_with(const std::string& s, const std::string& tail) {
   return s.size() >= tail.size() && s.compare(s.size() - tail.size(), tail.size(), tail) == 0;
 }
@@ -61,14 +67,16 @@ bool ends_with(const std::string& s, const std::string& tail) {
 std::string evidence_figure(const std::string& code, double v) {
   if (!std::isfinite(v)) return "n/a";
   if (ends_with(code, "_bias")) return format_si(v, "A", 3, true);
-  if (ends_with(code, "_asymmetry")) return fixed(v, 4);
+  if (ends_with(code, "_asymmetry")) return signed_fixed(v, 4);
   if (code.rfind("clipped", 0) == 0) return fixed(v, 0) + " cycles";
   return fixed(100 * v, 2) + " %";
 }
 
+// The bar a value is held against has no sign.
 std::string evidence_bar(const std::string& code, double v) {
   if (!std::isfinite(v)) return "n/a";
   if (ends_with(code, "_bias")) return format_si(v, "A", 3);
+  if (ends_with(code, "_asymmetry")) return fixed(v, 4);
   return evidence_figure(code, v);
 }
 
