@@ -84,10 +84,8 @@ class Cli : public ::testing::Test {
     return p;
   }
 
-  /// Runs `inspect PATH --json -` with extra flags and parses standard output.
-  json inspect_json(const fs::path& p, std::vector<std::string> extra = {}) {
-    std::vector<std::string> args{"inspect", p.string(), "--json", "-"};
-    args.insert(args.end(), extra.begin(), extra.end());
+  /// Runs lopside with `args` (which end in `--json -`), expects exit 0 and parses stdout.
+  json run_json(const std::vector<std::string>& args) {
     const RunResult r = run(args);
     EXPECT_EQ(r.status, 0) << r.err;
     try {
@@ -96,6 +94,13 @@ class Cli : public ::testing::Test {
       ADD_FAILURE() << "stdout is not JSON (" << e.what() << "):\n" << r.out;
       return json::object();
     }
+  }
+
+  /// Runs `inspect PATH --json -` with extra flags and parses standard output.
+  json inspect_json(const fs::path& p, std::vector<std::string> extra = {}) {
+    std::vector<std::string> args{"inspect", p.string(), "--json", "-"};
+    args.insert(args.end(), extra.begin(), extra.end());
+    return run_json(args);
   }
 
   fs::path dir_;

@@ -21,14 +21,7 @@ class Measure : public Cli {
   json measure_json(const std::string& path, std::vector<std::string> extra = {}) {
     std::vector<std::string> args{"measure", path, "--json", "-"};
     args.insert(args.end(), extra.begin(), extra.end());
-    const RunResult r = run(args);
-    EXPECT_EQ(r.status, 0) << r.err;
-    try {
-      return json::parse(r.out);
-    } catch (const std::exception& e) {
-      ADD_FAILURE() << "not JSON: " << e.what() << "\n" << r.out;
-      return json::object();
-    }
+    return run_json(args);
   }
 };
 

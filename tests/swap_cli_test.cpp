@@ -46,14 +46,7 @@ class Swap : public Cli {
   json swap_json(const fs::path& normal, const fs::path& swapped, std::vector<std::string> extra = {}) {
     std::vector<std::string> args{"swap", normal.string(), swapped.string(), "--json", "-"};
     args.insert(args.end(), extra.begin(), extra.end());
-    const RunResult r = run(args);
-    EXPECT_EQ(r.status, 0) << r.err;
-    try {
-      return json::parse(r.out);
-    } catch (const std::exception& e) {
-      ADD_FAILURE() << "not JSON: " << e.what() << "\n" << r.out;
-      return json::object();
-    }
+    return run_json(args);
   }
 
   // Each part within 3 % of |D| + |E| (the brief's acceptance; the noise's u95 is ~4 µA and

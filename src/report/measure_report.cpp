@@ -8,6 +8,8 @@
 
 #include <nlohmann/json.hpp>
 
+#include "report_support.hpp"
+
 #include "lopside/report_format.hpp"
 #include "lopside/units.hpp"
 
@@ -15,35 +17,13 @@ namespace lopside {
 namespace {
 
 using json = nlohmann::ordered_json;
-
-json estimate_json(const Estimate& e) {
-  json j;
-  j["value"] = std::isfinite(e.value) ? json(e.value) : json(nullptr);
-  j["u95"] = std::isfinite(e.u95) ? json(e.u95) : json(nullptr);
-  j["k"] = e.coverage_k;
-  return j;
-}
-
-// Pads to `width` characters as a terminal shows them: UTF-8 continuation bytes (µ, −, ±)
-// take no column of their own.
-std::string pad(const std::string& text, std::size_t width) {
-  std::size_t shown = 0;
-  for (char c : text) shown += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
-  return shown < width ? text + std::string(width - shown, ' ') : text;
-}
-
-void line(std::ostream& out, const std::string& label, const std::string& text) {
-  out << "  " << pad(label, 20) << text << '\n';
-}
+using report_detail::estimate_json;
+using report_detail::fixed;
+using report_detail::line;
+using report_detail::pad;
 
 std::string count_text(std::uint64_t n, const char* one, const char* many) {
   return std::to_string(n) + " " + (n == 1 ? one : many);
-}
-
-std::string fixed(double v, int decimals) {
-  std::array<char, 48> buf{};
-  std::snprintf(buf.data(), buf.size(), "%.*f", decimals, v);
-  return buf.data();
 }
 
 // The leading orders as a small table: enough to see DC, the fundamental and the first even

@@ -7,6 +7,8 @@
 
 #include <nlohmann/json.hpp>
 
+#include "report_support.hpp"
+
 #include "lopside/report_format.hpp"
 #include "lopside/units.hpp"
 
@@ -14,6 +16,10 @@ namespace lopside {
 namespace {
 
 using json = nlohmann::ordered_json;
+using report_detail::estimate_json;
+using report_detail::fixed;
+using report_detail::line;
+using report_detail::pad;
 
 constexpr const char* kSafety =
     "High voltage can kill: exchange leads only with the supply isolated and discharged, with "
@@ -25,33 +31,7 @@ constexpr const char* kSignConvention =
     "drives net current into A; E > 0, the electrodes draw net current into A (A is the anode for "
     "more charge, B the preferred cathode)";
 
-json estimate_json(const Estimate& e) {
-  json j;
-  j["value"] = std::isfinite(e.value) ? json(e.value) : json(nullptr);
-  j["u95"] = std::isfinite(e.u95) ? json(e.u95) : json(nullptr);
-  j["k"] = e.coverage_k;
-  return j;
-}
-
 json finite_or_null(double v) { return std::isfinite(v) ? json(v) : json(nullptr); }
-
-// Pads to `width` characters as a terminal shows them: UTF-8 continuation bytes (µ, −, ±)
-// take no column of their own.
-std::string pad(const std::string& text, std::size_t width) {
-  std::size_t shown = 0;
-  for (char c : text) shown += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
-  return shown < width ? text + std::string(width - shown, ' ') : text;
-}
-
-void line(std::ostream& out, const std::string& label, const std::string& text) {
-  out << "  " << pad(label, 20) << text << '\n';
-}
-
-std::string fixed(double v, int decimals) {
-  std::array<char, 48> buf{};
-  std::snprintf(buf.data(), buf.size(), "%.*f", decimals, v);
-  return buf.data();
-}
 
 std::string signed_fixed(double v, int decimals) {
   std::array<char, 48> buf{};

@@ -1,0 +1,45 @@
+#pragma once
+// Helpers the report writers share (private to src/report): JSON for an estimate, and the
+// column layout of the text summaries.
+#include <array>
+#include <cmath>
+#include <cstdio>
+#include <nlohmann/json.hpp>
+#include <ostream>
+#include <string>
+
+#include "lopside/cycle_engine.hpp"
+
+namespace lopside::report_detail {
+
+using json = nlohmann::ordered_json;
+
+/// {value, u95, k}; non-finite numbers become null (JSON has no NaN).
+inline json estimate_json(const Estimate& e) {
+  json j;
+  j["value"] = std::isfinite(e.value) ? json(e.value) : json(nullptr);
+  j["u95"] = std::isfinite(e.u95) ? json(e.u95) : json(nullptr);
+  j["k"] = e.coverage_k;
+  return j;
+}
+
+/// Pads to `width` characters as a terminal shows them: UTF-8 continuation bytes (µ, −, ±)
+/// take no column of their own.
+inline std::string pad(const std::string& text, std::size_t width) {
+  std::size_t shown = 0;
+  for (char c : text) shown += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
+  return shown < width ? text + std::string(width - shown, ' ') : text;
+}
+
+/// One aligned "  label               text" line of a summary.
+inline void line(std::ostream& out, const std::string& label, const std::string& text) {
+  out << "  " << pad(label, 20) << text << '\n';
+}
+
+inline std::string fixed(double v, int decimals) {
+  std::array<char, 48> buf{};
+  std::snprintf(buf.data(), buf.size(), "%.*f", decimals, v);
+  return buf.data();
+}
+
+}  // namespace lopside::report_detail
