@@ -3,6 +3,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <random>
 
 #include "lopside/diagnosis.hpp"
 #include "lopside/time_course.hpp"
@@ -149,6 +150,45 @@ TEST(HeatingShare, PureDcGivesTheCathodeSeventyPercentInAGlow) {
   // Symmetric AC splits evenly whatever the regime.
   s.charge_negative_c.value = 1e-6;
   EXPECT_DOUBLE_EQ(heating_share(s, 0.7, "glow", std::nullopt).electrode_a, 0.5);
+}
+
+}  // namespace
+}  // namespace lopside
+
+namespace lopside {
+namespace {
+
+// Two million cycles (50 s at 40 kHz) stream through the time course: memory stays at most
+// kMaxPoints points, and a flip at 31.7 s is still found within the decimated resolution.
+TEST(TimeCourse, MillionsOfCyclesStayBoundedAndKeepTheFlip) {
+  TimeCourse course;
+  const double period = 1.0 / 40e3;
+  std::mt19937_64 rng(3);
+  std::normal_distribution<double> noise(0.0, 2e-5);
+  const std::uint64_t n = 2'000'000;
+  for (std::uint64_t k = 0; k < n; ++k) {
+    CycleRecord c;
+    c.start_s = static_cast<double>(k) * period;
+    c.period_s = period;
+    c.mean_a = (c.start_s < 31.7 ? 4e-4 : -4e-4) + noise(rng);
+    c.charge_positive_c = 1e-7;
+    c.charge_negative_c = 1e-7;
+    course.add(c);
+  }
+  const TimeCourseResult r = course.finish();
+  EXPECT_LE(r.points.size(), TimeCourse::kMaxPoints + 1);
+  EXPECT_GE(r.cycles_per_point, n / TimeCourse::kMaxPoints);
+  std::size_t flips = 0;
+  for (const Event& e : r.events) {
+    if (e.kind != "flip") continue;
+    ++flips;
+    // One decimated point spans 1024 cycles = 25.6 ms here.
+    EXPECT_NEAR(e.time_s, 31.7, 0.05);
+    EXPECT_NEAR(e.level_before_a, 4e-4, 1e-6);
+    EXPECT_NEAR(e.level_after_a, -4e-4, 1e-6);
+  }
+  EXPECT_EQ(flips, 1u);
+  EXPECT_FALSE(r.steady);
 }
 
 }  // namespace
