@@ -58,11 +58,17 @@ void run(benchmark::State& state, bool with_voltage, bool with_harmonics = false
   state.SetLabel("items = samples (frames)");
 }
 
-void BM_CycleEngineCurrentOnly(benchmark::State& state) { run(state, false); }
-void BM_CycleEngineCurrentAndVoltage(benchmark::State& state) { run(state, true); }
+void BM_CycleEngineCurrentOnly(benchmark::State& state) {
+  run(state, false);
+}
+void BM_CycleEngineCurrentAndVoltage(benchmark::State& state) {
+  run(state, true);
+}
 // The same with the cycle-synchronous harmonics (10-cycle blocks, orders 0…40), as `measure`
 // runs by default: the issue allows at most twice the time of the engine alone.
-void BM_CycleEngineWithHarmonics(benchmark::State& state) { run(state, true, true); }
+void BM_CycleEngineWithHarmonics(benchmark::State& state) {
+  run(state, true, true);
+}
 
 }  // namespace
 

@@ -24,16 +24,14 @@
 #include "cli_support.hpp"
 
 namespace fs = std::filesystem;
-using nlohmann::json;
 using lopside::test::Cli;
 using lopside::test::RunResult;
+using lopside::test::shell_quote;
 using lopside::test::slurp;
 using lopside::test::write_file;
-using lopside::test::shell_quote;
+using nlohmann::json;
 
 namespace {
-
-
 
 /// The first line of standard error, checked for the program's prefix, the path and, where
 /// `line` is given, `PATH:LINE:` (the form of InputError::what()).

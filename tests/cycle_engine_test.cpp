@@ -1,10 +1,11 @@
 // Accuracy of the cycle engine against analytic truth. Each check names its reference.
+#include "lopside/cycle_engine.hpp"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <random>
 
-#include "lopside/cycle_engine.hpp"
 #include "signals.hpp"
 
 namespace lopside {
@@ -132,7 +133,8 @@ TEST(CycleEngine, PulsedGlowWithVoltageChannelGivesExactCycleCount) {
   const CycleSummary r = run_engine(s).summary;
   // The voltage rises through mean + ¼ swing at phase asin(0.25)/2π = 0.0402 cycles, so the
   // crossings sit at k + 0.0402 for k = 0…30 inside 30.5 periods: 31 crossings, 30 cycles.
-  EXPECT_EQ(static_cast<long>(r.cycles), expected_whole_cycles(30.5, 0.0, std::asin(0.25) / (2 * M_PI)));
+  EXPECT_EQ(static_cast<long>(r.cycles),
+            expected_whole_cycles(30.5, 0.0, std::asin(0.25) / (2 * M_PI)));
   EXPECT_EQ(r.cycles, 30u);
   // Lobed mean per half: 2·lobe_share·A/π (synth.hpp); symmetric lobes give no DC.
   EXPECT_NEAR(r.dc_offset_a.value, 0.0, 0.025 * 3e-4 + 2 * r.dc_offset_a.u95);
@@ -197,7 +199,8 @@ TEST(CycleEngine, ZeroIsSubtractedAndProbeTolerancesWidenTheUncertainty) {
   EXPECT_NEAR(r.dc_offset_a.value, 0.0006, 0.02 * 3e-4);
   // A noise-free sine leaves only the probe's parts: u = √((a/√3)² + (p·DC/√3)²), k = 2
   // (GUM 4.3.7 rectangular, 5.1.2 quadrature).
-  const double u = std::sqrt(std::pow(0.0002 / std::sqrt(3.0), 2) + std::pow(0.02 * 0.0006 / std::sqrt(3.0), 2));
+  const double u =
+      std::sqrt(std::pow(0.0002 / std::sqrt(3.0), 2) + std::pow(0.02 * 0.0006 / std::sqrt(3.0), 2));
   EXPECT_NEAR(r.dc_offset_a.u95, 2 * u, 0.05 * 2 * u);
 }
 
@@ -223,8 +226,10 @@ TEST(CycleEngine, VoltageFiguresAndPower) {
   const CycleSummary r = run_engine(s).summary;
   EXPECT_NEAR(r.power_w.value, 1000 * 0.02 / 2, 10 * 1e-3);
   EXPECT_NEAR(r.voltage_rms_v.value, 1000 / std::sqrt(2.0), 1000 * 1e-3);
-  EXPECT_NEAR(r.energy_positive_j.value, r.energy_negative_j.value, 1e-3 * r.energy_positive_j.value);
-  EXPECT_NEAR(r.energy_positive_j.value + r.energy_negative_j.value, 10.0 / 32e3, 1e-3 * 10.0 / 32e3);
+  EXPECT_NEAR(r.energy_positive_j.value, r.energy_negative_j.value,
+              1e-3 * r.energy_positive_j.value);
+  EXPECT_NEAR(r.energy_positive_j.value + r.energy_negative_j.value, 10.0 / 32e3,
+              1e-3 * 10.0 / 32e3);
 }
 
 }  // namespace

@@ -1,11 +1,12 @@
 // The diagnosis on synthetic captures with a known cause, one per verdict (issue 5), and the
 // electrode heating share's check value.
+#include "lopside/diagnosis.hpp"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <random>
 
-#include "lopside/diagnosis.hpp"
 #include "lopside/time_course.hpp"
 #include "signals.hpp"
 
@@ -30,7 +31,8 @@ Diagnosed diagnose_spec(const synth::CaptureSpec& spec) {
 }
 
 bool has(const std::vector<std::string>& codes, const char* code) {
-  for (const auto& c : codes) if (c == code) return true;
+  for (const auto& c : codes)
+    if (c == code) return true;
   return false;
 }
 

@@ -52,7 +52,9 @@ CycleSummary run(const Capture& c, const std::function<double(double)>& wave,
   return engine.finish();
 }
 
-double frac(double p) { return p - std::floor(p); }
+double frac(double p) {
+  return p - std::floor(p);
+}
 
 // Odd orders of a band-limited square of peak A: 4A/(nπ) up to `top` (sine basis, phase 0).
 double band_limited_square(double p, int top) {
@@ -111,7 +113,8 @@ TEST(Harmonics, HalfWaveRectifiedSineUnderTenPercentDrift) {
     c.f1_hz = f1;
     c.duration_s = 150.3 / (0.5 * (c.f0_hz + f1));
     const double A = 1.0;
-    const CycleSummary s = run(c, [&](double p) { return std::max(0.0, A * std::sin(2 * kPi * p)); });
+    const CycleSummary s =
+        run(c, [&](double p) { return std::max(0.0, A * std::sin(2 * kPi * p)); });
     const HarmonicSummary& h = *s.harmonics;
     expect_order(h, 1, A / 2, A / 2, "drifting half-wave");
     for (std::size_t n = 2; n <= 20; ++n) {
@@ -182,9 +185,8 @@ TEST(Harmonics, MainsCapturesUseTheIecWindowAndGroups) {
     c.rate_hz = 20e3;
     c.f0_hz = c.f1_hz = f;
     c.duration_s = 61.0 / f;
-    const CycleSummary s = run(c, [](double p) {
-      return std::sin(2 * kPi * p) + 0.05 * std::sin(2 * kPi * 5 * p);
-    });
+    const CycleSummary s =
+        run(c, [](double p) { return std::sin(2 * kPi * p) + 0.05 * std::sin(2 * kPi * 5 * p); });
     const HarmonicSummary& h = *s.harmonics;
     EXPECT_TRUE(h.iec_61000_4_7);
     EXPECT_EQ(h.block_cycles, f == 50.0 ? 10u : 12u);
@@ -216,9 +218,8 @@ TEST(Harmonics, PhaseDoesNotDependOnWhereTheCaptureStarts) {
     Capture c;
     c.start_phase = start;
     c.duration_s = 60.5 / c.f0_hz;
-    const CycleSummary s = run(c, [](double p) {
-      return std::sin(2 * kPi * p) + 0.1 * std::sin(3 * 2 * kPi * p - 1.0);
-    });
+    const CycleSummary s = run(
+        c, [](double p) { return std::sin(2 * kPi * p) + 0.1 * std::sin(3 * 2 * kPi * p - 1.0); });
     const double ph = s.harmonics->orders[3].phase_deg;
     if (start == 0.0) first = ph;
     EXPECT_NEAR(ph, first, 0.1);

@@ -1,13 +1,13 @@
 // The lead-swap split on hand-made summaries: the decomposition (DOMAIN.md, lead-swap test),
 // the GUM propagation of each capture's scatter and of the shared probe's tolerances, the
 // verdict rule and the confidence rule (README.md "lopside swap").
+#include "lopside/lead_swap.hpp"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <optional>
 #include <string>
-
-#include "lopside/lead_swap.hpp"
 
 namespace lopside {
 namespace {
@@ -68,8 +68,8 @@ const Evidence* evidence(const LeadSwapResult& r, const std::string& code) {
 TEST(LeadSwap, ProbeOnElectrodeSplitsIntoHalfDifferenceAndHalfSum) {
   // DOMAIN.md: N = D + E, S = −D + E, so D = (N − S)/2 and E = (N + S)/2.
   // N = +3 mA, S = −1 mA → D = 2 mA, E = 1 mA; asymmetry 0.10 and −0.02 → 0.06 and 0.04.
-  const auto r = analyse_lead_swap(capture(3 * kMa, 1 * kUa, 0.10), capture(-1 * kMa, 1 * kUa, -0.02),
-                                   probe_on(ProbeOn::electrode));
+  const auto r = analyse_lead_swap(capture(3 * kMa, 1 * kUa, 0.10),
+                                   capture(-1 * kMa, 1 * kUa, -0.02), probe_on(ProbeOn::electrode));
   EXPECT_NEAR(r.driver_bias_a.value, 2 * kMa, 1e-15);
   EXPECT_NEAR(r.electrode_bias_a.value, 1 * kMa, 1e-15);
   EXPECT_NEAR(r.driver_asymmetry.value, 0.06, 1e-15);
@@ -80,8 +80,8 @@ TEST(LeadSwap, ProbeOnElectrodeSplitsIntoHalfDifferenceAndHalfSum) {
 TEST(LeadSwap, ProbeOnSupplySplitsTheOtherWayRound) {
   // The supply's part stays with the probed terminal, the electrodes' part reverses:
   // N = D + E, S = D − E, so D = (N + S)/2 = 1 mA and E = (N − S)/2 = 2 mA.
-  const auto r = analyse_lead_swap(capture(3 * kMa, 1 * kUa, 0.10), capture(-1 * kMa, 1 * kUa, -0.02),
-                                   probe_on(ProbeOn::supply));
+  const auto r = analyse_lead_swap(capture(3 * kMa, 1 * kUa, 0.10),
+                                   capture(-1 * kMa, 1 * kUa, -0.02), probe_on(ProbeOn::supply));
   EXPECT_NEAR(r.driver_bias_a.value, 1 * kMa, 1e-15);
   EXPECT_NEAR(r.electrode_bias_a.value, 2 * kMa, 1e-15);
   EXPECT_NEAR(r.driver_asymmetry.value, 0.04, 1e-15);
@@ -94,7 +94,8 @@ TEST(LeadSwap, ProbeOnSupplySplitsTheOtherWayRound) {
 TEST(LeadSwap, ScatterOfTwoIndependentCapturesCombinesAsHalfTheQuadratureSum) {
   // GUM 5.1.2, sensitivities ±½: u = ½·√(uN² + uS²); k = 2 (infinite ν, GUM 6.3.3).
   const double u_n = 10 * kUa, u_s = 20 * kUa;
-  const auto r = analyse_lead_swap(capture(3 * kMa, u_n), capture(-1 * kMa, u_s), probe_on(ProbeOn::electrode));
+  const auto r = analyse_lead_swap(capture(3 * kMa, u_n), capture(-1 * kMa, u_s),
+                                   probe_on(ProbeOn::electrode));
   const double u = 0.5 * std::hypot(u_n, u_s);
   EXPECT_NEAR(r.driver_bias_a.u95, 2 * u, 1e-12);
   EXPECT_NEAR(r.electrode_bias_a.u95, 2 * u, 1e-12);
@@ -114,7 +115,8 @@ TEST(LeadSwap, ProbeOffsetCancelsInTheDifferenceAndAddsFullyToTheSum) {
   const auto electrode = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode, offset, gain_pct));
   const double d = 2 * kMa, e = 1 * kMa;
   EXPECT_NEAR(electrode.driver_bias_a.u95, 2 * std::sqrt(stat2 + g * g * d * d), 1e-12);
-  EXPECT_NEAR(electrode.electrode_bias_a.u95, 2 * std::sqrt(stat2 + u_off * u_off + g * g * e * e), 1e-12);
+  EXPECT_NEAR(electrode.electrode_bias_a.u95, 2 * std::sqrt(stat2 + u_off * u_off + g * g * e * e),
+              1e-12);
   // Without the gain tolerance the offset leaves the difference exactly as the scatter made it.
   const auto offset_only = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode, offset, 0));
   const auto plain = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode));
@@ -127,8 +129,10 @@ TEST(LeadSwap, ProbeOffsetCancelsInTheDifferenceAndAddsFullyToTheSum) {
   EXPECT_NEAR(supply.electrode_bias_a.u95, 2 * std::sqrt(stat2 + g * g * 4e-6), 1e-12);
 
   // Each capture alone carries the whole offset and its own gain part, as `measure` states it.
-  EXPECT_NEAR(electrode.normal_dc_a.u95, 2 * std::sqrt(u_n * u_n + u_off * u_off + g * g * 9e-6), 1e-12);
-  EXPECT_NEAR(electrode.swapped_dc_a.u95, 2 * std::sqrt(u_s * u_s + u_off * u_off + g * g * 1e-6), 1e-12);
+  EXPECT_NEAR(electrode.normal_dc_a.u95, 2 * std::sqrt(u_n * u_n + u_off * u_off + g * g * 9e-6),
+              1e-12);
+  EXPECT_NEAR(electrode.swapped_dc_a.u95, 2 * std::sqrt(u_s * u_s + u_off * u_off + g * g * 1e-6),
+              1e-12);
 }
 
 TEST(LeadSwap, AsymmetryOffsetPartUsesEachCapturesSensitivity) {
@@ -149,7 +153,8 @@ TEST(LeadSwap, AsymmetryOffsetPartUsesEachCapturesSensitivity) {
   EXPECT_NEAR(r.electrode_asymmetry.u95, 2 * std::sqrt(stat2 + sum_off * sum_off), 1e-9);
   EXPECT_NEAR(r.normal_asymmetry.u95, 2 * std::hypot(u_a, c_n * u_off), 1e-9);
   // Like-for-like captures: the offset cancels in the difference.
-  const auto same = analyse_lead_swap(n, capture(0, 1 * kUa, -0.01, u_a), probe_on(ProbeOn::electrode, offset));
+  const auto same =
+      analyse_lead_swap(n, capture(0, 1 * kUa, -0.01, u_a), probe_on(ProbeOn::electrode, offset));
   EXPECT_NEAR(same.driver_asymmetry.u95, 2 * std::sqrt(stat2), 1e-9);
 }
 
@@ -176,14 +181,16 @@ TEST(LeadSwap, FewDegreesOfFreedomWidenTheCoverageFactor) {
 }
 
 TEST(LeadSwap, NegativeToleranceIsAProgrammingError) {
-  EXPECT_THROW(analyse_lead_swap(capture(0, 1e-6), capture(0, 1e-6), probe_on(ProbeOn::electrode, -1e-3)),
-               std::invalid_argument);
+  EXPECT_THROW(
+      analyse_lead_swap(capture(0, 1e-6), capture(0, 1e-6), probe_on(ProbeOn::electrode, -1e-3)),
+      std::invalid_argument);
 }
 
 // --- verdicts -----------------------------------------------------------------------------
 
 TEST(LeadSwap, BiasThatReversesWithTheLeadsIsDriverImbalance) {
-  const auto r = analyse_lead_swap(capture(1 * kMa, 2 * kUa), capture(-1 * kMa, 2 * kUa), probe_on(ProbeOn::electrode));
+  const auto r = analyse_lead_swap(capture(1 * kMa, 2 * kUa), capture(-1 * kMa, 2 * kUa),
+                                   probe_on(ProbeOn::electrode));
   EXPECT_EQ(r.verdict, Verdict::driver_imbalance);
   ASSERT_EQ(r.deciding.size(), 1u);
   EXPECT_EQ(r.deciding[0], "driver_bias");
@@ -205,13 +212,14 @@ TEST(LeadSwap, BiasThatStaysIsSelfRectification) {
   EXPECT_NE(reversed.next_steps[0].find("so A is the preferred cathode"), std::string::npos)
       << reversed.next_steps[0];
   // The same pair seen from a supply terminal is a pure supply part.
-  const auto supply = analyse_lead_swap(capture(1 * kMa, 2 * kUa, 0.03), capture(1 * kMa, 2 * kUa, 0.03),
-                                        probe_on(ProbeOn::supply));
+  const auto supply = analyse_lead_swap(capture(1 * kMa, 2 * kUa, 0.03),
+                                        capture(1 * kMa, 2 * kUa, 0.03), probe_on(ProbeOn::supply));
   EXPECT_EQ(supply.verdict, Verdict::driver_imbalance);
 }
 
 TEST(LeadSwap, BothPartsAreMixed) {
-  const auto r = analyse_lead_swap(capture(3 * kMa, 2 * kUa), capture(-1 * kMa, 2 * kUa), probe_on(ProbeOn::electrode));
+  const auto r = analyse_lead_swap(capture(3 * kMa, 2 * kUa), capture(-1 * kMa, 2 * kUa),
+                                   probe_on(ProbeOn::electrode));
   EXPECT_EQ(r.verdict, Verdict::mixed);
   EXPECT_EQ(r.next_steps.size(), 2u);
 }
@@ -230,7 +238,8 @@ TEST(LeadSwap, APartUnderTenPercentOfTheWholeDoesNotCount) {
 
 TEST(LeadSwap, NoPartWithFineResolutionIsSymmetric) {
   // Parts of +1.5 µA and +0.5 µA within u95 = 2·½√2·5 µA = 7.1 µA, far below 1 % of 17 mA.
-  const auto r = analyse_lead_swap(capture(2 * kUa, 5 * kUa), capture(-1 * kUa, 5 * kUa), probe_on(ProbeOn::electrode));
+  const auto r = analyse_lead_swap(capture(2 * kUa, 5 * kUa), capture(-1 * kUa, 5 * kUa),
+                                   probe_on(ProbeOn::electrode));
   EXPECT_EQ(r.verdict, Verdict::symmetric);
   // Rule: 1 − u95/(1 % of the AC RMS) = 1 − 7.07 µA / 170 µA.
   EXPECT_NEAR(r.confidence, 1 - std::sqrt(2.0) * 5 * kUa / (0.01 * 0.017), 1e-9);
@@ -238,7 +247,8 @@ TEST(LeadSwap, NoPartWithFineResolutionIsSymmetric) {
 
 TEST(LeadSwap, NoPartWithCoarseResolutionIsInconclusive) {
   // u95 of the parts = √2·1 mA, 8 % of the AC RMS: a part could hide in it.
-  const auto r = analyse_lead_swap(capture(0.2 * kMa, 1 * kMa), capture(0.1 * kMa, 1 * kMa), probe_on(ProbeOn::electrode));
+  const auto r = analyse_lead_swap(capture(0.2 * kMa, 1 * kMa), capture(0.1 * kMa, 1 * kMa),
+                                   probe_on(ProbeOn::electrode));
   EXPECT_EQ(r.verdict, Verdict::inconclusive);
   EXPECT_DOUBLE_EQ(r.confidence, 0.0);
   ASSERT_EQ(r.deciding.size(), 1u);
@@ -263,22 +273,26 @@ TEST(LeadSwap, ConfidenceFollowsTheStatedRule) {
   // D = 1 mA, u95(D) = 2·½√2·u. u = 17.68 µA gives u95 = 50 µA: z = 20, 1 − 1/z = 0.95, and
   // E = 0 with u95 50 µA cannot reach 10 % of 1 mA, so nothing halves it.
   const double u_fine = 0.05 * kMa / std::sqrt(2.0);
-  const auto fine = analyse_lead_swap(capture(1 * kMa, u_fine), capture(-1 * kMa, u_fine), probe_on(ProbeOn::electrode));
+  const auto fine = analyse_lead_swap(capture(1 * kMa, u_fine), capture(-1 * kMa, u_fine),
+                                      probe_on(ProbeOn::electrode));
   EXPECT_EQ(fine.verdict, Verdict::driver_imbalance);
   EXPECT_NEAR(fine.confidence, 0.95, 1e-9);
   // u95 = 200 µA: z = 5 gives 0.8, and E's 0 + 200 µA reaches 100 µA, so E could still count:
   // halved to 0.4.
   const double u_coarse = 0.2 * kMa / std::sqrt(2.0);
-  const auto coarse = analyse_lead_swap(capture(1 * kMa, u_coarse), capture(-1 * kMa, u_coarse), probe_on(ProbeOn::electrode));
+  const auto coarse = analyse_lead_swap(capture(1 * kMa, u_coarse), capture(-1 * kMa, u_coarse),
+                                        probe_on(ProbeOn::electrode));
   EXPECT_EQ(coarse.verdict, Verdict::driver_imbalance);
   EXPECT_NEAR(coarse.confidence, 0.4, 1e-9);
 }
 
 TEST(LeadSwap, DifferentFundamentalWarnsAndHalvesTheConfidence) {
   const double u = 0.05 * kMa / std::sqrt(2.0);
-  const auto same = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u), probe_on(ProbeOn::electrode));
+  const auto same =
+      analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u), probe_on(ProbeOn::electrode));
   // 32 against 33 kHz: |Δf| / mean = 1/32.5 = 3.1 % > 2 %.
-  const auto other = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 33000),
+  const auto other = analyse_lead_swap(capture(1 * kMa, u),
+                                       capture(-1 * kMa, u, std::nullopt, std::nullopt, 33000),
                                        probe_on(ProbeOn::electrode));
   EXPECT_TRUE(has_warning(other, "may not be the same unit on the same load"));
   EXPECT_TRUE(has_warning(other, "fundamental"));
@@ -286,7 +300,8 @@ TEST(LeadSwap, DifferentFundamentalWarnsAndHalvesTheConfidence) {
   EXPECT_NEAR(other.confidence, 0.5 * same.confidence, 1e-12);
   EXPECT_FALSE(has_warning(same, "same unit"));
   // 1.9 % is within the limit.
-  const auto close = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32615),
+  const auto close = analyse_lead_swap(capture(1 * kMa, u),
+                                       capture(-1 * kMa, u, std::nullopt, std::nullopt, 32615),
                                        probe_on(ProbeOn::electrode));
   EXPECT_FALSE(has_warning(close, "same unit"));
 }
@@ -294,19 +309,22 @@ TEST(LeadSwap, DifferentFundamentalWarnsAndHalvesTheConfidence) {
 TEST(LeadSwap, DifferentAcRmsWarns) {
   // 17 against 20 mA: 3/18.5 = 16.2 % > 15 %; 17 against 19.5 mA: 13.7 %, no warning.
   const double u = 0.05 * kMa / std::sqrt(2.0);
-  const auto far = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.020),
+  const auto far = analyse_lead_swap(capture(1 * kMa, u),
+                                     capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.020),
                                      probe_on(ProbeOn::electrode));
   EXPECT_TRUE(has_warning(far, "AC RMS"));
   EXPECT_NEAR(far.confidence, 0.5 * 0.95, 1e-9);
-  const auto near = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.0195),
-                                      probe_on(ProbeOn::electrode));
+  const auto near = analyse_lead_swap(
+      capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.0195),
+      probe_on(ProbeOn::electrode));
   EXPECT_FALSE(has_warning(near, "AC RMS"));
 }
 
 TEST(LeadSwap, AsymmetryDisagreeingWithTheDcLowersTheConfidence) {
   // DC parts say supply only; equal asymmetries say electrodes only.
   const double u = 0.05 * kMa / std::sqrt(2.0);
-  const auto r = analyse_lead_swap(capture(1 * kMa, u, 0.02), capture(-1 * kMa, u, 0.02), probe_on(ProbeOn::electrode));
+  const auto r = analyse_lead_swap(capture(1 * kMa, u, 0.02), capture(-1 * kMa, u, 0.02),
+                                   probe_on(ProbeOn::electrode));
   EXPECT_EQ(r.verdict, Verdict::driver_imbalance);
   EXPECT_TRUE(has_warning(r, "disagree"));
   EXPECT_NEAR(r.confidence, 0.75 * 0.95, 1e-9);

@@ -39,13 +39,14 @@ TEST_F(Measure, JsonCarriesTheVersionedSchemaAndEveryKey) {
   for (const char* key : {"path", "format", "sample_rate_hz", "samples"}) {
     EXPECT_TRUE(j["input"].contains(key)) << key;
   }
-  for (const char* key : {"fundamental_hz", "cycle_count", "partial_cycles", "dc_offset_a", "rms_a",
-                          "ac_rms_a", "charge_positive_c", "charge_negative_c", "charge_asymmetry",
-                          "positive_share", "peak_positive_a", "peak_negative_a", "clipped_cycles",
-                          "voltage", "warnings"}) {
+  for (const char* key :
+       {"fundamental_hz", "cycle_count", "partial_cycles", "dc_offset_a", "rms_a", "ac_rms_a",
+        "charge_positive_c", "charge_negative_c", "charge_asymmetry", "positive_share",
+        "peak_positive_a", "peak_negative_a", "clipped_cycles", "voltage", "warnings"}) {
     EXPECT_TRUE(j.contains(key)) << key;
   }
-  for (const char* key : {"value", "u95", "significant"}) EXPECT_TRUE(j["dc_offset_a"].contains(key)) << key;
+  for (const char* key : {"value", "u95", "significant"})
+    EXPECT_TRUE(j["dc_offset_a"].contains(key)) << key;
   EXPECT_TRUE(j["clipped_cycles"].contains("positive"));
   EXPECT_TRUE(j["voltage"].contains("power_w"));
 }
@@ -55,7 +56,8 @@ TEST_F(Measure, UnequalHalfPeriodsSample) {
   const json j = measure_json(kSamples + "bt32k-unit0417-dc-fault.csv");
   expect_dc(j, 2 * 0.028 / M_PI * 0.06, 0.028);
   EXPECT_TRUE(j["dc_offset_a"]["significant"].get<bool>());
-  EXPECT_NEAR(j["voltage"]["mean_v"]["value"].get<double>(), 2 * 1800 / M_PI * 0.06, 3e-4 * 1800 + 0.5);
+  EXPECT_NEAR(j["voltage"]["mean_v"]["value"].get<double>(), 2 * 1800 / M_PI * 0.06,
+              3e-4 * 1800 + 0.5);
   EXPECT_NEAR(j["voltage"]["positive_share"]["value"].get<double>(), 0.53, 2e-3);
   EXPECT_NEAR(j["fundamental_hz"]["value"].get<double>(), 32000, 32000 * 1e-4);
   EXPECT_EQ(j["reference"], "voltage");
@@ -86,8 +88,9 @@ TEST_F(Measure, EuropeanExportSample) {
 }
 
 TEST_F(Measure, WavSampleNeedsScaleAndUnits) {
-  const json j = measure_json(kSamples + "bt-rack3-stereo24.wav",
-                              {"--scale", "1=0.1", "--scale", "2=5000", "--unit", "1=A", "--unit", "2=V"});
+  const json j =
+      measure_json(kSamples + "bt-rack3-stereo24.wav",
+                   {"--scale", "1=0.1", "--scale", "2=5000", "--unit", "1=A", "--unit", "2=V"});
   // Negative lobe weaker by ε = 0.03: DC = εA/π (DOMAIN.md), A = 21 mA.
   expect_dc(j, 0.03 * 0.021 / M_PI, 0.021);
   // Charge asymmetry of lobes 1 : 0.97 is 0.03/1.97.
@@ -103,7 +106,8 @@ TEST_F(Measure, ClippedSampleIsFlagged) {
   EXPECT_EQ(j["clipped_cycles"]["negative"].get<long>(), j["cycle_count"].get<long>());
   EXPECT_EQ(j["clipped_cycles"]["positive"].get<long>(), 0);
   bool warned = false;
-  for (const auto& w : j["warnings"]) warned = warned || w.get<std::string>().find("clipped") != std::string::npos;
+  for (const auto& w : j["warnings"])
+    warned = warned || w.get<std::string>().find("clipped") != std::string::npos;
   EXPECT_TRUE(warned);
 }
 
@@ -117,7 +121,8 @@ TEST_F(Measure, TextSummaryShowsSignedFiguresWithUncertainty) {
 
 TEST_F(Measure, CyclesTableHasOneRowPerCycle) {
   const fs::path table = dir_ / "cycles.csv";
-  const json j = measure_json(kSamples + "bt32k-unit0412-healthy.csv", {"--cycles", table.string()});
+  const json j =
+      measure_json(kSamples + "bt32k-unit0412-healthy.csv", {"--cycles", table.string()});
   std::ifstream in(table);
   std::string header, line;
   std::getline(in, header);
@@ -149,8 +154,9 @@ TEST_F(Measure, ZeroStretchIsSubtracted) {
 
 TEST_F(Measure, FewerThanTwoCyclesExitsTwoSayingWhatWasFound) {
   const fs::path p = dir_ / "short.csv";
-  const RunResult g = run({"-o", p.string(), "--frequency", "50", "--rate", "10000", "--duration", "0.025"},
-                          LOPSIDE_SYNTH);
+  const RunResult g =
+      run({"-o", p.string(), "--frequency", "50", "--rate", "10000", "--duration", "0.025"},
+          LOPSIDE_SYNTH);
   ASSERT_EQ(g.status, 0) << g.err;
   const RunResult r = run({"measure", p.string()});
   EXPECT_EQ(r.status, 2);
@@ -161,12 +167,14 @@ TEST_F(Measure, FewerThanTwoCyclesExitsTwoSayingWhatWasFound) {
 
 TEST_F(Measure, BadZeroAndProbeOptionsAreUsageErrors) {
   EXPECT_EQ(run({"measure", kSamples + "bt32k-unit0412-healthy.csv", "--zero", "5"}).status, 2);
-  EXPECT_EQ(run({"measure", kSamples + "bt32k-unit0412-healthy.csv", "--probe-offset", "-1"}).status, 2);
+  EXPECT_EQ(
+      run({"measure", kSamples + "bt32k-unit0412-healthy.csv", "--probe-offset", "-1"}).status, 2);
 }
 
 TEST_F(Measure, ProbeTolerancesWidenTheDcUncertainty) {
   const json plain = measure_json(kSamples + "bt32k-unit0412-healthy.csv");
-  const json probe = measure_json(kSamples + "bt32k-unit0412-healthy.csv", {"--probe-offset", "0.0001"});
+  const json probe =
+      measure_json(kSamples + "bt32k-unit0412-healthy.csv", {"--probe-offset", "0.0001"});
   // ±0.1 mA rectangular is 57.7 µA standard (GUM 4.3.7); k = 2 gives at least 115 µA.
   EXPECT_GE(probe["dc_offset_a"]["u95"].get<double>(), 2 * 0.0001 / std::sqrt(3.0));
   EXPECT_LT(plain["dc_offset_a"]["u95"].get<double>(), probe["dc_offset_a"]["u95"].get<double>());
@@ -193,23 +201,30 @@ TEST_F(Measure, SpectrumAgreesWithNumpy) {
   }
   const fs::path capture = file("numpy.csv", text);
   const fs::path spectrum = dir_ / "spectrum.csv";
-  const RunResult r = run({"measure", capture.string(), "--spectrum", spectrum.string(), "--max-order", "10"});
+  const RunResult r =
+      run({"measure", capture.string(), "--spectrum", spectrum.string(), "--max-order", "10"});
   ASSERT_EQ(r.status, 0) << r.err;
   const std::string script =
       "import numpy as np\n"
-      "d = np.loadtxt('" + capture.string() + "', delimiter=',', skiprows=1)\n"
+      "d = np.loadtxt('" +
+      capture.string() +
+      "', delimiter=',', skiprows=1)\n"
       "x = d[:, 1]\n"
       "X = np.fft.rfft(x)\n"
-      "N = len(x); C = " + std::to_string(cycles) + "\n"
+      "N = len(x); C = " +
+      std::to_string(cycles) +
+      "\n"
       "p1 = np.angle(X[C]) + np.pi / 2\n"
       "for n in range(0, 11):\n"
       "    a = X[0].real / N if n == 0 else 2 * abs(X[n * C]) / N\n"
-      "    ph = 0.0 if n == 0 else (np.angle(X[n * C]) + np.pi / 2 - n * p1 + np.pi) % (2 * np.pi) - np.pi\n"
+      "    ph = 0.0 if n == 0 else (np.angle(X[n * C]) + np.pi / 2 - n * p1 + np.pi) % (2 * np.pi) "
+      "- np.pi\n"
       "    print(n, repr(a), repr(np.degrees(ph)))\n";
   const fs::path py = file("check.py", script);
   // Debian's interpreter, where python3-numpy lives (a user-level python3 may shadow it).
   const RunResult np = run({py.string()}, "/usr/bin/python3");
-  ASSERT_EQ(np.status, 0) << "python3 with numpy is needed (tools/bootstrap.sh installs it): " << np.err;
+  ASSERT_EQ(np.status, 0) << "python3 with numpy is needed (tools/bootstrap.sh installs it): "
+                          << np.err;
   std::istringstream ref(np.out);
   std::ifstream ours(spectrum);
   std::string header, line;
@@ -256,7 +271,8 @@ TEST_F(Measure, DiagnosisOfEachSample) {
     ASSERT_TRUE(j.contains("diagnosis")) << file;
     EXPECT_EQ(j["diagnosis"]["verdict"], verdict) << file;
     for (const auto& e : j["diagnosis"]["evidence"]) {
-      for (const char* key : {"code", "value", "threshold", "text"}) EXPECT_TRUE(e.contains(key)) << file << " " << key;
+      for (const char* key : {"code", "value", "threshold", "text"})
+        EXPECT_TRUE(e.contains(key)) << file << " " << key;
     }
     EXPECT_TRUE(j["diagnosis"].contains("confidence"));
     EXPECT_TRUE(j.contains("events"));
@@ -265,7 +281,9 @@ TEST_F(Measure, DiagnosisOfEachSample) {
       EXPECT_TRUE(j["heating_share"].contains(key)) << key;
     }
     // The two shares split the whole electrode heating.
-    EXPECT_NEAR(j["heating_share"]["electrode_a"].get<double>() + j["heating_share"]["electrode_b"].get<double>(), 1.0, 1e-12);
+    EXPECT_NEAR(j["heating_share"]["electrode_a"].get<double>() +
+                    j["heating_share"]["electrode_b"].get<double>(),
+                1.0, 1e-12);
   }
   // The clipped capture never gets a cause.
   const json clipped = measure_json(kSamples + "bt32k-unit0433-clipped.tsv");
@@ -290,7 +308,8 @@ TEST_F(Measure, RegimeChangesTheHeatingSplit) {
   EXPECT_GT(glow["heating_share"]["electrode_b"].get<double>(), 0.5);
   EXPECT_LT(arc["heating_share"]["electrode_b"].get<double>(), 0.5);
   EXPECT_DOUBLE_EQ(arc["heating_share"]["cathode_share_used"].get<double>(), 0.3);
-  EXPECT_EQ(run({"measure", kSamples + "bt60hz-xfmr-glow.csv", "--cathode-share", "1.5"}).status, 2);
+  EXPECT_EQ(run({"measure", kSamples + "bt60hz-xfmr-glow.csv", "--cathode-share", "1.5"}).status,
+            2);
 }
 
 }  // namespace

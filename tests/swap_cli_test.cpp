@@ -22,11 +22,15 @@ using lopside::test::json;
 using lopside::test::RunResult;
 namespace fs = std::filesystem;
 
-constexpr double kPeakA = 0.025;     // 25 mA peak: a cold-cathode supply (DOMAIN.md, 18–30 mA)
-constexpr double kNoiseA = 0.0001;   // 0.1 mA rms recorder noise
+constexpr double kPeakA = 0.025;    // 25 mA peak: a cold-cathode supply (DOMAIN.md, 18–30 mA)
+constexpr double kNoiseA = 0.0001;  // 0.1 mA rms recorder noise
 
-double driver_truth(double s, double r) { return kPeakA / M_PI * (2 * s - 1) * (1 + r); }
-double electrode_truth(double r) { return kPeakA / M_PI * (1 - r); }
+double driver_truth(double s, double r) {
+  return kPeakA / M_PI * (2 * s - 1) * (1 + r);
+}
+double electrode_truth(double r) {
+  return kPeakA / M_PI * (1 - r);
+}
 
 class Swap : public Cli {
  protected:
@@ -34,16 +38,21 @@ class Swap : public Cli {
   fs::path capture(const std::string& name, std::vector<std::string> extra, int seed,
                    double frequency_hz = 32000, double peak_a = kPeakA) {
     const fs::path p = dir_ / name;
-    std::vector<std::string> args{"-o", p.string(), "--frequency", std::to_string(frequency_hz), "--rate", "1e6",
-                                  "--duration", "0.005", "--peak", std::to_string(peak_a),
-                                  "--noise-rms", std::to_string(kNoiseA), "--seed", std::to_string(seed)};
+    std::vector<std::string> args{"-o",          p.string(),
+                                  "--frequency", std::to_string(frequency_hz),
+                                  "--rate",      "1e6",
+                                  "--duration",  "0.005",
+                                  "--peak",      std::to_string(peak_a),
+                                  "--noise-rms", std::to_string(kNoiseA),
+                                  "--seed",      std::to_string(seed)};
     args.insert(args.end(), extra.begin(), extra.end());
     const RunResult g = run(args, LOPSIDE_SYNTH);
     EXPECT_EQ(g.status, 0) << g.err;
     return p;
   }
 
-  json swap_json(const fs::path& normal, const fs::path& swapped, std::vector<std::string> extra = {}) {
+  json swap_json(const fs::path& normal, const fs::path& swapped,
+                 std::vector<std::string> extra = {}) {
     std::vector<std::string> args{"swap", normal.string(), swapped.string(), "--json", "-"};
     args.insert(args.end(), extra.begin(), extra.end());
     return run_json(args);
@@ -109,7 +118,8 @@ TEST_F(Swap, ProbeOnSupplyTerminal) {
   // DC_S = (2/π)(rA/2 − A/2) = −(A/π)(1 − r), and E = (N − S)/2 = (A/π)(1 − r), D = 0.
   const double ratio = 0.9;
   const fs::path n = capture("n.csv", {"--negative-ratio", "0.9"}, 7);
-  const fs::path s = capture("s.csv", {"--negative-ratio", std::to_string(1 / ratio)}, 8, 32000, ratio * kPeakA);
+  const fs::path s =
+      capture("s.csv", {"--negative-ratio", std::to_string(1 / ratio)}, 8, 32000, ratio * kPeakA);
   const json j = swap_json(n, s, {"--probe-on", "supply"});
   expect_parts(j, 0.0, electrode_truth(ratio));
   EXPECT_EQ(j["verdict"], "self_rectification");
@@ -127,7 +137,8 @@ TEST_F(Swap, ProbeOffsetWidensOnlyTheSum) {
   const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 10);
   const json plain = swap_json(n, s);
   const json probed = swap_json(n, s, {"--probe-offset", "0.0002"});
-  EXPECT_DOUBLE_EQ(probed["driver_bias_a"]["u95"].get<double>(), plain["driver_bias_a"]["u95"].get<double>());
+  EXPECT_DOUBLE_EQ(probed["driver_bias_a"]["u95"].get<double>(),
+                   plain["driver_bias_a"]["u95"].get<double>());
   const double e_plain = plain["electrode_bias_a"]["u95"].get<double>() / 2;
   EXPECT_NEAR(probed["electrode_bias_a"]["u95"].get<double>(),
               2 * std::hypot(e_plain, 0.0002 / std::sqrt(3.0)), 1e-12);
@@ -163,21 +174,25 @@ TEST_F(Swap, JsonCarriesTheSchemaAndEveryKey) {
   const fs::path s = capture("s.csv", {"--negative-ratio", "0.9"}, 16);
   const json j = swap_json(n, s);
   EXPECT_EQ(j["schema"], "lopside.swap/1");
-  for (const char* key : {"driver_bias_a", "electrode_bias_a", "driver_asymmetry", "electrode_asymmetry"}) {
+  for (const char* key :
+       {"driver_bias_a", "electrode_bias_a", "driver_asymmetry", "electrode_asymmetry"}) {
     EXPECT_TRUE(j[key].contains("value")) << key;
     EXPECT_TRUE(j[key].contains("u95")) << key;
   }
-  for (const char* key : {"verdict", "confidence", "evidence", "warnings", "next_steps", "probe_on"}) {
+  for (const char* key :
+       {"verdict", "confidence", "evidence", "warnings", "next_steps", "probe_on"}) {
     EXPECT_TRUE(j.contains(key)) << key;
   }
   for (const char* side : {"normal", "swapped"}) {
-    for (const char* key : {"path", "dc_offset_a", "charge_asymmetry", "fundamental_hz", "ac_rms_a"}) {
+    for (const char* key :
+         {"path", "dc_offset_a", "charge_asymmetry", "fundamental_hz", "ac_rms_a"}) {
       EXPECT_TRUE(j[side].contains(key)) << side << "." << key;
     }
   }
   EXPECT_EQ(j["normal"]["path"], n.string());
   ASSERT_FALSE(j["evidence"].empty());
-  for (const char* key : {"code", "value", "threshold", "text"}) EXPECT_TRUE(j["evidence"][0].contains(key)) << key;
+  for (const char* key : {"code", "value", "threshold", "text"})
+    EXPECT_TRUE(j["evidence"][0].contains(key)) << key;
   EXPECT_EQ(j["probe_on"], "electrode");
 }
 
@@ -188,7 +203,10 @@ TEST_F(Swap, TextShowsThePartsTheSignConventionAndTheCaution) {
   ASSERT_EQ(r.status, 0) << r.err;
   // D = (A/π)·0.04·2 = +637 µA.
   EXPECT_NE(r.out.find("supply part D       +6"), std::string::npos) << r.out;
-  EXPECT_NE(r.out.find(" \xC2\xB5" "A \xC2\xB1 "), std::string::npos) << r.out;
+  EXPECT_NE(r.out.find(" \xC2\xB5"
+                       "A \xC2\xB1 "),
+            std::string::npos)
+      << r.out;
   EXPECT_NE(r.out.find("driver_imbalance"), std::string::npos);
   EXPECT_NE(r.out.find("Sign convention"), std::string::npos);
   EXPECT_NE(r.out.find("High voltage can kill: exchange leads only with the supply isolated and "

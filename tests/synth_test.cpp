@@ -528,7 +528,9 @@ TEST(SynthTimeCourse, BuildUpFollowsTheFirstOrderModelAndFlipNegatesTheDc) {
   lopside::synth::Generator g(s);
   for (const double t : {0.0, 0.25, 0.5, 1.0, 1.49}) {
     const double ratio = 1 + (0.8 - 1) * (1 - std::exp(-t / 0.5));
-    EXPECT_NEAR(lopside::synth::cycle_mean(g.current_waveform_at(t)), (2 / M_PI) * 0.5 * (1 - ratio), 1e-12) << t;
+    EXPECT_NEAR(lopside::synth::cycle_mean(g.current_waveform_at(t)),
+                (2 / M_PI) * 0.5 * (1 - ratio), 1e-12)
+        << t;
   }
   const double before = lopside::synth::cycle_mean(g.current_waveform_at(1.4999));
   const double after = lopside::synth::cycle_mean(g.current_waveform_at(1.5));

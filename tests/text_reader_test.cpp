@@ -65,7 +65,8 @@ TEST(TextReader, CommaWithTimeColumnAndUnitsInBrackets) {
 }
 
 TEST(TextReader, SemicolonMeansDecimalCommaAndCrlf) {
-  const Read r = read_all("Zeit (ms);Strom (uA);U (mV)\r\n0,0;1,5;-2,25\r\n0,5;2,5;7\r\n1,0;-3,75;0\r\n");
+  const Read r =
+      read_all("Zeit (ms);Strom (uA);U (mV)\r\n0,0;1,5;-2,25\r\n0,5;2,5;7\r\n1,0;-3,75;0\r\n");
   EXPECT_EQ(r.info.format, "csv-semicolon");
   EXPECT_NEAR(r.info.sample_rate_hz, 2000.0, 1e-9);
   EXPECT_DOUBLE_EQ(r.columns[0][2], -3.75e-6);
@@ -92,7 +93,8 @@ TEST(TextReader, PreambleCommentsQuotedHeaderAndMicroSigns) {
       "Unit,BT-32K serial 0042\n"
       "\n"
       "# operator note: probe on lead A\n"
-      "\"time (\xC2\xB5s)\",\"current (\xCE\xBC" "A)\"\n"
+      "\"time (\xC2\xB5s)\",\"current (\xCE\xBC"
+      "A)\"\n"
       "0,10\n"
       "# mid-file comment\n"
       "0.25,20\n"
@@ -187,7 +189,8 @@ TEST(TextReader, ExplicitRolesByNameAndNumber) {
 
 TEST(TextReader, BlockSizeDoesNotChangeTheSamples) {
   std::string text = "t (s),i (A)\n";
-  for (int k = 0; k < 1000; ++k) text += std::to_string(k * 1e-6) + "," + std::to_string(k % 17) + "\n";
+  for (int k = 0; k < 1000; ++k)
+    text += std::to_string(k * 1e-6) + "," + std::to_string(k % 17) + "\n";
   const Read a = read_all(text, {}, 7);
   const Read b = read_all(text, {}, 4096);
   EXPECT_EQ(a.columns, b.columns);
@@ -212,7 +215,8 @@ TEST(TextReaderErrors, MalformedCellMidFileAndSkipping) {
   const Read r = read_all(text, skip);
   EXPECT_EQ(r.info.frames.value(), 4u);
   bool reported = false;
-  for (const auto& w : r.warnings) reported = reported || w.find("skipped 1 malformed row") != std::string::npos;
+  for (const auto& w : r.warnings)
+    reported = reported || w.find("skipped 1 malformed row") != std::string::npos;
   EXPECT_TRUE(reported);
   // The skipped row kept its slot on the time base: no gap is reported, the rate is exact.
   EXPECT_NEAR(r.info.sample_rate_hz, 1000.0, 1e-9);

@@ -1,10 +1,10 @@
 // Batch means and the GUM combination rules.
+#include "lopside/uncertainty.hpp"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <random>
-
-#include "lopside/uncertainty.hpp"
 
 namespace lopside {
 namespace {

@@ -49,13 +49,13 @@ struct CycleRecord {
   // current
   double mean_a = 0;  ///< the cycle's DC offset
   double rms_a = 0;
-  double ac_rms_a = 0;  ///< √(rms² − mean²)
+  double ac_rms_a = 0;           ///< √(rms² − mean²)
   double charge_positive_c = 0;  ///< Q+ = ∫max(i,0)dt
   double charge_negative_c = 0;  ///< Q− = ∫max(−i,0)dt
   double charge_asymmetry = 0;   ///< (Q+ − Q−)/(Q+ + Q−)
   double peak_positive_a = 0;
   double peak_negative_a = 0;
-  double positive_share = 0;  ///< share of the period with i > 0
+  double positive_share = 0;       ///< share of the period with i > 0
   bool flat_top_positive = false;  ///< the positive peak is held by ≥ 3 equal samples
   bool flat_top_negative = false;
   bool has_voltage = false;  ///< the voltage fields below are measured
@@ -65,9 +65,9 @@ struct CycleRecord {
   double voltage_peak_positive_v = 0;
   double voltage_peak_negative_v = 0;
   double voltage_positive_share = 0;
-  double power_w = 0;              ///< mean of v·i over the cycle
-  double energy_positive_j = 0;    ///< ∫ v·i dt while i > 0
-  double energy_negative_j = 0;    ///< ∫ v·i dt while i < 0
+  double power_w = 0;            ///< mean of v·i over the cycle
+  double energy_positive_j = 0;  ///< ∫ v·i dt while i > 0
+  double energy_negative_j = 0;  ///< ∫ v·i dt while i < 0
   /// Mean voltage while the current conducts strongly in each direction (|i| above a fifth of
   /// the previous cycle's peak of that polarity): the burning voltage [V]; NaN when unknown.
   double burning_voltage_positive_v = 0;
@@ -88,7 +88,7 @@ struct CycleSummary {
   std::uint64_t excluded_cycles = 0;  ///< whole cycles in the `--zero` stretch, left out
   std::uint64_t frames = 0;
   double samples_per_cycle = 0;  ///< mean period over the sampling interval
-  std::string reference;  ///< "voltage" or "current": the channel whose crossings set cycles
+  std::string reference;         ///< "voltage" or "current": the channel whose crossings set cycles
   Estimate fundamental_hz;
   Estimate dc_offset_a;
   bool dc_significant = false;  ///< |DC| > its u95

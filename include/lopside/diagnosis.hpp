@@ -33,19 +33,19 @@ const char* to_string(Verdict v) noexcept;
 
 struct Diagnosis {
   Verdict verdict = Verdict::inconclusive;
-  double confidence = 0;                 ///< 0…1, by the rule stated in README.md
-  std::vector<std::string> deciding;     ///< codes of the evidence that decided the verdict
-  std::vector<Evidence> evidence;        ///< everything examined, deciding or not
-  std::vector<std::string> next_steps;   ///< one or two things a technician does next
+  double confidence = 0;                ///< 0…1, by the rule stated in README.md
+  std::vector<std::string> deciding;    ///< codes of the evidence that decided the verdict
+  std::vector<Evidence> evidence;       ///< everything examined, deciding or not
+  std::vector<std::string> next_steps;  ///< one or two things a technician does next
 };
 
 /// Thresholds of the evidence; the defaults are documented in README.md with their reasons.
 struct DiagnosisThresholds {
-  double voltage_dc_share = 0.005;          ///< |V_dc| / V_peak
-  double negligible_dc_share = 0.002;       ///< |DC| / AC RMS below which a DC does not matter
-  double voltage_half_period_share = 0.003; ///< |positive share − 0.5|
-  double current_asymmetry = 0.01;          ///< |(Q+ − Q−)/(Q+ + Q−)|
-  double burning_voltage_share = 0.03;      ///< |V+ − |V−|| / mean of the two
+  double voltage_dc_share = 0.005;           ///< |V_dc| / V_peak
+  double negligible_dc_share = 0.002;        ///< |DC| / AC RMS below which a DC does not matter
+  double voltage_half_period_share = 0.003;  ///< |positive share − 0.5|
+  double current_asymmetry = 0.01;           ///< |(Q+ − Q−)/(Q+ + Q−)|
+  double burning_voltage_share = 0.03;       ///< |V+ − |V−|| / mean of the two
   /// Even-harmonic rms over |DC| below this: the DC comes without a half-cycle difference
   /// (a weaker lobe by ε gives H2 = 2εA/(3π) against DC = εA/π, a ratio of 0.47 in rms).
   double even_rms_to_dc = 0.1;
@@ -58,7 +58,7 @@ Diagnosis diagnose(const CycleSummary& summary, const TimeCourseResult& course,
 /// Electrode heating split by the sign convention: positive current flows from the probed lead
 /// into electrode A, so while i > 0 electrode A is the anode and B the cathode.
 struct HeatingShare {
-  double electrode_a = 0;         ///< A's share of the electrode heating, 0…1
+  double electrode_a = 0;  ///< A's share of the electrode heating, 0…1
   double electrode_b = 0;
   double cathode_share_used = 0;  ///< the cathode's heat per coulomb over the sum of both
   std::string regime;             ///< "glow", "arc" or "custom"
@@ -68,7 +68,7 @@ struct HeatingShare {
 
 /// Heat_A = c·Q− + a·Q+ and Heat_B = c·Q+ + a·Q− per cycle (c, a the cathode's and anode's
 /// shares); erosion = rate × charge carried as cathode per hour.
-HeatingShare heating_share(const CycleSummary& summary, double cathode_share, const std::string& regime,
-                           std::optional<double> erosion_ug_per_c);
+HeatingShare heating_share(const CycleSummary& summary, double cathode_share,
+                           const std::string& regime, std::optional<double> erosion_ug_per_c);
 
 }  // namespace lopside

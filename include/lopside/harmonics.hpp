@@ -25,13 +25,13 @@ struct HarmonicConfig {
 };
 
 struct HarmonicOrder {
-  std::size_t order = 0;     ///< 0 is DC
-  double amplitude_a = 0;    ///< mean over blocks of the peak amplitude [A] (DC: the mean, signed)
-  double rms_a = 0;          ///< rms value, aggregated over blocks in the rms sense [A]
-  double phase_deg = 0;      ///< φn − n·φ1 in the sine basis, circular mean over blocks [°]
-  double amplitude_spread_a = 0;  ///< standard deviation of the peak amplitude over blocks [A]
-  double phase_spread_deg = 0;    ///< circular standard deviation of the phase [°]
-  std::optional<double> group_rms_a;     ///< IEC 61000-4-7 harmonic group (mains only)
+  std::size_t order = 0;   ///< 0 is DC
+  double amplitude_a = 0;  ///< mean over blocks of the peak amplitude [A] (DC: the mean, signed)
+  double rms_a = 0;        ///< rms value, aggregated over blocks in the rms sense [A]
+  double phase_deg = 0;    ///< φn − n·φ1 in the sine basis, circular mean over blocks [°]
+  double amplitude_spread_a = 0;      ///< standard deviation of the peak amplitude over blocks [A]
+  double phase_spread_deg = 0;        ///< circular standard deviation of the phase [°]
+  std::optional<double> group_rms_a;  ///< IEC 61000-4-7 harmonic group (mains only)
   std::optional<double> subgroup_rms_a;  ///< IEC 61000-4-7 harmonic subgroup (mains only)
 };
 

@@ -52,10 +52,10 @@ struct SwapProbe {
 
 /// Thresholds of the verdict; README.md gives the rule.
 struct SwapThresholds {
-  double part_share = 0.10;            ///< a part counts from this share of |D| + |E| on
-  double symmetric_u95_share = 0.01;   ///< "symmetric" needs u95 below this share of the AC RMS
-  double frequency_mismatch = 0.02;    ///< fundamentals differing by more: not the same set-up?
-  double ac_rms_mismatch = 0.15;       ///< AC RMS differing by more: not the same load?
+  double part_share = 0.10;           ///< a part counts from this share of |D| + |E| on
+  double symmetric_u95_share = 0.01;  ///< "symmetric" needs u95 below this share of the AC RMS
+  double frequency_mismatch = 0.02;   ///< fundamentals differing by more: not the same set-up?
+  double ac_rms_mismatch = 0.15;      ///< AC RMS differing by more: not the same load?
 };
 
 struct LeadSwapResult {
@@ -68,9 +68,9 @@ struct LeadSwapResult {
   /// `lopside measure` with the same probe flags would state them).
   Estimate normal_dc_a, swapped_dc_a, normal_asymmetry, swapped_asymmetry;
   Verdict verdict = Verdict::inconclusive;
-  double confidence = 0;               ///< 0…1, rule in analyse_lead_swap and README.md
-  std::vector<std::string> deciding;   ///< codes of the evidence that decided the verdict
-  std::vector<Evidence> evidence;      ///< everything examined, deciding or not
+  double confidence = 0;              ///< 0…1, rule in analyse_lead_swap and README.md
+  std::vector<std::string> deciding;  ///< codes of the evidence that decided the verdict
+  std::vector<Evidence> evidence;     ///< everything examined, deciding or not
   std::vector<std::string> warnings;
   std::vector<std::string> next_steps;
 };

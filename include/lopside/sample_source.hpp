@@ -19,8 +19,8 @@ const char* to_string(ChannelRole role) noexcept;
 
 /// One recorded channel (the time column of a text capture is not a channel).
 struct ChannelInfo {
-  std::string name;     ///< header name, or "ch1", "ch2", … when the file has none
-  std::string unit;     ///< SI unit of the values handed out: "A", "V", "s", or "" if unknown
+  std::string name;  ///< header name, or "ch1", "ch2", … when the file has none
+  std::string unit;  ///< SI unit of the values handed out: "A", "V", "s", or "" if unknown
   ChannelRole role = ChannelRole::other;
   std::size_t index = 0;  ///< 1-based channel number, the one `--current 2` refers to
 };

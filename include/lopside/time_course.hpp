@@ -27,8 +27,8 @@ struct CoursePoint {
 struct BuildUp {
   double start_s = 0;  ///< t0, the first cycle's time
   Estimate tau_s;
-  Estimate plateau;     ///< in the series' unit (A for the DC, none for the asymmetry)
-  double initial = 0;   ///< the fitted value at t0
+  Estimate plateau;          ///< in the series' unit (A for the DC, none for the asymmetry)
+  double initial = 0;        ///< the fitted value at t0
   bool significant = false;  ///< beats a constant (F-test), τ inside the record, moves away from 0
 };
 
@@ -53,12 +53,12 @@ struct TimeCourseResult {
   std::uint64_t cycles_per_point = 1;
   std::vector<Segment> segments;  ///< from change-point detection (PELT)
   std::vector<Event> events;
-  std::optional<BuildUp> build_up;             ///< of the DC offset
-  std::optional<BuildUp> asymmetry_build_up;   ///< of the charge asymmetry
-  Estimate drift_a_per_s;    ///< slope of the DC over the capture after any build-up
+  std::optional<BuildUp> build_up;            ///< of the DC offset
+  std::optional<BuildUp> asymmetry_build_up;  ///< of the charge asymmetry
+  Estimate drift_a_per_s;  ///< slope of the DC over the capture after any build-up
   bool drift_significant = false;
-  double scatter_a = 0;      ///< standard deviation of the points about their segments
-  bool steady = false;       ///< no flip, no build-up, no significant drift
+  double scatter_a = 0;  ///< standard deviation of the points about their segments
+  bool steady = false;   ///< no flip, no build-up, no significant drift
 };
 
 class TimeCourse {

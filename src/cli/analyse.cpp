@@ -8,9 +8,9 @@
 #include "lopside/capture_reader.hpp"
 #include "lopside/cycle_engine.hpp"
 #include "lopside/diagnosis.hpp"
-#include "lopside/time_course.hpp"
 #include "lopside/error.hpp"
 #include "lopside/number_parse.hpp"
+#include "lopside/time_course.hpp"
 #include "lopside/uncertainty.hpp"
 #include "progress.hpp"
 #include "reader_flags.hpp"
@@ -31,7 +31,8 @@ std::string channel_list(const CaptureInfo& info) {
   std::string out;
   for (const auto& c : info.channels) {
     if (!out.empty()) out += ", ";
-    out += std::to_string(c.index) + " '" + c.name + "'" + (c.unit.empty() ? "" : " [" + c.unit + "]");
+    out +=
+        std::to_string(c.index) + " '" + c.name + "'" + (c.unit.empty() ? "" : " [" + c.unit + "]");
   }
   return out;
 }
@@ -79,8 +80,8 @@ std::pair<double, double> parse_zero(const std::string& text) {
     const auto b = parse_number(text.substr(colon + 1));
     if (a && b && *b > *a) return {*a, *b};
   }
-  throw CLI::ValidationError("--zero", "expected FROM:TO in seconds with FROM < TO, e.g. 0:0.05; got '" +
-                                           text + "'");
+  throw CLI::ValidationError(
+      "--zero", "expected FROM:TO in seconds with FROM < TO, e.g. 0:0.05; got '" + text + "'");
 }
 
 }  // namespace
@@ -122,8 +123,10 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
   const CaptureInfo& info = source->info();
   const auto current = channel_with_role(info, ChannelRole::current);
   if (!current) {
-    throw InputError(o.capture_path, "no channel is known to carry the current; expected "
-                                     "--current CH (channels: " + channel_list(info) + ")");
+    throw InputError(o.capture_path,
+                     "no channel is known to carry the current; expected "
+                     "--current CH (channels: " +
+                         channel_list(info) + ")");
   }
   const auto voltage = channel_with_role(info, ChannelRole::voltage);
 
@@ -156,8 +159,9 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
   while (const std::size_t n = source->read(block, kBlockFrames)) {
     engine.consume(block);
     frames += n;
-    const double share = info.frames ? static_cast<double>(frames) / static_cast<double>(*info.frames)
-                                     : source->progress();
+    const double share = info.frames
+                             ? static_cast<double>(frames) / static_cast<double>(*info.frames)
+                             : source->progress();
     progress.update(share, frames);
   }
   progress.done();
@@ -189,8 +193,9 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
     for (const auto& w : summary.harmonics->warnings) result.warnings.push_back(w);
   }
   if (std::fabs(result.info.sample_rate_hz / config.sample_rate_hz - 1.0) > 1e-6) {
-    result.warnings.push_back("the time column's final fit moved the sample rate by more than "
-                              "1e-6 after the first rows; times may be off by that share");
+    result.warnings.push_back(
+        "the time column's final fit moved the sample rate by more than "
+        "1e-6 after the first rows; times may be off by that share");
   }
   return result;
 }

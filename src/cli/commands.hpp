@@ -4,12 +4,10 @@
 /// has a plain options struct, a setup function that binds its flags, and a run function that
 /// does the work. One command, one source file.
 
-#include <string>
-
 #include <CLI/CLI.hpp>
-
 #include <functional>
 #include <optional>
+#include <string>
 
 #include "lopside/measure_report.hpp"
 #include "lopside/reader_options.hpp"
@@ -57,11 +55,11 @@ MeasureResult analyse_capture(const AnalysisOptions& options,
 /// [analysis flags]`
 struct MeasureOptions {
   AnalysisOptions analysis;
-  std::string json_path;      ///< empty for none, "-" for standard output
-  std::string cycles_path;    ///< per-cycle CSV; empty for none
-  std::string spectrum_path;  ///< per-order harmonic table as CSV; empty for none
-  std::string regime = "glow";          ///< electrode heating split: glow (70:30) or arc (30:70)
-  std::optional<double> cathode_share;  ///< overrides the regime's cathode share, 0…1
+  std::string json_path;                   ///< empty for none, "-" for standard output
+  std::string cycles_path;                 ///< per-cycle CSV; empty for none
+  std::string spectrum_path;               ///< per-order harmonic table as CSV; empty for none
+  std::string regime = "glow";             ///< electrode heating split: glow (70:30) or arc (30:70)
+  std::optional<double> cathode_share;     ///< overrides the regime's cathode share, 0…1
   std::optional<double> erosion_ug_per_c;  ///< cathode erosion rate for the erosion estimate
 };
 
@@ -72,11 +70,11 @@ void run_measure(const MeasureOptions& options);
 
 /// `lopside swap NORMAL SWAPPED [--probe-on electrode|supply] [--json FILE|-] [analysis flags]`
 struct SwapOptions {
-  std::string normal_path;              ///< capture with the leads as normal
-  std::string swapped_path;             ///< capture with the supply's output leads exchanged
-  std::string probe_on = "electrode";   ///< where the probe stayed: "electrode" or "supply"
-  std::string json_path;                ///< empty for none, "-" for standard output
-  AnalysisOptions analysis;             ///< shared by both captures; capture_path is set per capture
+  std::string normal_path;             ///< capture with the leads as normal
+  std::string swapped_path;            ///< capture with the supply's output leads exchanged
+  std::string probe_on = "electrode";  ///< where the probe stayed: "electrode" or "supply"
+  std::string json_path;               ///< empty for none, "-" for standard output
+  AnalysisOptions analysis;            ///< shared by both captures; capture_path is set per capture
 };
 
 void setup_swap(CLI::App& app);

@@ -2,11 +2,10 @@
 // main only builds the command line and maps errors to exit statuses; the commands live one per
 // file (see commands.hpp).
 
+#include <CLI/CLI.hpp>
 #include <exception>
 #include <iostream>
 #include <string>
-
-#include <CLI/CLI.hpp>
 
 #include "commands.hpp"
 #include "lopside/error.hpp"

@@ -15,11 +15,14 @@ namespace lopside::cli {
 void setup_measure(CLI::App& app) {
   auto options = std::make_shared<MeasureOptions>();
   CLI::App* sub = app.add_subcommand(
-      "measure", "Measure cycle by cycle: DC offset, RMS, charge asymmetry, harmonics, with uncertainty");
-  sub->add_option("CAPTURE", options->analysis.capture_path, "The capture file (CSV/TSV text, WAV, …)")
+      "measure",
+      "Measure cycle by cycle: DC offset, RMS, charge asymmetry, harmonics, with uncertainty");
+  sub->add_option("CAPTURE", options->analysis.capture_path,
+                  "The capture file (CSV/TSV text, WAV, …)")
       ->required();
-  sub->add_option("--json", options->json_path,
-                  "Also write the results as JSON to FILE; '-' writes them alone to standard output")
+  sub->add_option(
+         "--json", options->json_path,
+         "Also write the results as JSON to FILE; '-' writes them alone to standard output")
       ->type_name("FILE|-");
   sub->add_option("--cycles", options->cycles_path, "Write the per-cycle table as CSV to FILE")
       ->type_name("FILE.csv");

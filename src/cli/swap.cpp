@@ -17,7 +17,8 @@ namespace {
 // Measures one capture with the probe's tolerances set to 0: what remains in the u95 is the
 // capture's own scatter (and its --zero stretch's), independent of the other capture. The
 // probe's tolerances are added once, by analyse_lead_swap, because the same probe took both.
-SwapCapture measure_one(const AnalysisOptions& shared, const std::string& path, SwapCaptureReport& report) {
+SwapCapture measure_one(const AnalysisOptions& shared, const std::string& path,
+                        SwapCaptureReport& report) {
   AnalysisOptions o = shared;
   o.capture_path = path;
   o.probe_offset_a = 0;
@@ -42,7 +43,8 @@ void setup_swap(CLI::App& app) {
       "swap",
       "Lead-swap test: split the DC into the supply's part (reverses with the leads) and the "
       "electrodes' part (stays), from a capture with the leads normal and one with them exchanged");
-  sub->add_option("NORMAL", options->normal_path, "The capture with the leads as normal")->required();
+  sub->add_option("NORMAL", options->normal_path, "The capture with the leads as normal")
+      ->required();
   sub->add_option("SWAPPED", options->swapped_path,
                   "The capture with the supply's two output leads exchanged")
       ->required();
@@ -51,8 +53,9 @@ void setup_swap(CLI::App& app) {
                   "the same supply terminal (supply)")
       ->check(CLI::IsMember({"electrode", "supply"}))
       ->capture_default_str();
-  sub->add_option("--json", options->json_path,
-                  "Also write the results as JSON to FILE; '-' writes them alone to standard output")
+  sub->add_option(
+         "--json", options->json_path,
+         "Also write the results as JSON to FILE; '-' writes them alone to standard output")
       ->type_name("FILE|-");
   add_analysis_flags(*sub, options->analysis);
   // The harmonic settings do nothing here: no flag that is silently ignored.

@@ -253,8 +253,8 @@ struct CycleEngine::Impl {
       level_mean = whole_sum / static_cast<double>(last - first);
       half_swing = 0.5 * (whole_hi - whole_lo);
       const double spc = static_cast<double>(last - first) / static_cast<double>(count - 1);
-      fit_half_width = std::clamp<std::size_t>(static_cast<std::size_t>(std::lround(kFitShare * spc)),
-                                               1, kMaxFitHalfWidth);
+      fit_half_width = std::clamp<std::size_t>(
+          static_cast<std::size_t>(std::lround(kFitShare * spc)), 1, kMaxFitHalfWidth);
     } else {
       fit_half_width = kMaxFitHalfWidth;
     }
@@ -358,8 +358,10 @@ struct CycleEngine::Impl {
       }
     }
     if (harmonic) harmonic->on_sample(m, b.i);
-    if (in_cycle) acc.sample(b.i, b.v);
-    else if (!leading_partial) leading_partial = true;
+    if (in_cycle)
+      acc.sample(b.i, b.v);
+    else if (!leading_partial)
+      leading_partial = true;
   }
 
   void add_piece(const Frame& a, const Frame& b, std::uint64_t base, double from, double to) {
@@ -381,8 +383,10 @@ struct CycleEngine::Impl {
     in_cycle = true;
     cycle_start = x;
     acc = CycleAccumulator{};
-    if (std::isfinite(last_peak_pos) && last_peak_pos > 0) acc.burn_threshold_pos = kBurnShare * last_peak_pos;
-    if (std::isfinite(last_peak_neg) && last_peak_neg < 0) acc.burn_threshold_neg = kBurnShare * last_peak_neg;
+    if (std::isfinite(last_peak_pos) && last_peak_pos > 0)
+      acc.burn_threshold_pos = kBurnShare * last_peak_pos;
+    if (std::isfinite(last_peak_neg) && last_peak_neg < 0)
+      acc.burn_threshold_neg = kBurnShare * last_peak_neg;
   }
 
   double time_of(double index) const { return cfg.start_time_s + index * dt; }
@@ -421,8 +425,10 @@ struct CycleEngine::Impl {
       r.energy_negative_j = c.e_neg;
     }
     const double nan = std::numeric_limits<double>::quiet_NaN();
-    r.burning_voltage_positive_v = c.burn_n_pos > 0 ? c.burn_v_pos / static_cast<double>(c.burn_n_pos) : nan;
-    r.burning_voltage_negative_v = c.burn_n_neg > 0 ? c.burn_v_neg / static_cast<double>(c.burn_n_neg) : nan;
+    r.burning_voltage_positive_v =
+        c.burn_n_pos > 0 ? c.burn_v_pos / static_cast<double>(c.burn_n_pos) : nan;
+    r.burning_voltage_negative_v =
+        c.burn_n_neg > 0 ? c.burn_v_neg / static_cast<double>(c.burn_n_neg) : nan;
     last_peak_pos = c.max_i;
     last_peak_neg = c.min_i;
 
@@ -433,8 +439,8 @@ struct CycleEngine::Impl {
     half_swing += kSwingSmoothing * (ref_half - half_swing);
 
     const double end_s = time_of(end);
-    const bool excluded = cfg.exclude_s && r.start_s < cfg.exclude_s->second &&
-                          end_s > cfg.exclude_s->first;
+    const bool excluded =
+        cfg.exclude_s && r.start_s < cfg.exclude_s->second && end_s > cfg.exclude_s->first;
     ++cycle_index;
     if (excluded) {
       ++summary.excluded_cycles;
@@ -553,21 +559,24 @@ struct CycleEngine::Impl {
     s.dc_offset_a = estimate(a.dc, {{u_off, 1e300}, {u_gain_rel * std::fabs(dc), 1e300}, zero});
     s.dc_significant = std::fabs(s.dc_offset_a.value) > s.dc_offset_a.u95;
     const double rms = std::sqrt(std::max(a.ms.mean(), 0.0));
-    s.rms_a = root(a.ms, {{u_gain_rel, 1e300},
-                          {rms > 0 ? std::hypot(u_off, zero.standard) * std::fabs(dc) / rms / rms : 0,
-                           1e300}});
+    s.rms_a =
+        root(a.ms,
+             {{u_gain_rel, 1e300},
+              {rms > 0 ? std::hypot(u_off, zero.standard) * std::fabs(dc) / rms / rms : 0, 1e300}});
     s.ac_rms_a = root(a.ac_ms, {{u_gain_rel, 1e300}});
     const double period = span / static_cast<double>(s.cycles);
     const double share = a.share.mean();
-    s.charge_positive_c = estimate(a.q_pos, {{u_gain_rel * a.q_pos.mean(), 1e300},
-                                             {std::hypot(u_off, zero.standard) * period * share, 1e300}});
-    s.charge_negative_c = estimate(a.q_neg, {{u_gain_rel * a.q_neg.mean(), 1e300},
-                                             {std::hypot(u_off, zero.standard) * period * (1 - share), 1e300}});
+    s.charge_positive_c =
+        estimate(a.q_pos, {{u_gain_rel * a.q_pos.mean(), 1e300},
+                           {std::hypot(u_off, zero.standard) * period * share, 1e300}});
+    s.charge_negative_c =
+        estimate(a.q_neg, {{u_gain_rel * a.q_neg.mean(), 1e300},
+                           {std::hypot(u_off, zero.standard) * period * (1 - share), 1e300}});
     // An offset δ moves Q+ − Q− by δ·T and Q+ + Q− by far less: ∂A/∂δ ≈ T/(Q+ + Q−). The gain
     // cancels in the ratio.
     const double q_sum = a.q_pos.mean() + a.q_neg.mean();
-    s.charge_asymmetry =
-        estimate(a.asym, {{q_sum > 0 ? std::hypot(u_off, zero.standard) * period / q_sum : 0, 1e300}});
+    s.charge_asymmetry = estimate(
+        a.asym, {{q_sum > 0 ? std::hypot(u_off, zero.standard) * period / q_sum : 0, 1e300}});
     s.positive_share = estimate(a.share);
     // A sampled peak misses the true one by up to A·(1 − cos(π/N)) for N samples per cycle
     // (the crest falls between two samples at worst): a type-B part, rectangular.
@@ -596,11 +605,14 @@ struct CycleEngine::Impl {
       s.energy_positive_j = estimate(a.e_pos, {{u_gain_rel * std::fabs(a.e_pos.mean()), 1e300}});
       s.energy_negative_j = estimate(a.e_neg, {{u_gain_rel * std::fabs(a.e_neg.mean()), 1e300}});
       const double nan = std::numeric_limits<double>::quiet_NaN();
-      s.burning_voltage_positive_v = a.burn_pos.count() >= 2 ? estimate(a.burn_pos) : Estimate{nan, nan, 2};
-      s.burning_voltage_negative_v = a.burn_neg.count() >= 2 ? estimate(a.burn_neg) : Estimate{nan, nan, 2};
+      s.burning_voltage_positive_v =
+          a.burn_pos.count() >= 2 ? estimate(a.burn_pos) : Estimate{nan, nan, 2};
+      s.burning_voltage_negative_v =
+          a.burn_neg.count() >= 2 ? estimate(a.burn_neg) : Estimate{nan, nan, 2};
     }
     if (s.clipped_positive > 0 || s.clipped_negative > 0) {
-      s.warnings.push_back(std::to_string(s.clipped_positive) + " cycle(s) clipped at the positive and " +
+      s.warnings.push_back(std::to_string(s.clipped_positive) +
+                           " cycle(s) clipped at the positive and " +
                            std::to_string(s.clipped_negative) +
                            " at the negative extreme of the recording: the DC offset and the "
                            "charge asymmetry are not trustworthy (widen the recorder's range)");

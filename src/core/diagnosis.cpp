@@ -1,10 +1,10 @@
 #include "lopside/diagnosis.hpp"
 
-#include "lopside/uncertainty.hpp"
-
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+
+#include "lopside/uncertainty.hpp"
 
 namespace lopside {
 namespace {
@@ -15,7 +15,9 @@ std::string num(double v, const char* fmt = "%.3g") {
   return buf;
 }
 
-std::string pct(double share) { return num(100 * share, "%.2f") + " %"; }
+std::string pct(double share) {
+  return num(100 * share, "%.2f") + " %";
+}
 
 // Weights of the deciding evidence in the confidence: 1 − Π(1 − w) over the items that support
 // the verdict (README.md states the rule). Items that read the cause off the voltage directly
@@ -47,11 +49,16 @@ double combine_weights(const std::vector<std::string>& codes) {
 
 const char* to_string(Verdict v) noexcept {
   switch (v) {
-    case Verdict::symmetric: return "symmetric";
-    case Verdict::driver_imbalance: return "driver_imbalance";
-    case Verdict::self_rectification: return "self_rectification";
-    case Verdict::mixed: return "mixed";
-    case Verdict::inconclusive: break;
+    case Verdict::symmetric:
+      return "symmetric";
+    case Verdict::driver_imbalance:
+      return "driver_imbalance";
+    case Verdict::self_rectification:
+      return "self_rectification";
+    case Verdict::mixed:
+      return "mixed";
+    case Verdict::inconclusive:
+      break;
   }
   return "inconclusive";
 }
@@ -67,8 +74,9 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
   const std::uint64_t clipped = s.clipped_positive + s.clipped_negative;
   if (clipped > 0) {
     add("clipped", static_cast<double>(clipped), 0,
-        std::to_string(clipped) + " cycle(s) sit on the recorder's extreme: clipping of one "
-        "polarity fakes a DC and an asymmetry, so nothing can be concluded from this capture.");
+        std::to_string(clipped) +
+            " cycle(s) sit on the recorder's extreme: clipping of one "
+            "polarity fakes a DC and an asymmetry, so nothing can be concluded from this capture.");
   }
   const double dc = s.dc_offset_a.value;
   const bool dc_significant = s.dc_significant;
@@ -88,21 +96,24 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
   std::vector<std::string> driver_codes, self_codes;
   bool voltage_symmetric = false;
   if (s.has_voltage) {
-    const double vpeak = 0.5 * (std::fabs(s.voltage_peak_positive_v.value) + std::fabs(s.voltage_peak_negative_v.value));
+    const double vpeak = 0.5 * (std::fabs(s.voltage_peak_positive_v.value) +
+                                std::fabs(s.voltage_peak_negative_v.value));
     const double vdc_share = vpeak > 0 ? s.voltage_mean_v.value / vpeak : 0.0;
     const bool vdc = std::fabs(vdc_share) > th.voltage_dc_share &&
                      std::fabs(s.voltage_mean_v.value) > s.voltage_mean_v.u95;
     add("voltage_dc", vdc_share, th.voltage_dc_share,
         vdc ? "The voltage carries a DC component of " + pct(vdc_share) +
                   " of its peak: the supply's switching is unbalanced."
-            : "The voltage has no DC component beyond " + pct(th.voltage_dc_share) + " of its peak.");
+            : "The voltage has no DC component beyond " + pct(th.voltage_dc_share) +
+                  " of its peak.");
     const double half = s.voltage_positive_share.value - 0.5;
     const bool vhalf = std::fabs(half) > th.voltage_half_period_share &&
                        std::fabs(half) > s.voltage_positive_share.u95;
     add("voltage_half_periods", half, th.voltage_half_period_share,
         vhalf ? "The voltage's positive half lasts " + pct(s.voltage_positive_share.value) +
                     " of the period: the supply switches unevenly."
-              : "The voltage's half-periods are equal within " + pct(th.voltage_half_period_share) + ".");
+              : "The voltage's half-periods are equal within " + pct(th.voltage_half_period_share) +
+                    ".");
     if (vdc) {
       driver = true;
       driver_codes.push_back("voltage_dc");
@@ -113,7 +124,8 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     }
     voltage_symmetric = !vdc && !vhalf;
     const double asym = s.charge_asymmetry.value;
-    const bool current_only = voltage_symmetric && std::fabs(asym) > th.current_asymmetry && asym_significant;
+    const bool current_only =
+        voltage_symmetric && std::fabs(asym) > th.current_asymmetry && asym_significant;
     add("current_asymmetric_voltage_symmetric", asym, th.current_asymmetry,
         current_only ? "The current's half-cycles differ (charge asymmetry " + num(asym, "%+.4f") +
                            ") while the voltage is symmetric: the discharge itself rectifies."
@@ -134,16 +146,19 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
       // sine half above a fifth of its peak), taken as a rectangular half-width.
       const double n_window = std::max(1.0, 0.43 * s.samples_per_cycle);
       const double u_grid = 2.0 * rectangular(mean_burn / n_window) * std::sqrt(2.0);
-      const double u = std::hypot(std::hypot(s.burning_voltage_positive_v.u95, s.burning_voltage_negative_v.u95),
-                                  u_grid) / mean_burn;
+      const double u =
+          std::hypot(std::hypot(s.burning_voltage_positive_v.u95, s.burning_voltage_negative_v.u95),
+                     u_grid) /
+          mean_burn;
       const bool burn = std::fabs(diff) > th.burning_voltage_share && std::fabs(diff) > u;
       add("burning_voltage_asymmetry", diff, th.burning_voltage_share,
           burn ? "The burning voltage differs by polarity (" + pct(diff) +
                      "): the electrodes differ as cathodes."
-               : "The burning voltage is the same in both directions within " + pct(th.burning_voltage_share) + ".");
+               : "The burning voltage is the same in both directions within " +
+                     pct(th.burning_voltage_share) + ".");
       if (burn) {
         self = true;
-          self_codes.push_back("burning_voltage_asymmetry");
+        self_codes.push_back("burning_voltage_asymmetry");
       }
     }
   } else {
@@ -169,8 +184,9 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
   std::size_t flips = 0;
   for (const Event& e : course.events) flips += e.kind == "flip" ? 1u : 0u;
   add("polarity_flip", static_cast<double>(flips), 0,
-      flips ? std::to_string(flips) + " polarity flip(s): the discharge picks its cathode, so the "
-                                      "bias is the discharge's, not the supply's."
+      flips ? std::to_string(flips) +
+                  " polarity flip(s): the discharge picks its cathode, so the "
+                  "bias is the discharge's, not the supply's."
             : "The DC keeps its sign throughout.");
   if (flips) {
     self = true;
@@ -182,7 +198,8 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
   if (s.harmonics && s.harmonics->orders.size() > 2 && dc_significant) {
     const HarmonicSummary& h = *s.harmonics;
     double even2 = 0;
-    for (std::size_t n = 2; n < h.orders.size(); n += 2) even2 += h.orders[n].rms_a * h.orders[n].rms_a;
+    for (std::size_t n = 2; n < h.orders.size(); n += 2)
+      even2 += h.orders[n].rms_a * h.orders[n].rms_a;
     const double ratio = std::sqrt(even2) / std::fabs(dc);
     offset_like = ratio < th.even_rms_to_dc;
     add("even_harmonics", ratio, th.even_rms_to_dc,
@@ -191,7 +208,8 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
                   " of the DC): the half-cycles have one shape, so a probe offset or a DC leak is "
                   "more likely than a half-cycle difference; zero the probe (--zero)."
             : "Even harmonics (rms " + pct(ratio) +
-                  " of the DC) come with the DC, as a difference between the half-cycles must give.");
+                  " of the DC) come with the DC, as a difference between the half-cycles must "
+                  "give.");
   }
 
   // A rectifying discharge changes the shape of one half-cycle, and that makes even
@@ -201,7 +219,8 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     for (const char* echo : {"current_asymmetric_voltage_symmetric", "burning_voltage_asymmetry"}) {
       if (std::erase(self_codes, std::string(echo)) == 0) continue;
       for (Evidence& e : d.evidence) {
-        if (e.code == echo) e.text = "Discounted (no even harmonics, see even_harmonics): " + e.text;
+        if (e.code == echo)
+          e.text = "Discounted (no even harmonics, see even_harmonics): " + e.text;
       }
     }
     self = !self_codes.empty();
@@ -249,27 +268,36 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
       d.next_steps.push_back("No DC to act on; keep this capture as the unit's reference.");
       break;
     case Verdict::driver_imbalance:
-      d.next_steps.push_back("Check the inverter's switch timing and drive symmetry (dead times, gate drive, "
-                             "output capacitor).");
-      d.next_steps.push_back("Confirm with the lead-swap test (lopside swap): the DC must reverse with the leads.");
+      d.next_steps.push_back(
+          "Check the inverter's switch timing and drive symmetry (dead times, gate drive, "
+          "output capacitor).");
+      d.next_steps.push_back(
+          "Confirm with the lead-swap test (lopside swap): the DC must reverse with the leads.");
       break;
     case Verdict::self_rectification:
-      d.next_steps.push_back("Inspect electrode " + hotter + ", the preferred cathode: it takes the extra heat "
+      d.next_steps.push_back("Inspect electrode " + hotter +
+                             ", the preferred cathode: it takes the extra heat "
                              "and wears first.");
-      d.next_steps.push_back("Confirm with the lead-swap test (lopside swap): the DC must stay with the electrodes.");
+      d.next_steps.push_back(
+          "Confirm with the lead-swap test (lopside swap): the DC must stay with the electrodes.");
       break;
     case Verdict::mixed:
-      d.next_steps.push_back("Run the lead-swap test (lopside swap) to size the supply's and the electrodes' parts.");
-      d.next_steps.push_back("Check the inverter's switch timing, and inspect electrode " + hotter + ".");
+      d.next_steps.push_back(
+          "Run the lead-swap test (lopside swap) to size the supply's and the electrodes' parts.");
+      d.next_steps.push_back("Check the inverter's switch timing, and inspect electrode " + hotter +
+                             ".");
       break;
     case Verdict::inconclusive:
       if (clipped > 0) {
-        d.next_steps.push_back("Record again with a wider recorder range (neither polarity may reach full scale).");
+        d.next_steps.push_back(
+            "Record again with a wider recorder range (neither polarity may reach full scale).");
       } else if (offset_like) {
-        d.next_steps.push_back("Zero the current probe on a stretch without discharge (--zero FROM:TO), or degauss "
-                               "a Hall probe, and measure again.");
+        d.next_steps.push_back(
+            "Zero the current probe on a stretch without discharge (--zero FROM:TO), or degauss "
+            "a Hall probe, and measure again.");
       } else {
-        d.next_steps.push_back("Run the lead-swap test (lopside swap), and record the voltage too if you can.");
+        d.next_steps.push_back(
+            "Run the lead-swap test (lopside swap), and record the voltage too if you can.");
       }
       break;
   }

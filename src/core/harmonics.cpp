@@ -57,7 +57,8 @@ struct Kernel {
         const double x = t - static_cast<double>(j - Half + 1);
         const double sinc = x == 0.0 ? 1.0 : std::sin(M_PI * x) / (M_PI * x);
         const double r = x / Half;
-        const double w = std::fabs(r) < 1 ? bessel_i0(kKaiserBeta * std::sqrt(1 - r * r)) / i0_beta : 0.0;
+        const double w =
+            std::fabs(r) < 1 ? bessel_i0(kKaiserBeta * std::sqrt(1 - r * r)) / i0_beta : 0.0;
         row[static_cast<std::size_t>(j)] = sinc * w;
         sum += sinc * w;
       }
@@ -128,7 +129,8 @@ struct HarmonicAnalyzer::Impl {
     const auto first = static_cast<std::int64_t>(buf_start);
     for (std::size_t j = 0; j < B; ++j) {
       const double x0 = bounds[j], step = (bounds[j + 1] - bounds[j]) / static_cast<double>(M);
-      for (std::size_t m = 0; m < M; ++m) in[j * M + m] = k.at(buf.data(), first, x0 + step * static_cast<double>(m));
+      for (std::size_t m = 0; m < M; ++m)
+        in[j * M + m] = k.at(buf.data(), first, x0 + step * static_cast<double>(m));
     }
   }
 
@@ -166,11 +168,12 @@ struct HarmonicAnalyzer::Impl {
     double longest = 0;
     for (std::size_t j = 0; j < B; ++j) longest = std::max(longest, bounds[j + 1] - bounds[j]);
     // The block's mean cycle length: single cycles carry the boundaries' jitter.
-    min_cycle_samples = std::min(min_cycle_samples, (bounds[B] - bounds[0]) / static_cast<double>(B));
+    min_cycle_samples =
+        std::min(min_cycle_samples, (bounds[B] - bounds[0]) / static_cast<double>(B));
     const std::size_t want_orders = cfg.max_order + 2;
-    const std::size_t M = std::min(kMaxGridPerCycle,
-                                   next_pow2(std::max<std::size_t>(static_cast<std::size_t>(std::ceil(longest)),
-                                                                   2 * want_orders)));
+    const std::size_t M = std::min(
+        kMaxGridPerCycle, next_pow2(std::max<std::size_t>(
+                              static_cast<std::size_t>(std::ceil(longest)), 2 * want_orders)));
     grid = std::max(grid, M);
     const std::size_t N = B * M;
     auto& plan = plans[N];
@@ -193,7 +196,8 @@ struct HarmonicAnalyzer::Impl {
     for (std::size_t n = 0; n <= orders; ++n) {
       const std::size_t k = n * B;
       const double a = n == 0 ? X[0].real() / n_points : 2.0 * std::abs(X[k]) / n_points;
-      const double rel = n == 0 ? 0.0 : wrap_rad(std::arg(X[k]) + M_PI / 2 - static_cast<double>(n) * phi1);
+      const double rel =
+          n == 0 ? 0.0 : wrap_rad(std::arg(X[k]) + M_PI / 2 - static_cast<double>(n) * phi1);
       OrderSums& s = sums[n];
       s.a += a;
       s.a2 += a * a;
@@ -203,7 +207,9 @@ struct HarmonicAnalyzer::Impl {
         // IEC 61000-4-7 (2002) 5.5.1 and 5.6: rms values of the 5 Hz bins; a group sums the
         // bins between neighbouring harmonics, those midway counted half; a subgroup is the
         // harmonic bin and its two neighbours.
-        const auto bin2 = [&](std::size_t kk) { return 2.0 * std::norm(X[kk]) / (n_points * n_points); };
+        const auto bin2 = [&](std::size_t kk) {
+          return 2.0 * std::norm(X[kk]) / (n_points * n_points);
+        };
         double g = 0.5 * bin2(k - B / 2) + 0.5 * bin2(k + B / 2);
         for (std::size_t kk = k - B / 2 + 1; kk < k + B / 2; ++kk) g += bin2(kk);
         s.group2 += g;
@@ -236,9 +242,11 @@ struct HarmonicAnalyzer::Impl {
 };
 
 HarmonicAnalyzer::HarmonicAnalyzer(const HarmonicConfig& config) : impl_(std::make_unique<Impl>()) {
-  if (config.block_cycles < 1) throw std::invalid_argument("HarmonicConfig.block_cycles must be ≥ 1");
+  if (config.block_cycles < 1)
+    throw std::invalid_argument("HarmonicConfig.block_cycles must be ≥ 1");
   if (config.max_order < 1) throw std::invalid_argument("HarmonicConfig.max_order must be ≥ 1");
-  if (!(config.sample_rate_hz > 0)) throw std::invalid_argument("HarmonicConfig.sample_rate_hz must be > 0");
+  if (!(config.sample_rate_hz > 0))
+    throw std::invalid_argument("HarmonicConfig.sample_rate_hz must be > 0");
   impl_->cfg = config;
 }
 HarmonicAnalyzer::~HarmonicAnalyzer() = default;
@@ -261,7 +269,8 @@ void HarmonicAnalyzer::on_sample(std::uint64_t index, double value) {
 void HarmonicAnalyzer::on_boundary(double index) {
   Impl& m = *impl_;
   // A block must start where the kernel has its samples on the left.
-  if (m.bounds.empty() && (m.buf.empty() || std::floor(index) - kMaxHalfTaps + 1 < static_cast<double>(m.buf_start))) {
+  if (m.bounds.empty() &&
+      (m.buf.empty() || std::floor(index) - kMaxHalfTaps + 1 < static_cast<double>(m.buf_start))) {
     return;
   }
   m.bounds.push_back(index);
@@ -282,9 +291,8 @@ HarmonicSummary HarmonicAnalyzer::finish() {
                            " whole cycles with margin: no harmonic block was complete");
     return out;
   }
-  const auto usable_by_sampling =
-      static_cast<std::size_t>(std::floor((m.short_kernel ? kUsableShareShort : kUsableShareLong) *
-                                              m.min_cycle_samples + 0.01));
+  const auto usable_by_sampling = static_cast<std::size_t>(std::floor(
+      (m.short_kernel ? kUsableShareShort : kUsableShareLong) * m.min_cycle_samples + 0.01));
   std::size_t usable = std::min({m.cfg.max_order, usable_by_sampling, m.sums.size() - 1});
   if (m.grid == kMaxGridPerCycle) usable = std::min(usable, kMaxGridPerCycle / 2 - 1);
   out.max_usable_order = usable;

@@ -37,12 +37,17 @@ Halves halves(double n, const UncertaintyComponent& u_n, double s, const Uncerta
   const double diff = 0.5 * (n - s);
   const double sum = 0.5 * (n + s);
   Halves h;
-  h.difference = expand(diff, {half_n, half_s,
-                               {0.5 * std::fabs(offset_sensitivity_n - offset_sensitivity_s) * u_offset, kInfiniteDof},
-                               {u_gain_rel * std::fabs(diff), kInfiniteDof}});
-  h.sum = expand(sum, {half_n, half_s,
-                       {0.5 * std::fabs(offset_sensitivity_n + offset_sensitivity_s) * u_offset, kInfiniteDof},
-                       {u_gain_rel * std::fabs(sum), kInfiniteDof}});
+  h.difference = expand(
+      diff,
+      {half_n,
+       half_s,
+       {0.5 * std::fabs(offset_sensitivity_n - offset_sensitivity_s) * u_offset, kInfiniteDof},
+       {u_gain_rel * std::fabs(diff), kInfiniteDof}});
+  h.sum = expand(
+      sum, {half_n,
+            half_s,
+            {0.5 * std::fabs(offset_sensitivity_n + offset_sensitivity_s) * u_offset, kInfiniteDof},
+            {u_gain_rel * std::fabs(sum), kInfiniteDof}});
   return h;
 }
 
@@ -134,7 +139,7 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   }
   const CycleSummary& ns = normal.summary;
   const CycleSummary& ss = swapped.summary;
-  const double u_off = rectangular(probe.offset_a);              // GUM 4.3.7
+  const double u_off = rectangular(probe.offset_a);               // GUM 4.3.7
   const double u_gain_rel = rectangular(probe.gain_pct / 100.0);  // relative
 
   LeadSwapResult r;
@@ -142,8 +147,12 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
 
   // Each capture on its own, with the probe's tolerances as `measure` adds them.
   const double n_dc = ns.dc_offset_a.value, s_dc = ss.dc_offset_a.value;
-  r.normal_dc_a = expand(n_dc, {normal.dc_type_a, {u_off, kInfiniteDof}, {u_gain_rel * std::fabs(n_dc), kInfiniteDof}});
-  r.swapped_dc_a = expand(s_dc, {swapped.dc_type_a, {u_off, kInfiniteDof}, {u_gain_rel * std::fabs(s_dc), kInfiniteDof}});
+  r.normal_dc_a = expand(
+      n_dc,
+      {normal.dc_type_a, {u_off, kInfiniteDof}, {u_gain_rel * std::fabs(n_dc), kInfiniteDof}});
+  r.swapped_dc_a = expand(
+      s_dc,
+      {swapped.dc_type_a, {u_off, kInfiniteDof}, {u_gain_rel * std::fabs(s_dc), kInfiniteDof}});
   const double c_n = asymmetry_offset_sensitivity(ns), c_s = asymmetry_offset_sensitivity(ss);
   const double n_as = ns.charge_asymmetry.value, s_as = ss.charge_asymmetry.value;
   r.normal_asymmetry = expand(n_as, {normal.asymmetry_type_a, {c_n * u_off, kInfiniteDof}});
@@ -154,8 +163,10 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   // a supply terminal: the electrodes' part reverses (N = D + E, S = D − E), so D is the half
   // sum and E the half difference. The probe offset therefore lands in E in the first case and
   // in D in the second.
-  const Halves dc = halves(n_dc, normal.dc_type_a, s_dc, swapped.dc_type_a, 1.0, 1.0, u_off, u_gain_rel);
-  const Halves as = halves(n_as, normal.asymmetry_type_a, s_as, swapped.asymmetry_type_a, c_n, c_s, u_off, 0.0);
+  const Halves dc =
+      halves(n_dc, normal.dc_type_a, s_dc, swapped.dc_type_a, 1.0, 1.0, u_off, u_gain_rel);
+  const Halves as =
+      halves(n_as, normal.asymmetry_type_a, s_as, swapped.asymmetry_type_a, c_n, c_s, u_off, 0.0);
   const bool on_electrode = probe.on == ProbeOn::electrode;
   r.driver_bias_a = on_electrode ? dc.difference : dc.sum;
   r.electrode_bias_a = on_electrode ? dc.sum : dc.difference;
@@ -165,19 +176,21 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   const Estimate& d = r.driver_bias_a;
   const Estimate& e = r.electrode_bias_a;
   const double total = std::fabs(d.value) + std::fabs(e.value);
-  const double total_as = std::fabs(r.driver_asymmetry.value) + std::fabs(r.electrode_asymmetry.value);
+  const double total_as =
+      std::fabs(r.driver_asymmetry.value) + std::fabs(r.electrode_asymmetry.value);
   const bool d_counts = counts(d, total, th.part_share);
   const bool e_counts = counts(e, total, th.part_share);
   const bool d_as_counts = counts(r.driver_asymmetry, total_as, th.part_share);
   const bool e_as_counts = counts(r.electrode_asymmetry, total_as, th.part_share);
 
-  r.evidence.push_back(part_evidence("driver_bias", d, total, th.part_share,
-                                     "the supply's part of the DC offset"));
+  r.evidence.push_back(
+      part_evidence("driver_bias", d, total, th.part_share, "the supply's part of the DC offset"));
   r.evidence.push_back(part_evidence("electrode_bias", e, total, th.part_share,
                                      "the electrodes' part of the DC offset"));
-  r.evidence.push_back(part_evidence("driver_asymmetry", r.driver_asymmetry, total_as, th.part_share,
-                                     "the supply's part of the charge asymmetry"));
-  r.evidence.push_back(part_evidence("electrode_asymmetry", r.electrode_asymmetry, total_as, th.part_share,
+  r.evidence.push_back(part_evidence("driver_asymmetry", r.driver_asymmetry, total_as,
+                                     th.part_share, "the supply's part of the charge asymmetry"));
+  r.evidence.push_back(part_evidence("electrode_asymmetry", r.electrode_asymmetry, total_as,
+                                     th.part_share,
                                      "the electrodes' part of the charge asymmetry"));
 
   // Clipping of one polarity fakes an asymmetry (DOMAIN.md): either capture clipped, no cause.
@@ -186,13 +199,15 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   };
   const bool n_clipped = clipped_cycles(ns) > 0, s_clipped = clipped_cycles(ss) > 0;
   r.evidence.push_back({"clipped_normal", clipped_cycles(ns), 0,
-                        n_clipped ? "the normal capture has cycles clipped at the recorder's range: "
-                                    "a clipped polarity fakes an asymmetry"
-                                  : "the normal capture has no clipped cycle"});
+                        n_clipped
+                            ? "the normal capture has cycles clipped at the recorder's range: "
+                              "a clipped polarity fakes an asymmetry"
+                            : "the normal capture has no clipped cycle"});
   r.evidence.push_back({"clipped_swapped", clipped_cycles(ss), 0,
-                        s_clipped ? "the swapped capture has cycles clipped at the recorder's range: "
-                                    "a clipped polarity fakes an asymmetry"
-                                  : "the swapped capture has no clipped cycle"});
+                        s_clipped
+                            ? "the swapped capture has cycles clipped at the recorder's range: "
+                              "a clipped polarity fakes an asymmetry"
+                            : "the swapped capture has no clipped cycle"});
 
   // The test assumes one unit on one load: the two captures must agree in what the swap does
   // not change.
@@ -207,13 +222,13 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
                         a_mismatch ? "the two captures differ in AC RMS current"
                                    : "the two captures agree in AC RMS current"});
   if (f_mismatch) {
-    r.warnings.push_back("the two captures differ in fundamental by " + percent_text(df) + " (more than " +
-                         percent_text(th.frequency_mismatch) +
+    r.warnings.push_back("the two captures differ in fundamental by " + percent_text(df) +
+                         " (more than " + percent_text(th.frequency_mismatch) +
                          "): they may not be the same unit on the same load");
   }
   if (a_mismatch) {
-    r.warnings.push_back("the two captures differ in AC RMS by " + percent_text(da) + " (more than " +
-                         percent_text(th.ac_rms_mismatch) +
+    r.warnings.push_back("the two captures differ in AC RMS by " + percent_text(da) +
+                         " (more than " + percent_text(th.ac_rms_mismatch) +
                          "): they may not be the same unit on the same load");
   }
 
@@ -229,8 +244,9 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
 
   const bool agree = d_counts == d_as_counts && e_counts == e_as_counts;
   if (!agree) {
-    r.warnings.push_back("the DC offset and the charge asymmetry disagree about which part counts; "
-                         "the verdict follows the DC offset");
+    r.warnings.push_back(
+        "the DC offset and the charge asymmetry disagree about which part counts; "
+        "the verdict follows the DC offset");
   }
 
   // The verdict follows the DC offset's parts; the charge asymmetry's are a cross-check.
@@ -295,19 +311,22 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   // Next steps: what a technician does with the verdict.
   // Electrode A is the one the probed lead fed in the normal capture (the sign convention of
   // `lopside measure`: positive current flows from the probed lead into electrode A).
-  const std::string probed = on_electrode ? "electrode A (the one whose lead carried the probe)"
-                                          : "electrode A (the one the probed terminal fed in the normal capture)";
+  const std::string probed =
+      on_electrode ? "electrode A (the one whose lead carried the probe)"
+                   : "electrode A (the one the probed terminal fed in the normal capture)";
   const auto electrode_step = [&] {
     // E > 0: net current flows into A, so A is the anode for more charge and B the preferred
     // cathode.
-    return std::string("The electrodes' part stays when the leads are exchanged: compare the two "
-                       "electrodes (shape, surface, material, contamination). ") +
-           (e.value > 0 ? "Net current flows into " + probed +
-                              ", so electrode B is the preferred cathode: it carries more charge as "
-                              "cathode and, in a glow, runs hotter."
-                        : "Net current flows out of " + probed +
-                              ", so A is the preferred cathode: it carries more charge as cathode "
-                              "and, in a glow, runs hotter.");
+    return std::string(
+               "The electrodes' part stays when the leads are exchanged: compare the two "
+               "electrodes (shape, surface, material, contamination). ") +
+           (e.value > 0
+                ? "Net current flows into " + probed +
+                      ", so electrode B is the preferred cathode: it carries more charge as "
+                      "cathode and, in a glow, runs hotter."
+                : "Net current flows out of " + probed +
+                      ", so A is the preferred cathode: it carries more charge as cathode "
+                      "and, in a glow, runs hotter.");
   };
   const std::string driver_step =
       "The supply's part reverses when the leads are exchanged: look at the driver's switching "
@@ -315,24 +334,28 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   switch (r.verdict) {
     case Verdict::inconclusive:
       if (n_clipped || s_clipped) {
-        r.next_steps.push_back("Widen the recorder's range (or choose a less sensitive probe range) until "
-                               "neither polarity clips, then record both captures again.");
+        r.next_steps.push_back(
+            "Widen the recorder's range (or choose a less sensitive probe range) until "
+            "neither polarity clips, then record both captures again.");
       } else {
-        r.next_steps.push_back("Record longer captures (more cycles); with a DC-passing probe subtract a "
-                               "zero stretch (--zero) or use a probe with a smaller offset tolerance, "
-                               "until the parts' u95 fall well below their size.");
+        r.next_steps.push_back(
+            "Record longer captures (more cycles); with a DC-passing probe subtract a "
+            "zero stretch (--zero) or use a probe with a smaller offset tolerance, "
+            "until the parts' u95 fall well below their size.");
       }
       break;
     case Verdict::symmetric:
-      r.next_steps.push_back("Neither the supply nor the electrodes bias the current at this resolution. "
-                             "If one electrode still wears faster, record again after a longer warm-up: "
-                             "self-rectification builds up over seconds after ignition.");
+      r.next_steps.push_back(
+          "Neither the supply nor the electrodes bias the current at this resolution. "
+          "If one electrode still wears faster, record again after a longer warm-up: "
+          "self-rectification builds up over seconds after ignition.");
       break;
     case Verdict::driver_imbalance:
       r.next_steps.push_back(driver_step);
-      r.next_steps.push_back("A self-rectifying discharge whose preferred cathode changed between the two "
-                             "captures looks the same: repeat the normal capture and check that its DC "
-                             "offset comes back.");
+      r.next_steps.push_back(
+          "A self-rectifying discharge whose preferred cathode changed between the two "
+          "captures looks the same: repeat the normal capture and check that its DC "
+          "offset comes back.");
       break;
     case Verdict::self_rectification:
       r.next_steps.push_back(electrode_step());
@@ -343,8 +366,9 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
       break;
   }
   if (f_mismatch || a_mismatch) {
-    r.next_steps.push_back("Record both captures on the same unit and load, warmed up alike, and run "
-                           "the test again.");
+    r.next_steps.push_back(
+        "Record both captures on the same unit and load, warmed up alike, and run "
+        "the test again.");
   }
   return r;
 }

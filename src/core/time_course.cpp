@@ -107,7 +107,8 @@ struct ExpFit {
   double tau = 0, p = 0, b = 0, sse = std::numeric_limits<double>::infinity();
 };
 
-ExpFit fit_exp_at(const std::vector<double>& t, const std::vector<double>& y, double t0, double tau) {
+ExpFit fit_exp_at(const std::vector<double>& t, const std::vector<double>& y, double t0,
+                  double tau) {
   double s1 = 0, se = 0, see = 0, sy = 0, sey = 0;
   for (std::size_t i = 0; i < t.size(); ++i) {
     const double e = std::exp(-(t[i] - t0) / tau);
@@ -170,7 +171,9 @@ std::optional<BuildUp> fit_build_up(const std::vector<double>& t, const std::vec
     const double e = std::exp(-(t[i] - t0) / f.tau);
     const std::array<double, 3> j{1.0, e, f.b * e * (t[i] - t0) / (f.tau * f.tau)};
     for (int r = 0; r < 3; ++r)
-      for (int c = 0; c < 3; ++c) jtj[static_cast<std::size_t>(r)][static_cast<std::size_t>(c)] += j[static_cast<std::size_t>(r)] * j[static_cast<std::size_t>(c)];
+      for (int c = 0; c < 3; ++c)
+        jtj[static_cast<std::size_t>(r)][static_cast<std::size_t>(c)] +=
+            j[static_cast<std::size_t>(r)] * j[static_cast<std::size_t>(c)];
   }
   const auto& m = jtj;
   const double det = m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1]) -
@@ -226,10 +229,15 @@ void TimeCourse::add(const CycleRecord& c) {
       const CoursePoint& a = points_[2 * i];
       const CoursePoint& b = points_[2 * i + 1];
       const double w = static_cast<double>(a.cycles + b.cycles);
-      points_[i] = CoursePoint{(a.time_s * static_cast<double>(a.cycles) + b.time_s * static_cast<double>(b.cycles)) / w,
-                               (a.dc_offset_a * static_cast<double>(a.cycles) + b.dc_offset_a * static_cast<double>(b.cycles)) / w,
-                               (a.charge_asymmetry * static_cast<double>(a.cycles) + b.charge_asymmetry * static_cast<double>(b.cycles)) / w,
-                               a.cycles + b.cycles};
+      points_[i] = CoursePoint{
+          (a.time_s * static_cast<double>(a.cycles) + b.time_s * static_cast<double>(b.cycles)) / w,
+          (a.dc_offset_a * static_cast<double>(a.cycles) +
+           b.dc_offset_a * static_cast<double>(b.cycles)) /
+              w,
+          (a.charge_asymmetry * static_cast<double>(a.cycles) +
+           b.charge_asymmetry * static_cast<double>(b.cycles)) /
+              w,
+          a.cycles + b.cycles};
     }
     points_.resize(kMaxPoints / 2);
     per_point_ *= 2;
@@ -275,7 +283,8 @@ TimeCourseResult TimeCourse::finish() const {
     for (std::size_t i = s; i < e; ++i) pooled += (y[i] - seg.mean_dc_a) * (y[i] - seg.mean_dc_a);
     r.segments.push_back(seg);
   }
-  const double scatter = std::sqrt(pooled / static_cast<double>(std::max<std::size_t>(n - starts.size(), 1)));
+  const double scatter =
+      std::sqrt(pooled / static_cast<double>(std::max<std::size_t>(n - starts.size(), 1)));
   r.scatter_a = scatter;
   for (std::size_t k = 0; k < r.segments.size(); ++k) {
     const std::size_t s = starts[k], e = k + 1 < starts.size() ? starts[k + 1] : n;
@@ -286,7 +295,8 @@ TimeCourseResult TimeCourse::finish() const {
   for (std::size_t k = 0; k + 1 < r.segments.size(); ++k) {
     const Segment& p = r.segments[k];
     const Segment& q = r.segments[k + 1];
-    if (p.mean_dc_a * q.mean_dc_a < 0 && std::fabs(p.mean_dc_a) > p.u95_a && std::fabs(q.mean_dc_a) > q.u95_a) {
+    if (p.mean_dc_a * q.mean_dc_a < 0 && std::fabs(p.mean_dc_a) > p.u95_a &&
+        std::fabs(q.mean_dc_a) > q.u95_a) {
       Event ev;
       ev.kind = "flip";
       ev.time_s = 0.5 * (p.end_s + q.start_s);
@@ -309,9 +319,12 @@ TimeCourseResult TimeCourse::finish() const {
   }
 
   // Build-up after ignition: on the stretch before any flip.
-  const std::vector<double> tb(t.begin(), t.begin() + static_cast<std::ptrdiff_t>(first_flip_point));
-  const std::vector<double> yb(y.begin(), y.begin() + static_cast<std::ptrdiff_t>(first_flip_point));
-  const std::vector<double> ab(a.begin(), a.begin() + static_cast<std::ptrdiff_t>(first_flip_point));
+  const std::vector<double> tb(t.begin(),
+                               t.begin() + static_cast<std::ptrdiff_t>(first_flip_point));
+  const std::vector<double> yb(y.begin(),
+                               y.begin() + static_cast<std::ptrdiff_t>(first_flip_point));
+  const std::vector<double> ab(a.begin(),
+                               a.begin() + static_cast<std::ptrdiff_t>(first_flip_point));
   r.build_up = fit_build_up(tb, yb);
   r.asymmetry_build_up = fit_build_up(tb, ab);
   if (r.build_up && r.build_up->significant) {

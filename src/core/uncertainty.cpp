@@ -65,11 +65,10 @@ double BatchMeans::degrees_of_freedom() const {
 double student_t95(double dof) {
   // t_{0.975}(ν), standard table (e.g. GUM table G.2 gives ν = 1…10, 20, 30, 50, 100, ∞ for
   // 95.45 %; these are the 95.00 % values of any statistics handbook).
-  static constexpr std::array<double, 31> kT{0,      12.706, 4.303, 3.182, 2.776, 2.571, 2.447,
-                                             2.365,  2.306,  2.262, 2.228, 2.201, 2.179, 2.160,
-                                             2.145,  2.131,  2.120, 2.110, 2.101, 2.093, 2.086,
-                                             2.080,  2.074,  2.069, 2.064, 2.060, 2.056, 2.052,
-                                             2.048,  2.045,  2.042};
+  static constexpr std::array<double, 31> kT{
+      0,     12.706, 4.303, 3.182, 2.776, 2.571, 2.447, 2.365, 2.306, 2.262, 2.228,
+      2.201, 2.179,  2.160, 2.145, 2.131, 2.120, 2.110, 2.101, 2.093, 2.086, 2.080,
+      2.074, 2.069,  2.064, 2.060, 2.056, 2.052, 2.048, 2.045, 2.042};
   if (!(dof >= 1.0)) return kT[1];
   if (dof >= 30.0) {
     // Beyond 30, t95 ≈ 1.96 + 2.4/ν (a close fit to the table: 40 → 2.021, 120 → 1.980).
@@ -96,6 +95,8 @@ CombinedUncertainty combine(const std::vector<UncertaintyComponent>& components)
   return out;
 }
 
-double rectangular(double half_width) { return std::fabs(half_width) / std::sqrt(3.0); }
+double rectangular(double half_width) {
+  return std::fabs(half_width) / std::sqrt(3.0);
+}
 
 }  // namespace lopside

@@ -79,8 +79,8 @@ const std::array<SiPrefix, 9>& si_prefixes() {
 }
 
 std::string format_si(double value, std::string_view unit, int significant, bool signed_always) {
-  if (!std::isfinite(value)) return std::string(std::isnan(value) ? "nan " : "inf ") +
-                                    std::string(unit);
+  if (!std::isfinite(value))
+    return std::string(std::isnan(value) ? "nan " : "inf ") + std::string(unit);
   using Step = SiPrefix;
   const auto& kSteps = si_prefixes();
   const double magnitude = std::fabs(value);

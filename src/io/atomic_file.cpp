@@ -51,7 +51,9 @@ AtomicOutput::~AtomicOutput() {
   }
 }
 
-std::ostream& AtomicOutput::stream() { return to_stdout_ ? std::cout : *file_; }
+std::ostream& AtomicOutput::stream() {
+  return to_stdout_ ? std::cout : *file_;
+}
 
 void AtomicOutput::commit() {
   if (to_stdout_) {

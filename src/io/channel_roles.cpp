@@ -94,8 +94,8 @@ void assign_roles(std::vector<ChannelInfo>& channels, const ReaderOptions& optio
   if (options.current) current = find_channel(channels, *options.current, path);
   if (options.voltage) voltage = find_channel(channels, *options.voltage, path);
   if (current && voltage && *current == *voltage) {
-    throw InputError(path, "--current and --voltage name the same channel " +
-                               std::to_string(*current + 1));
+    throw InputError(
+        path, "--current and --voltage name the same channel " + std::to_string(*current + 1));
   }
   auto guess = [&](ChannelRole role, const char* unit,
                    bool (*by_name)(const std::string&)) -> std::optional<std::size_t> {
@@ -104,17 +104,15 @@ void assign_roles(std::vector<ChannelInfo>& channels, const ReaderOptions& optio
     };
     for (std::size_t i = 0; i < channels.size(); ++i) {
       if (!taken(i) && channels[i].unit == unit) {
-        notes.push_back(std::string("channel ") + std::to_string(i + 1) + " '" +
-                        channels[i].name + "' taken as the " + to_string(role) + " (unit " +
-                        unit + ")");
+        notes.push_back(std::string("channel ") + std::to_string(i + 1) + " '" + channels[i].name +
+                        "' taken as the " + to_string(role) + " (unit " + unit + ")");
         return i;
       }
     }
     for (std::size_t i = 0; i < channels.size(); ++i) {
       if (!taken(i) && channels[i].unit.empty() && by_name(lower(channels[i].name))) {
-        notes.push_back(std::string("channel ") + std::to_string(i + 1) + " '" +
-                        channels[i].name + "' taken as the " + to_string(role) +
-                        " (by its name; it has no unit)");
+        notes.push_back(std::string("channel ") + std::to_string(i + 1) + " '" + channels[i].name +
+                        "' taken as the " + to_string(role) + " (by its name; it has no unit)");
         return i;
       }
     }

@@ -150,7 +150,9 @@ bool is_comment(std::string_view line) {
   return !line.empty() && line.front() == '#';
 }
 
-bool is_blank(std::string_view line) { return trim(line).empty(); }
+bool is_blank(std::string_view line) {
+  return trim(line).empty();
+}
 
 // Cell splitter for one delimiter: RFC 4180 quoting ("" inside quotes is a quote) for
 // character delimiters, runs of blanks for the whitespace delimiter.
@@ -245,12 +247,8 @@ std::vector<Dialect> detect_dialects(std::string_view line) {
   std::vector<std::string_view> cells;
   std::string scratch;
   std::vector<Dialect> found;
-  const std::array<Dialect, 6> candidates{{{'\t', '.'},
-                                           {'\t', ','},
-                                           {';', ','},
-                                           {';', '.'},
-                                           {',', '.'},
-                                           {' ', '.'}}};
+  const std::array<Dialect, 6> candidates{
+      {{'\t', '.'}, {'\t', ','}, {';', ','}, {';', '.'}, {',', '.'}, {' ', '.'}}};
   for (const Dialect& d : candidates) {
     if (d.delimiter != ' ' && line.find(d.delimiter) == std::string_view::npos) continue;
     split_cells(line, d.delimiter, cells, scratch);
@@ -263,8 +261,8 @@ std::vector<Dialect> detect_dialects(std::string_view line) {
 
 // Header cells of `line` under `d`; one column of data is named by the whole line, blanks and
 // all ("current (A)").
-std::vector<std::string_view> header_cells(std::string_view line, const Dialect& d, std::size_t columns,
-                                           std::string& scratch) {
+std::vector<std::string_view> header_cells(std::string_view line, const Dialect& d,
+                                           std::size_t columns, std::string& scratch) {
   std::vector<std::string_view> head;
   split_cells(line, d.delimiter, head, scratch);
   if (columns == 1 && head.size() > 1 && d.delimiter == ' ') head.assign(1, trim(line));
@@ -289,14 +287,14 @@ std::optional<double> preamble_rate(std::string_view line, char decimal) {
   const bool interval = key.find("interval") != std::string::npos ||
                         key.find("period") != std::string::npos ||
                         key.find("time per sample") != std::string::npos;
-  const bool rate = key.find("rate") != std::string::npos ||
-                    key.find("frequency") != std::string::npos;
+  const bool rate =
+      key.find("rate") != std::string::npos || key.find("frequency") != std::string::npos;
   if (!(key.find("sampl") != std::string::npos && (interval || rate))) return std::nullopt;
   // Split the number from a trailing unit.
   std::size_t n = 0;
-  while (n < rest.size() && (std::isdigit(static_cast<unsigned char>(rest[n])) || rest[n] == '.' ||
-                             rest[n] == ',' || rest[n] == '+' || rest[n] == '-' ||
-                             rest[n] == 'e' || rest[n] == 'E')) {
+  while (n < rest.size() &&
+         (std::isdigit(static_cast<unsigned char>(rest[n])) || rest[n] == '.' || rest[n] == ',' ||
+          rest[n] == '+' || rest[n] == '-' || rest[n] == 'e' || rest[n] == 'E')) {
     ++n;
   }
   std::string_view number = rest.substr(0, n);
@@ -349,10 +347,10 @@ class TimeFit {
     const long double d = n * sxx_ - sx_ * sx_;
     return d == 0 ? 0.0L : (n * sxy_ - sx_ * sy_) / d;
   }
-  long double intercept() const {
-    return (sy_ - slope() * sx_) / static_cast<long double>(n_);
+  long double intercept() const { return (sy_ - slope() * sx_) / static_cast<long double>(n_); }
+  long double predict(double k) const {
+    return intercept() + slope() * static_cast<long double>(k);
   }
-  long double predict(double k) const { return intercept() + slope() * static_cast<long double>(k); }
 
  private:
   std::uint64_t n_ = 0;
@@ -378,8 +376,10 @@ class TextReader final : public SampleSource {
     while (f < max_frames) {
       if (!pending_.empty()) {
         const std::size_t take = std::min(max_frames - f, pending_.size() / nch);
-        std::copy_n(pending_.begin(), take * nch, block.data.begin() + static_cast<std::ptrdiff_t>(f * nch));
-        pending_.erase(pending_.begin(), pending_.begin() + static_cast<std::ptrdiff_t>(take * nch));
+        std::copy_n(pending_.begin(), take * nch,
+                    block.data.begin() + static_cast<std::ptrdiff_t>(f * nch));
+        pending_.erase(pending_.begin(),
+                       pending_.begin() + static_cast<std::ptrdiff_t>(take * nch));
         f += take;
         continue;
       }
@@ -430,7 +430,8 @@ class TextReader final : public SampleSource {
       for (const Dialect& d : dialects) {
         split_cells(first_row, d.delimiter, cells_, scratch_);
         std::string head_scratch;
-        if (header_cells(preamble.back().second, d, cells_.size(), head_scratch).size() == cells_.size()) {
+        if (header_cells(preamble.back().second, d, cells_.size(), head_scratch).size() ==
+            cells_.size()) {
           dialect_ = d;
           break;
         }
@@ -486,12 +487,12 @@ class TextReader final : public SampleSource {
           header_factor_[i] = u->factor;
           names[i] = nu.name;
         } else {
-          warnings_.push_back("column " + std::to_string(i + 1) + " '" + names[i] +
-                              "': unit '" + nu.unit_text +
-                              "' not understood; values taken as written");
+          warnings_.push_back("column " + std::to_string(i + 1) + " '" + names[i] + "': unit '" +
+                              nu.unit_text + "' not understood; values taken as written");
         }
       }
-      if (time_column_ < 0 && (units[i] == "s" || (units[i].empty() && is_time_name(lower(nu.name))))) {
+      if (time_column_ < 0 &&
+          (units[i] == "s" || (units[i].empty() && is_time_name(lower(nu.name))))) {
         time_column_ = static_cast<int>(i);
         if (units[i].empty()) {
           warnings_.push_back("column " + std::to_string(i + 1) + " '" + names[i] +
@@ -524,10 +525,18 @@ class TextReader final : public SampleSource {
 
     // Format and how the file was read.
     switch (dialect_.delimiter) {
-      case ',': info_.format = "csv"; break;
-      case ';': info_.format = "csv-semicolon"; break;
-      case '\t': info_.format = "tsv"; break;
-      default: info_.format = "text"; break;
+      case ',':
+        info_.format = "csv";
+        break;
+      case ';':
+        info_.format = "csv-semicolon";
+        break;
+      case '\t':
+        info_.format = "tsv";
+        break;
+      default:
+        info_.format = "text";
+        break;
     }
     std::string d = std::string("delimiter ") +
                     (dialect_.delimiter == '\t'  ? "tab"
@@ -549,7 +558,8 @@ class TextReader final : public SampleSource {
     // Look-ahead: the first data row (already read) and up to kLookaheadRows more.
     const std::size_t nch = info_.channels.size();
     std::vector<double> row(nch);
-    if (parse_row(first_row, first_data_line, row.data())) pending_.insert(pending_.end(), row.begin(), row.end());
+    if (parse_row(first_row, first_data_line, row.data()))
+      pending_.insert(pending_.end(), row.begin(), row.end());
     while (rows_ < kLookaheadRows && !finished_) {
       if (!parse_next_row(row.data())) break;
       pending_.insert(pending_.end(), row.begin(), row.end());
@@ -576,7 +586,8 @@ class TextReader final : public SampleSource {
       info_.start_time_s = start_time();
       if (options_.rate_hz && std::fabs(*options_.rate_hz * dt_s_ - 1.0) > 1e-3) {
         warnings_.push_back("--rate " + format_g(*options_.rate_hz) +
-                            " Hz ignored: the time column gives " + format_g(info_.sample_rate_hz, 8) + " Hz");
+                            " Hz ignored: the time column gives " +
+                            format_g(info_.sample_rate_hz, 8) + " Hz");
       }
     } else if (options_.rate_hz) {
       info_.sample_rate_hz = *options_.rate_hz;
@@ -618,7 +629,8 @@ class TextReader final : public SampleSource {
       if (!v) {
         if (is_nan_or_inf_text(cells_[i])) {
           return bad_row(line_no, "column " + std::to_string(i + 1) + ": '" +
-                                      shorten(trim(cells_[i])) + "' is not a finite number; "
+                                      shorten(trim(cells_[i])) +
+                                      "' is not a finite number; "
                                       "expected a sample value");
         }
         return bad_row(line_no, "column " + std::to_string(i + 1) + ": expected a number" +
@@ -631,9 +643,9 @@ class TextReader final : public SampleSource {
       out[c] = *parse_number(cells_[channel_column_[c]], dialect_.decimal) * gains_[c];
     }
     if (time_column_ >= 0) {
-      const double q = printed_resolution(cells_[static_cast<std::size_t>(time_column_)],
-                                          dialect_.decimal) *
-                       header_factor_[static_cast<std::size_t>(time_column_)];
+      const double q =
+          printed_resolution(cells_[static_cast<std::size_t>(time_column_)], dialect_.decimal) *
+          header_factor_[static_cast<std::size_t>(time_column_)];
       track_time(t, q, line_no);
     }
     ++rows_;
@@ -654,9 +666,12 @@ class TextReader final : public SampleSource {
 
   std::string delimiter_name() const {
     switch (dialect_.delimiter) {
-      case '\t': return "tabs";
-      case ' ': return "spaces";
-      default: return std::string("'") + dialect_.delimiter + "'";
+      case '\t':
+        return "tabs";
+      case ' ':
+        return "spaces";
+      default:
+        return std::string("'") + dialect_.delimiter + "'";
     }
   }
 
@@ -680,8 +695,8 @@ class TextReader final : public SampleSource {
                            format_g(prev_t_, 10) + " s; expected rising times");
     }
     if (dt_s_ > 0) {
-      check_time(k, rel, q, line_no, static_cast<double>(fit_.predict(k)), prev_t_ - t0_,
-                 prev_q_, prev_k_, true, true, fit_.count());
+      check_time(k, rel, q, line_no, static_cast<double>(fit_.predict(k)), prev_t_ - t0_, prev_q_,
+                 prev_k_, true, true, fit_.count());
     } else {
       lookahead_times_.push_back({k, rel, q, line_no});
     }
@@ -737,14 +752,13 @@ class TextReader final : public SampleSource {
                               format_g(dt_s_, 6) + " s interval";
     if (steps > 0) {
       throw InputError(path_, InputLocation::at_line(line_no),
-                       "gap in the time column: " +
-                           std::string(coarse ? "at least " : "") +
+                       "gap in the time column: " + std::string(coarse ? "at least " : "") +
                            std::to_string(steps) +
                            " sample(s) missing at or shortly before this row (" + times + ")");
     }
-    throw InputError(path_, InputLocation::at_line(line_no),
-                     "the time column repeats or steps back (" + times +
-                         "); expected uniform sampling");
+    throw InputError(
+        path_, InputLocation::at_line(line_no),
+        "the time column repeats or steps back (" + times + "); expected uniform sampling");
   }
 
   // The interval of the look-ahead rows. Where printing resolves each step (the steps agree),
@@ -782,7 +796,8 @@ class TextReader final : public SampleSource {
                  rows[i - 1].q, rows[i - 1].k, true, false);
     }
     TimeFit settle;
-    for (std::size_t i = 0; i < std::min(rows.size(), kSettleRows); ++i) settle.add(rows[i].k, rows[i].rel);
+    for (std::size_t i = 0; i < std::min(rows.size(), kSettleRows); ++i)
+      settle.add(rows[i].k, rows[i].rel);
     TimeFit running;
     for (std::size_t i = 0; i < rows.size(); ++i) {
       const TimeFit& against = i < kSettleRows ? settle : running;
@@ -814,16 +829,17 @@ class TextReader final : public SampleSource {
       info_.start_time_s = start_time();
     }
     if (skipped_ > 0) {
-      warnings_.push_back("skipped " + std::to_string(skipped_) + " malformed row(s), the first at line " +
+      warnings_.push_back("skipped " + std::to_string(skipped_) +
+                          " malformed row(s), the first at line " +
                           std::to_string(first_skipped_line_) + " (" + first_skipped_what_ +
                           "); each skipped row shortens the record by one sample");
     }
     if (jitter_rows_ > 0) {
       warnings_.push_back(std::to_string(jitter_rows_) +
                           " row(s) off the uniform time grid by more than the printed precision "
-                          "explains, the first at line " + std::to_string(first_jitter_line_) +
-                          "; largest excess " + format_g(max_jitter_s_ / dt_s_ * 100.0, 3) +
-                          " % of the sample interval");
+                          "explains, the first at line " +
+                          std::to_string(first_jitter_line_) + "; largest excess " +
+                          format_g(max_jitter_s_ / dt_s_ * 100.0, 3) + " % of the sample interval");
     }
     for (auto& n : role_notes_) warnings_.push_back(n);
   }

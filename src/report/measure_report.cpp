@@ -4,14 +4,12 @@
 #include <array>
 #include <cmath>
 #include <cstdio>
-#include <ostream>
-
 #include <nlohmann/json.hpp>
-
-#include "report_support.hpp"
+#include <ostream>
 
 #include "lopside/report_format.hpp"
 #include "lopside/units.hpp"
+#include "report_support.hpp"
 
 namespace lopside {
 namespace {
@@ -30,10 +28,14 @@ std::string count_text(std::uint64_t n, const char* one, const char* many) {
 // and odd harmonics at a glance; the full table goes to --spectrum and the JSON.
 void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1) {
   out << '\n';
-  line(out, "THD (IEC)", fixed(100 * h.thd, 2) + " %   orders 2\xE2\x80\x93" + std::to_string(h.max_usable_order) +
-                             " over the fundamental, DC excluded");
-  line(out, "THD with DC", fixed(100 * h.thd_with_dc, 2) + " %   IEEE 1459: DC counted as distortion");
-  line(out, "even harmonics", fixed(100 * h.even_harmonic_share, 2) + " % of the harmonic content (orders \xE2\x89\xA5 2)");
+  line(out, "THD (IEC)",
+       fixed(100 * h.thd, 2) + " %   orders 2\xE2\x80\x93" + std::to_string(h.max_usable_order) +
+           " over the fundamental, DC excluded");
+  line(out, "THD with DC",
+       fixed(100 * h.thd_with_dc, 2) + " %   IEEE 1459: DC counted as distortion");
+  line(
+      out, "even harmonics",
+      fixed(100 * h.even_harmonic_share, 2) + " % of the harmonic content (orders \xE2\x89\xA5 2)");
   line(out, "DC / fundamental", fixed(100 * h.dc_to_fundamental, 3) + " %");
   out << "  harmonics (" << h.blocks << " blocks of " << h.block_cycles << " cycles"
       << (h.iec_61000_4_7 ? ", IEC 61000-4-7 window" : "") << "):\n";
@@ -59,11 +61,13 @@ std::string course_text(const TimeCourseResult& c) {
   for (const Event& e : c.events) {
     if (!out.empty()) out += "; ";
     if (e.kind == "flip") {
-      out += "polarity flip at " + format_si(e.time_s, "s", 4) + " (" + format_si(e.level_before_a, "A", 3, true) +
-             " \xE2\x86\x92 " + format_si(e.level_after_a, "A", 3, true) + ")";
+      out += "polarity flip at " + format_si(e.time_s, "s", 4) + " (" +
+             format_si(e.level_before_a, "A", 3, true) + " \xE2\x86\x92 " +
+             format_si(e.level_after_a, "A", 3, true) + ")";
     } else if (e.kind == "build_up" && e.tau_s) {
       out += "DC builds up from " + format_si(e.level_before_a, "A", 3, true) + " to " +
-             format_si(e.level_after_a, "A", 3, true) + ", \xCF\x84 = " + format_si(*e.tau_s, "s", 3);
+             format_si(e.level_after_a, "A", 3, true) +
+             ", \xCF\x84 = " + format_si(*e.tau_s, "s", 3);
     }
   }
   if (out.empty()) out = c.steady ? "steady" : "no flip, no build-up";
@@ -77,20 +81,24 @@ void write_diagnosis_text(std::ostream& out, const MeasureResult& r) {
   line(out, "time course", course_text(r.time_course));
   if (r.heating) {
     const HeatingShare& h = *r.heating;
-    line(out, "electrode heating", "A " + fixed(100 * h.electrode_a, 1) + " %, B " + fixed(100 * h.electrode_b, 1) +
-                                       " % (cathode share " + fixed(100 * h.cathode_share_used, 0) + " %, " + h.regime + ")");
+    line(out, "electrode heating",
+         "A " + fixed(100 * h.electrode_a, 1) + " %, B " + fixed(100 * h.electrode_b, 1) +
+             " % (cathode share " + fixed(100 * h.cathode_share_used, 0) + " %, " + h.regime + ")");
     if (h.erosion_a_ug_per_h) {
-      line(out, "cathode erosion", "A " + fixed(*h.erosion_a_ug_per_h, 3) + " \xC2\xB5g/h, B " +
-                                       fixed(*h.erosion_b_ug_per_h, 3) + " \xC2\xB5g/h");
+      line(out, "cathode erosion",
+           "A " + fixed(*h.erosion_a_ug_per_h, 3) + " \xC2\xB5g/h, B " +
+               fixed(*h.erosion_b_ug_per_h, 3) + " \xC2\xB5g/h");
     }
   }
   out << "\n  evidence:\n";
   for (const Evidence& e : d.evidence) {
-    const bool deciding = std::find(d.deciding.begin(), d.deciding.end(), e.code) != d.deciding.end();
+    const bool deciding =
+        std::find(d.deciding.begin(), d.deciding.end(), e.code) != d.deciding.end();
     out << "    " << (deciding ? "* " : "  ") << pad(e.code, 38) << e.text << '\n';
   }
   out << '\n';
-  line(out, "VERDICT", std::string(to_string(d.verdict)) + "  (confidence " + fixed(d.confidence, 2) + ")");
+  line(out, "VERDICT",
+       std::string(to_string(d.verdict)) + "  (confidence " + fixed(d.confidence, 2) + ")");
   for (const std::string& step : d.next_steps) out << "  next: " << step << '\n';
   out << "  " << kHighVoltageCaution << '\n';
   out << "  Electrode A is the one the probed lead feeds: while i > 0, A is the anode.\n";
@@ -133,49 +141,75 @@ json harmonics_json(const HarmonicSummary& h) {
 void write_measure_text(std::ostream& out, const MeasureResult& r) {
   const CycleSummary& s = r.summary;
   out << "lopside measure: " << r.info.path << '\n';
-  line(out, "capture", r.info.format + ", " + format_si(r.info.sample_rate_hz, "Hz", 4) + ", " +
-                           std::to_string(s.frames) + " samples, " +
-                           format_si(static_cast<double>(s.frames) / r.info.sample_rate_hz, "s", 4));
-  line(out, "current", "'" + r.current_name + "'" +
-                           (s.current_zero_a != 0.0
-                                ? ", zero " + format_with_uncertainty(s.current_zero_a, 2 * r.zero_u_a, "A", true) +
-                                      " subtracted"
-                                : std::string()));
+  line(out, "capture",
+       r.info.format + ", " + format_si(r.info.sample_rate_hz, "Hz", 4) + ", " +
+           std::to_string(s.frames) + " samples, " +
+           format_si(static_cast<double>(s.frames) / r.info.sample_rate_hz, "s", 4));
+  line(out, "current",
+       "'" + r.current_name + "'" +
+           (s.current_zero_a != 0.0
+                ? ", zero " + format_with_uncertainty(s.current_zero_a, 2 * r.zero_u_a, "A", true) +
+                      " subtracted"
+                : std::string()));
   if (r.voltage_name) line(out, "voltage", "'" + *r.voltage_name + "'");
-  line(out, "cycles", std::to_string(s.cycles) + " whole, from rising crossings of the " +
-                          s.reference + " (" + count_text(s.partial_cycles, "partial cycle", "partial cycles") +
-                          " at the ends left out" +
-                          (s.excluded_cycles ? ", " + std::to_string(s.excluded_cycles) + " in the zero stretch" : std::string()) +
-                          ")");
-  line(out, "fundamental", format_with_uncertainty(s.fundamental_hz.value, s.fundamental_hz.u95, "Hz", false) +
-                               "  (recorder clock tolerance not included)");
+  line(out, "cycles",
+       std::to_string(s.cycles) + " whole, from rising crossings of the " + s.reference + " (" +
+           count_text(s.partial_cycles, "partial cycle", "partial cycles") +
+           " at the ends left out" +
+           (s.excluded_cycles ? ", " + std::to_string(s.excluded_cycles) + " in the zero stretch"
+                              : std::string()) +
+           ")");
+  line(out, "fundamental",
+       format_with_uncertainty(s.fundamental_hz.value, s.fundamental_hz.u95, "Hz", false) +
+           "  (recorder clock tolerance not included)");
   out << '\n';
-  line(out, "DC offset", format_with_uncertainty(s.dc_offset_a.value, s.dc_offset_a.u95, "A", true) +
-                             (s.dc_significant ? "  significant" : "  not significant"));
+  line(out, "DC offset",
+       format_with_uncertainty(s.dc_offset_a.value, s.dc_offset_a.u95, "A", true) +
+           (s.dc_significant ? "  significant" : "  not significant"));
   line(out, "RMS", format_with_uncertainty(s.rms_a.value, s.rms_a.u95, "A", false));
   line(out, "AC RMS", format_with_uncertainty(s.ac_rms_a.value, s.ac_rms_a.u95, "A", false));
-  line(out, "charge asymmetry", format_ratio_with_uncertainty(s.charge_asymmetry.value, s.charge_asymmetry.u95, true) +
-                                    "  (Q+ \xE2\x88\x92 Q\xE2\x88\x92)/(Q+ + Q\xE2\x88\x92)");
-  line(out, "Q+ per cycle", format_with_uncertainty(s.charge_positive_c.value, s.charge_positive_c.u95, "C", false));
-  line(out, "Q\xE2\x88\x92 per cycle", format_with_uncertainty(s.charge_negative_c.value, s.charge_negative_c.u95, "C", false));
-  line(out, "positive share", format_percent_with_uncertainty(s.positive_share.value, s.positive_share.u95, false) +
-                                  " of each period with i > 0");
-  line(out, "peak +", format_with_uncertainty(s.peak_positive_a.value, s.peak_positive_a.u95, "A", true));
-  line(out, "peak \xE2\x88\x92", format_with_uncertainty(s.peak_negative_a.value, s.peak_negative_a.u95, "A", true));
-  line(out, "clipped cycles", std::to_string(s.clipped_positive) + " positive, " +
-                                  std::to_string(s.clipped_negative) + " negative");
+  line(out, "charge asymmetry",
+       format_ratio_with_uncertainty(s.charge_asymmetry.value, s.charge_asymmetry.u95, true) +
+           "  (Q+ \xE2\x88\x92 Q\xE2\x88\x92)/(Q+ + Q\xE2\x88\x92)");
+  line(out, "Q+ per cycle",
+       format_with_uncertainty(s.charge_positive_c.value, s.charge_positive_c.u95, "C", false));
+  line(out, "Q\xE2\x88\x92 per cycle",
+       format_with_uncertainty(s.charge_negative_c.value, s.charge_negative_c.u95, "C", false));
+  line(out, "positive share",
+       format_percent_with_uncertainty(s.positive_share.value, s.positive_share.u95, false) +
+           " of each period with i > 0");
+  line(out, "peak +",
+       format_with_uncertainty(s.peak_positive_a.value, s.peak_positive_a.u95, "A", true));
+  line(out, "peak \xE2\x88\x92",
+       format_with_uncertainty(s.peak_negative_a.value, s.peak_negative_a.u95, "A", true));
+  line(out, "clipped cycles",
+       std::to_string(s.clipped_positive) + " positive, " + std::to_string(s.clipped_negative) +
+           " negative");
   line(out, "crest factor", fixed(s.crest_factor, 3) + "   form factor " + fixed(s.form_factor, 4));
-  if (s.harmonics && s.harmonics->blocks > 0) write_harmonics_text(out, *s.harmonics, s.fundamental_hz.value);
+  if (s.harmonics && s.harmonics->blocks > 0)
+    write_harmonics_text(out, *s.harmonics, s.fundamental_hz.value);
   if (s.has_voltage) {
     out << '\n';
-    line(out, "voltage mean", format_with_uncertainty(s.voltage_mean_v.value, s.voltage_mean_v.u95, "V", true));
-    line(out, "voltage RMS", format_with_uncertainty(s.voltage_rms_v.value, s.voltage_rms_v.u95, "V", false));
-    line(out, "voltage peak +", format_with_uncertainty(s.voltage_peak_positive_v.value, s.voltage_peak_positive_v.u95, "V", true));
-    line(out, "voltage peak \xE2\x88\x92", format_with_uncertainty(s.voltage_peak_negative_v.value, s.voltage_peak_negative_v.u95, "V", true));
-    line(out, "voltage pos. share", format_percent_with_uncertainty(s.voltage_positive_share.value, s.voltage_positive_share.u95, false));
+    line(out, "voltage mean",
+         format_with_uncertainty(s.voltage_mean_v.value, s.voltage_mean_v.u95, "V", true));
+    line(out, "voltage RMS",
+         format_with_uncertainty(s.voltage_rms_v.value, s.voltage_rms_v.u95, "V", false));
+    line(out, "voltage peak +",
+         format_with_uncertainty(s.voltage_peak_positive_v.value, s.voltage_peak_positive_v.u95,
+                                 "V", true));
+    line(out, "voltage peak \xE2\x88\x92",
+         format_with_uncertainty(s.voltage_peak_negative_v.value, s.voltage_peak_negative_v.u95,
+                                 "V", true));
+    line(out, "voltage pos. share",
+         format_percent_with_uncertainty(s.voltage_positive_share.value,
+                                         s.voltage_positive_share.u95, false));
     line(out, "real power", format_with_uncertainty(s.power_w.value, s.power_w.u95, "W", false));
-    line(out, "energy while i > 0", format_with_uncertainty(s.energy_positive_j.value, s.energy_positive_j.u95, "J", false) + " per cycle");
-    line(out, "energy while i < 0", format_with_uncertainty(s.energy_negative_j.value, s.energy_negative_j.u95, "J", false) + " per cycle");
+    line(out, "energy while i > 0",
+         format_with_uncertainty(s.energy_positive_j.value, s.energy_positive_j.u95, "J", false) +
+             " per cycle");
+    line(out, "energy while i < 0",
+         format_with_uncertainty(s.energy_negative_j.value, s.energy_negative_j.u95, "J", false) +
+             " per cycle");
   }
   out << "\n  Uncertainties are expanded (95 %, k = 2 unless stated otherwise in the JSON): "
          "cycle-to-cycle scatter by batch means";
@@ -208,8 +242,9 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   probe["gain_tolerance_pct"] = r.probe_gain_pct;
   probe["zero_a"] = s.current_zero_a;
   probe["zero_u_a"] = r.zero_u_a;
-  probe["zero_stretch_s"] = r.zero_stretch_s ? json::array({r.zero_stretch_s->first, r.zero_stretch_s->second})
-                                             : json(nullptr);
+  probe["zero_stretch_s"] = r.zero_stretch_s
+                                ? json::array({r.zero_stretch_s->first, r.zero_stretch_s->second})
+                                : json(nullptr);
   doc["probe"] = probe;
   doc["reference"] = s.reference;
   doc["fundamental_hz"] = estimate_json(s.fundamental_hz);
@@ -257,7 +292,8 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     doc["harmonic_blocks"] = h.blocks;
     doc["harmonic_block_cycles"] = h.block_cycles;
     doc["harmonic_iec_61000_4_7"] = h.iec_61000_4_7;
-    doc["harmonic_phase_convention"] = "phase_deg = phi_n - n*phi_1, sine basis a*sin(n*theta + phi)";
+    doc["harmonic_phase_convention"] =
+        "phase_deg = phi_n - n*phi_1, sine basis a*sin(n*theta + phi)";
   } else {
     doc["harmonics"] = nullptr;
   }
@@ -273,7 +309,8 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     diag["deciding"] = d.deciding;
     json ev = json::array();
     for (const Evidence& e : d.evidence) {
-      ev.push_back(json{{"code", e.code}, {"value", e.value}, {"threshold", e.threshold}, {"text", e.text}});
+      ev.push_back(
+          json{{"code", e.code}, {"value", e.value}, {"threshold", e.threshold}, {"text", e.text}});
     }
     diag["evidence"] = ev;
     diag["next_steps"] = d.next_steps;
@@ -282,7 +319,10 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     const TimeCourseResult& c = r.time_course;
     json events = json::array();
     for (const Event& e : c.events) {
-      json j{{"kind", e.kind}, {"time_s", e.time_s}, {"level_before_a", e.level_before_a}, {"level_after_a", e.level_after_a}};
+      json j{{"kind", e.kind},
+             {"time_s", e.time_s},
+             {"level_before_a", e.level_before_a},
+             {"level_after_a", e.level_after_a}};
       if (e.tau_s) j["tau_s"] = *e.tau_s;
       events.push_back(j);
     }
@@ -297,17 +337,23 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     tc["steady"] = c.steady;
     json segs = json::array();
     for (const Segment& g : c.segments) {
-      segs.push_back(json{{"start_s", g.start_s}, {"end_s", g.end_s}, {"mean_dc_a", g.mean_dc_a}, {"u95_a", g.u95_a}});
+      segs.push_back(json{{"start_s", g.start_s},
+                          {"end_s", g.end_s},
+                          {"mean_dc_a", g.mean_dc_a},
+                          {"u95_a", g.u95_a}});
     }
     tc["segments"] = segs;
     json pts = json::array();
-    for (const CoursePoint& p : c.points) pts.push_back(json::array({p.time_s, p.dc_offset_a, p.charge_asymmetry}));
+    for (const CoursePoint& p : c.points)
+      pts.push_back(json::array({p.time_s, p.dc_offset_a, p.charge_asymmetry}));
     tc["points_time_s_dc_a_asymmetry"] = pts;
     doc["time_course"] = tc;
     if (r.heating) {
       const HeatingShare& h = *r.heating;
-      json hs{{"electrode_a", h.electrode_a}, {"electrode_b", h.electrode_b},
-              {"cathode_share_used", h.cathode_share_used}, {"regime", h.regime}};
+      json hs{{"electrode_a", h.electrode_a},
+              {"electrode_b", h.electrode_b},
+              {"cathode_share_used", h.cathode_share_used},
+              {"regime", h.regime}};
       hs["erosion_a_ug_per_h"] = h.erosion_a_ug_per_h ? json(*h.erosion_a_ug_per_h) : json(nullptr);
       hs["erosion_b_ug_per_h"] = h.erosion_b_ug_per_h ? json(*h.erosion_b_ug_per_h) : json(nullptr);
       doc["heating_share"] = hs;
@@ -316,7 +362,8 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     }
   }
   doc["sign_convention"] =
-      "positive current flows from the probed lead into electrode A, so while i > 0 electrode A is the anode";
+      "positive current flows from the probed lead into electrode A, so while i > 0 electrode A is "
+      "the anode";
   doc["warnings"] = r.warnings;
   out << doc.dump(2, ' ', false, json::error_handler_t::replace) << '\n';
 }

@@ -1,11 +1,11 @@
 #include "lopside/report_format.hpp"
 
-#include "lopside/units.hpp"
-
 #include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdio>
+
+#include "lopside/units.hpp"
 
 namespace lopside {
 namespace {
@@ -26,7 +26,8 @@ int decimals_for(double u, double value) {
     return std::clamp(d, 0, 12);
   }
   const double m = std::fabs(value);
-  if (m > 0 && std::isfinite(m)) return std::clamp(3 - static_cast<int>(std::floor(std::log10(m))), 0, 12);
+  if (m > 0 && std::isfinite(m))
+    return std::clamp(3 - static_cast<int>(std::floor(std::log10(m))), 0, 12);
   return 1;
 }
 
@@ -63,9 +64,10 @@ std::string format_with_uncertainty(double value, double u95, std::string_view u
   const SiPrefix p = prefix_for(std::max(std::fabs(value), std::isfinite(u95) ? u95 : 0.0));
   const double v = value / p.factor, u = u95 / p.factor;
   const int d = capped_decimals(decimals_for(u, v), v);
-  std::string out = printf_string(signed_always ? "%+.*f" : "%.*f", d, v) + " " + p.symbol +
-                    std::string(unit);
-  if (std::isfinite(u95)) out += " \xC2\xB1 " + uncertainty_text(u, d) + " " + p.symbol + std::string(unit);
+  std::string out =
+      printf_string(signed_always ? "%+.*f" : "%.*f", d, v) + " " + p.symbol + std::string(unit);
+  if (std::isfinite(u95))
+    out += " \xC2\xB1 " + uncertainty_text(u, d) + " " + p.symbol + std::string(unit);
   return out;
 }
 

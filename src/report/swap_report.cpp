@@ -3,14 +3,12 @@
 #include <array>
 #include <cmath>
 #include <cstdio>
-#include <ostream>
-
 #include <nlohmann/json.hpp>
-
-#include "report_support.hpp"
+#include <ostream>
 
 #include "lopside/report_format.hpp"
 #include "lopside/units.hpp"
+#include "report_support.hpp"
 
 namespace lopside {
 namespace {
@@ -31,7 +29,9 @@ constexpr const char* kSignConvention =
     "drives net current into A; E > 0, the electrodes draw net current into A (A is the anode for "
     "more charge, B the preferred cathode)";
 
-json finite_or_null(double v) { return std::isfinite(v) ? json(v) : json(nullptr); }
+json finite_or_null(double v) {
+  return std::isfinite(v) ? json(v) : json(nullptr);
+}
 
 std::string signed_fixed(double v, int decimals) {
   std::array<char, 48> buf{};
@@ -64,11 +64,14 @@ void capture_lines(std::ostream& out, const char* label, const SwapCaptureReport
                    const Estimate& dc, const Estimate& asymmetry) {
   const CycleSummary& s = c.summary;
   line(out, label, c.path);
-  line(out, "", "DC offset " + format_with_uncertainty(dc.value, dc.u95, "A", true) +
-                    ", charge asymmetry " + format_ratio_with_uncertainty(asymmetry.value, asymmetry.u95, true));
-  line(out, "", format_si(s.fundamental_hz.value, "Hz", 5) + ", AC RMS " + format_si(s.ac_rms_a.value, "A", 4) +
-                    ", " + std::to_string(s.cycles) + " whole cycles, " +
-                    std::to_string(s.clipped_positive + s.clipped_negative) + " clipped");
+  line(out, "",
+       "DC offset " + format_with_uncertainty(dc.value, dc.u95, "A", true) + ", charge asymmetry " +
+           format_ratio_with_uncertainty(asymmetry.value, asymmetry.u95, true));
+  line(out, "",
+       format_si(s.fundamental_hz.value, "Hz", 5) + ", AC RMS " +
+           format_si(s.ac_rms_a.value, "A", 4) + ", " + std::to_string(s.cycles) +
+           " whole cycles, " + std::to_string(s.clipped_positive + s.clipped_negative) +
+           " clipped");
 }
 
 std::string counts_text(const std::vector<std::string>& deciding, const char* code) {
@@ -88,27 +91,35 @@ void write_swap_text(std::ostream& out, const SwapReport& rep) {
   const std::string e_formula = on_electrode ? sum : diff;
   const bool decided = r.verdict != Verdict::symmetric && r.verdict != Verdict::inconclusive;
 
-  out << "lopside swap: probe on " << (on_electrode ? "the same electrode's lead" : "the same supply terminal")
-      << '\n';
+  out << "lopside swap: probe on "
+      << (on_electrode ? "the same electrode's lead" : "the same supply terminal") << '\n';
   capture_lines(out, "normal (N)", rep.normal, r.normal_dc_a, r.normal_asymmetry);
   capture_lines(out, "swapped (S)", rep.swapped, r.swapped_dc_a, r.swapped_asymmetry);
   out << '\n';
-  line(out, "supply part D", pad(format_with_uncertainty(r.driver_bias_a.value, r.driver_bias_a.u95, "A", true), 24) +
-                                 d_formula + (decided ? ", " + counts_text(r.deciding, "driver_bias") : std::string()));
+  line(out, "supply part D",
+       pad(format_with_uncertainty(r.driver_bias_a.value, r.driver_bias_a.u95, "A", true), 24) +
+           d_formula + (decided ? ", " + counts_text(r.deciding, "driver_bias") : std::string()));
   line(out, "electrode part E",
-       pad(format_with_uncertainty(r.electrode_bias_a.value, r.electrode_bias_a.u95, "A", true), 24) + e_formula +
+       pad(format_with_uncertainty(r.electrode_bias_a.value, r.electrode_bias_a.u95, "A", true),
+           24) +
+           e_formula +
            (decided ? ", " + counts_text(r.deciding, "electrode_bias") : std::string()));
   line(out, "supply asymmetry",
-       pad(format_ratio_with_uncertainty(r.driver_asymmetry.value, r.driver_asymmetry.u95, true), 24) + d_formula);
+       pad(format_ratio_with_uncertainty(r.driver_asymmetry.value, r.driver_asymmetry.u95, true),
+           24) +
+           d_formula);
   line(out, "electrode asymmetry",
-       pad(format_ratio_with_uncertainty(r.electrode_asymmetry.value, r.electrode_asymmetry.u95, true), 24) +
+       pad(format_ratio_with_uncertainty(r.electrode_asymmetry.value, r.electrode_asymmetry.u95,
+                                         true),
+           24) +
            e_formula);
   out << '\n';
-  line(out, "verdict", std::string(to_string(r.verdict)) + ", confidence " + fixed(r.confidence, 2));
+  line(out, "verdict",
+       std::string(to_string(r.verdict)) + ", confidence " + fixed(r.confidence, 2));
   out << "  evidence (value, then the bar it is held against):\n";
   for (const Evidence& e : r.evidence) {
-    out << "    " << pad(e.code, 21) << pad(evidence_figure(e.code, e.value), 14) << pad(evidence_bar(e.code, e.threshold), 12)
-        << e.text << '\n';
+    out << "    " << pad(e.code, 21) << pad(evidence_figure(e.code, e.value), 14)
+        << pad(evidence_bar(e.code, e.threshold), 12) << e.text << '\n';
   }
   if (!r.next_steps.empty()) {
     out << "  next steps:\n";
@@ -123,7 +134,8 @@ void write_swap_text(std::ostream& out, const SwapReport& rep) {
   }
   out << ".\n  Sign convention: " << kSignConvention << ".\n  " << kSafety << '\n';
 
-  const bool any_warning = !r.warnings.empty() || !rep.normal.warnings.empty() || !rep.swapped.warnings.empty();
+  const bool any_warning =
+      !r.warnings.empty() || !rep.normal.warnings.empty() || !rep.swapped.warnings.empty();
   if (any_warning) {
     out << "\nwarnings:\n";
     for (const auto& w : r.warnings) out << "  - " << w << '\n';
@@ -138,7 +150,8 @@ void write_swap_json(std::ostream& out, const SwapReport& rep) {
   json doc;
   doc["schema"] = kSwapSchema;
   doc["probe_on"] = to_string(r.probe_on);
-  doc["probe"] = json{{"offset_tolerance_a", rep.probe_offset_a}, {"gain_tolerance_pct", rep.probe_gain_pct}};
+  doc["probe"] =
+      json{{"offset_tolerance_a", rep.probe_offset_a}, {"gain_tolerance_pct", rep.probe_gain_pct}};
   doc["formulas"] = json{{"driver", on_electrode ? "(N - S)/2" : "(N + S)/2"},
                          {"electrode", on_electrode ? "(N + S)/2" : "(N - S)/2"}};
   doc["driver_bias_a"] = estimate_json(r.driver_bias_a);
@@ -169,7 +182,8 @@ void write_swap_json(std::ostream& out, const SwapReport& rep) {
     j["fundamental_hz"] = finite_or_null(c.summary.fundamental_hz.value);
     j["ac_rms_a"] = finite_or_null(c.summary.ac_rms_a.value);
     j["cycle_count"] = c.summary.cycles;
-    j["clipped_cycles"] = json{{"positive", c.summary.clipped_positive}, {"negative", c.summary.clipped_negative}};
+    j["clipped_cycles"] =
+        json{{"positive", c.summary.clipped_positive}, {"negative", c.summary.clipped_negative}};
     return j;
   };
   doc["normal"] = capture(rep.normal, r.normal_dc_a, r.normal_asymmetry);

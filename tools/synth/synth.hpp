@@ -65,7 +65,7 @@ struct CaptureSpec {
   /// frame] the current's lobe asymmetry is mirrored (positive peak ratio × peak, negative peak
   /// peak), so its DC changes sign. Needs negative_ratio > 0.
   std::optional<double> polarity_flip_s;
-  std::uint64_t seed = 1;             ///< seed of the std::mt19937_64 noise generator
+  std::uint64_t seed = 1;  ///< seed of the std::mt19937_64 noise generator
 };
 
 /// Throws std::invalid_argument naming the first field out of its documented range.
