@@ -15,6 +15,14 @@ struct UnitScale {
   double factor = 1.0;
 };
 
+/// `s` without leading and trailing blanks (spaces and tabs): how cells and header names are
+/// compared everywhere.
+inline std::string_view trim_blanks(std::string_view s) {
+  while (!s.empty() && (s.front() == ' ' || s.front() == '\t')) s.remove_prefix(1);
+  while (!s.empty() && (s.back() == ' ' || s.back() == '\t')) s.remove_suffix(1);
+  return s;
+}
+
 /// Parses "mA", "kV", "us", "µs" (micro sign U+00B5 or Greek mu U+03BC), "A", "V", "s", "ns",
 /// "uA", "kA", "mV", "ms". Case matters for prefixes (m is milli). Returns nullopt otherwise.
 std::optional<UnitScale> parse_unit(std::string_view text);

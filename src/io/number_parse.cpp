@@ -7,13 +7,13 @@
 #include <cstring>
 #include <string>
 
+#include "lopside/units.hpp"
+
 namespace lopside {
 namespace {
 
 std::string_view trim(std::string_view s) {
-  while (!s.empty() && (s.front() == ' ' || s.front() == '\t')) s.remove_prefix(1);
-  while (!s.empty() && (s.back() == ' ' || s.back() == '\t')) s.remove_suffix(1);
-  return s;
+  return trim_blanks(s);
 }
 
 bool iequals(std::string_view a, std::string_view b) {

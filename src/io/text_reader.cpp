@@ -35,9 +35,7 @@ constexpr std::size_t kChunkBytes = 1 << 20;
 constexpr std::size_t kMaxLineBytes = 1 << 20;
 
 std::string_view trim(std::string_view s) {
-  while (!s.empty() && (s.front() == ' ' || s.front() == '\t')) s.remove_prefix(1);
-  while (!s.empty() && (s.back() == ' ' || s.back() == '\t')) s.remove_suffix(1);
-  return s;
+  return trim_blanks(s);
 }
 
 std::string lower(std::string_view s) {
