@@ -234,3 +234,30 @@ TEST(CycleEngine, VoltageFiguresAndPower) {
 
 }  // namespace
 }  // namespace lopside
+
+namespace lopside {
+namespace {
+
+TEST(CycleEngine, ExcludedStretchStaysOutOfSummaryAndHarmonicBlocks) {
+  // 100.5 cycles of a sine; cycles overlapping the first 1 ms (32 cycles at 32 kHz) are left
+  // out of the summary, and no harmonic block spans them.
+  synth::CaptureSpec s = sine_spec(32e3, 0.02, 5e6, 100.5 / 32e3);
+  CycleConfig config;
+  config.exclude_s = std::pair<double, double>{0.0, 1e-3};
+  config.harmonics = HarmonicConfig{};
+  CycleConfig plain;
+  plain.harmonics = HarmonicConfig{};
+  const CycleSummary all = run_engine(s, plain).summary;
+  const CycleSummary r = run_engine(s, config).summary;
+  EXPECT_EQ(r.cycles + r.excluded_cycles, all.cycles);
+  EXPECT_GE(r.excluded_cycles, 32u);
+  ASSERT_TRUE(r.harmonics && all.harmonics);
+  // 10-cycle blocks fit only into the kept cycles (the last may lack its margin).
+  EXPECT_LE(r.harmonics->blocks, r.cycles / 10);
+  EXPECT_GE(r.harmonics->blocks + 1, r.cycles / 10);
+  EXPECT_LT(r.harmonics->blocks, all.harmonics->blocks);
+  EXPECT_NEAR(r.harmonics->orders[1].amplitude_a, 0.02, 0.02 * 1e-3);
+}
+
+}  // namespace
+}  // namespace lopside

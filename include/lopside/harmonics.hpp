@@ -66,6 +66,8 @@ class HarmonicAnalyzer {
 
   void on_sample(std::uint64_t index, double value);
   void on_boundary(double index);
+  /// Forgets the boundaries of the block being filled: the next boundary starts a new block.
+  void drop_partial_block();
   /// Aggregates the complete blocks (a last incomplete block is left out).
   HarmonicSummary finish();
 

@@ -201,6 +201,7 @@ struct CycleEngine::Impl {
   std::uint64_t clip_max_count = 0, clip_min_count = 0;
   bool finished = false;
   std::optional<HarmonicAnalyzer> harmonic;
+  bool last_cycle_excluded = false;
   BatchMeans crest_peak;
 
   const Frame& at(std::uint64_t index) const { return ring[index & (kRing - 1)]; }
@@ -347,7 +348,12 @@ struct CycleEngine::Impl {
         boundaries.pop_front();
         add_piece(a, b, m - 1, from, x);
         on_boundary(x);
-        if (harmonic) harmonic->on_boundary(x);
+        if (harmonic) {
+          // A block holds consecutive cycles the summary keeps: one that ends an excluded
+          // cycle (the --zero stretch) starts a new block.
+          if (last_cycle_excluded) harmonic->drop_partial_block();
+          harmonic->on_boundary(x);
+        }
         from = x;
       }
       add_piece(a, b, m - 1, from, to);
@@ -442,8 +448,10 @@ struct CycleEngine::Impl {
     const bool excluded =
         cfg.exclude_s && r.start_s < cfg.exclude_s->second && end_s > cfg.exclude_s->first;
     ++cycle_index;
+    last_cycle_excluded = false;
     if (excluded) {
       ++summary.excluded_cycles;
+      last_cycle_excluded = true;
       return;
     }
     add_to_summary(r, end_s);

@@ -279,6 +279,11 @@ void HarmonicAnalyzer::on_boundary(double index) {
   m.advance();
 }
 
+void HarmonicAnalyzer::drop_partial_block() {
+  impl_->bounds.clear();
+  impl_->update_ready_at();
+}
+
 HarmonicSummary HarmonicAnalyzer::finish() {
   Impl& m = *impl_;
   HarmonicSummary out;
