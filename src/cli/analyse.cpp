@@ -6,6 +6,7 @@
 
 #include "commands.hpp"
 #include "lopside/capture_reader.hpp"
+#include "lopside/channel_roles.hpp"
 #include "lopside/cycle_engine.hpp"
 #include "lopside/diagnosis.hpp"
 #include "lopside/error.hpp"
@@ -18,23 +19,11 @@
 namespace lopside::cli {
 namespace {
 
-constexpr std::size_t kBlockFrames = std::size_t{1} << 16;
-
 std::optional<std::size_t> channel_with_role(const CaptureInfo& info, ChannelRole role) {
   for (std::size_t c = 0; c < info.channels.size(); ++c) {
     if (info.channels[c].role == role) return c;
   }
   return std::nullopt;
-}
-
-std::string channel_list(const CaptureInfo& info) {
-  std::string out;
-  for (const auto& c : info.channels) {
-    if (!out.empty()) out += ", ";
-    out +=
-        std::to_string(c.index) + " '" + c.name + "'" + (c.unit.empty() ? "" : " [" + c.unit + "]");
-  }
-  return out;
 }
 
 struct Zero {
@@ -126,7 +115,7 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
     throw InputError(o.capture_path,
                      "no channel is known to carry the current; expected "
                      "--current CH (channels: " +
-                         channel_list(info) + ")");
+                         describe_channels(info.channels) + ")");
   }
   const auto voltage = channel_with_role(info, ChannelRole::voltage);
 

@@ -18,9 +18,6 @@
 namespace lopside::cli {
 namespace {
 
-/// Frames per block: 64 Ki frames of a few channels stay within a few MB whatever the capture.
-constexpr std::size_t kBlockFrames = std::size_t{1} << 16;
-
 std::string percent(double share) {
   std::array<char, 32> buf{};
   std::snprintf(buf.data(), buf.size(), "%.2f %%", share * 100.0);

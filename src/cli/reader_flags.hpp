@@ -3,10 +3,15 @@
 /// The flags every command that reads a capture understands, bound to lopside::ReaderOptions.
 
 #include <CLI/CLI.hpp>
+#include <cstddef>
 
 #include "lopside/reader_options.hpp"
 
 namespace lopside::cli {
+
+/// Frames per block every command reads: 64 Ki frames of a few channels stay within a few MB
+/// whatever the capture's size.
+inline constexpr std::size_t kBlockFrames = std::size_t{1} << 16;
 
 /// Adds --current, --voltage, --scale, --gain, --unit (the last three repeatable, as CH=VALUE),
 /// --rate and --skip-bad-rows to `app`, filling `options` as they are parsed. `options` must

@@ -18,15 +18,6 @@ std::string lower(std::string_view s) {
   return out;
 }
 
-std::string channel_list(const std::vector<ChannelInfo>& channels) {
-  std::string out;
-  for (const auto& c : channels) {
-    if (!out.empty()) out += ", ";
-    out += std::to_string(c.index) + " '" + c.name + "'";
-  }
-  return out.empty() ? std::string("none") : out;
-}
-
 // Name fragments that mean current or voltage in the headers technicians write. Whole-word
 // single letters (I, U, V) are the symbols of IEC 60027-1; the rest are common practice.
 bool name_means_current(const std::string& n) {
@@ -42,6 +33,16 @@ bool name_means_voltage(const std::string& n) {
 
 }  // namespace
 
+std::string describe_channels(const std::vector<ChannelInfo>& channels) {
+  std::string out;
+  for (const auto& c : channels) {
+    if (!out.empty()) out += ", ";
+    out +=
+        std::to_string(c.index) + " '" + c.name + "'" + (c.unit.empty() ? "" : " [" + c.unit + "]");
+  }
+  return out.empty() ? std::string("none") : out;
+}
+
 std::size_t find_channel(const std::vector<ChannelInfo>& channels, const ChannelSelector& selector,
                          const std::string& path) {
   std::size_t number = 0;
@@ -50,15 +51,15 @@ std::size_t find_channel(const std::vector<ChannelInfo>& channels, const Channel
   if (ec == std::errc() && ptr == end) {
     if (number >= 1 && number <= channels.size()) return number - 1;
     throw InputError(path, "there is no channel " + selector + "; channels are numbered 1 to " +
-                               std::to_string(channels.size()) + " (" + channel_list(channels) +
-                               "), the time column not counted");
+                               std::to_string(channels.size()) + " (" +
+                               describe_channels(channels) + "), the time column not counted");
   }
   const std::string wanted = lower(selector);
   for (std::size_t i = 0; i < channels.size(); ++i) {
     if (lower(channels[i].name) == wanted) return i;
   }
   throw InputError(path, "there is no channel named '" + selector +
-                             "'; expected a number or one of: " + channel_list(channels));
+                             "'; expected a number or one of: " + describe_channels(channels));
 }
 
 std::vector<double> channel_gains(const std::vector<ChannelInfo>& channels,
