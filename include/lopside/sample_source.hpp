@@ -7,6 +7,7 @@
 #include <cstdint>
 #include <optional>
 #include <string>
+#include <utility>
 #include <vector>
 
 namespace lopside {
@@ -21,6 +22,9 @@ const char* to_string(ChannelRole role) noexcept;
 struct ChannelInfo {
   std::string name;  ///< header name, or "ch1", "ch2", … when the file has none
   std::string unit;  ///< SI unit of the values handed out: "A", "V", "s", or "" if unknown
+  /// The unit as the file states it when it is not one lopside converts ("a.u.", "counts",
+  /// "%"); empty when `unit` is set or nothing is stated.
+  std::string unit_text;
   ChannelRole role = ChannelRole::other;
   std::size_t index = 0;  ///< 1-based channel number, the one `--current 2` refers to
 };
@@ -35,6 +39,10 @@ struct CaptureInfo {
   std::optional<std::uint64_t> frames;  ///< known up front for containers, at the end for text
   std::vector<ChannelInfo> channels;
   std::string detail;  ///< one line on how the file was read (delimiter, sample format, …)
+  /// Every key/value the file states besides the samples (a preamble, `#` comment lines, keyed
+  /// header cells), in file order, as written (valid UTF-8): a serial number or a probe setting
+  /// travels with the result.
+  std::vector<std::pair<std::string, std::string>> metadata;
 };
 
 /// A block of frames, interleaved: value(f, c) = data[f * channels + c], in SI units.
