@@ -24,11 +24,18 @@ inline std::string_view trim_blanks(std::string_view s) {
 }
 
 /// Parses "mA", "kV", "us", "µs" (micro sign U+00B5 or Greek mu U+03BC), "A", "V", "s", "ns",
-/// "uA", "kA", "mV", "ms". Case matters for prefixes (m is milli). Returns nullopt otherwise.
+/// "uA", "kA", "mV", "ms", also in parentheses or brackets ("(ms)"), and unit words in any case,
+/// singular or plural, with SI prefix words ("second", "Volt", "Ampere", "amps", "millivolts").
+/// Case matters for symbol prefixes (m is milli, M mega). Returns nullopt otherwise.
 std::optional<UnitScale> parse_unit(std::string_view text);
 
+/// A unit known to be a time ("uS", "MS", "ps", "sec"): as parse_unit, but case-insensitive,
+/// since preambles print time units in capitals. Only units of time are returned.
+std::optional<UnitScale> parse_time_unit(std::string_view text);
+
 /// A header cell split into name and unit text: "current (mA)" → {"current", "mA"},
-/// "U [kV]" → {"U", "kV"}, "t/us" is not split (a slash may be part of a name).
+/// "U [kV]" → {"U", "kV"}, "t / us" → {"t", "us"}, "current_A" → {"current", "A"}; a slash or
+/// underscore splits only where what follows is a known unit ("U_rms" stays whole).
 struct NameAndUnit {
   std::string name;
   std::string unit_text;  ///< empty when the cell carries no bracketed unit

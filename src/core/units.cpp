@@ -31,8 +31,62 @@ constexpr std::array<Prefix, 8> kPrefixes{{{"", 1.0},
 
 }  // namespace
 
+namespace {
+
+std::string lower_ascii(std::string_view s) {
+  std::string out(s);
+  for (char& c : out) {
+    if (c >= 'A' && c <= 'Z') c = static_cast<char>(c - 'A' + 'a');
+  }
+  return out;
+}
+
+// Spelled-out units as headers and units rows write them ("second", "Volt", "Ampere",
+// "amps", "millivolts"), in any case and singular or plural. The prefix words are the SI
+// prefix names (BIPM SI Brochure, 9th ed., table 7).
+std::optional<UnitScale> parse_unit_word(std::string_view text) {
+  std::string w = lower_ascii(text);
+  struct Word {
+    std::string_view text;
+    const char* si;
+  };
+  static constexpr std::array<Word, 8> kWords{{{"seconds", "s"},
+                                               {"second", "s"},
+                                               {"secs", "s"},
+                                               {"sec", "s"},
+                                               {"volts", "V"},
+                                               {"volt", "V"},
+                                               {"amperes", "A"},
+                                               {"ampere", "A"}}};
+  static constexpr std::array<Word, 2> kShort{{{"amps", "A"}, {"amp", "A"}}};
+  static constexpr std::array<Prefix, 6> kPrefixWords{{{"", 1.0},
+                                                       {"kilo", 1e3},
+                                                       {"mega", 1e6},
+                                                       {"milli", 1e-3},
+                                                       {"micro", 1e-6},
+                                                       {"nano", 1e-9}}};
+  for (const Prefix& p : kPrefixWords) {
+    if (w.rfind(p.text, 0) != 0) continue;
+    const std::string_view rest = std::string_view(w).substr(p.text.size());
+    for (const Word& word : kWords) {
+      if (rest == word.text) return UnitScale{word.si, p.factor};
+    }
+    for (const Word& word : kShort) {
+      if (rest == word.text) return UnitScale{word.si, p.factor};
+    }
+  }
+  return std::nullopt;
+}
+
+}  // namespace
+
 std::optional<UnitScale> parse_unit(std::string_view text) {
   text = trim(text);
+  // A units row may put each unit in parentheses or brackets: "(ms)", "[V]".
+  if (text.size() >= 2 && ((text.front() == '(' && text.back() == ')') ||
+                           (text.front() == '[' && text.back() == ']'))) {
+    text = trim(text.substr(1, text.size() - 2));
+  }
   if (text.empty()) return std::nullopt;
   for (std::string_view base : {"A", "V", "s"}) {
     if (text.size() < base.size() || text.substr(text.size() - base.size()) != base) continue;
@@ -41,12 +95,31 @@ std::optional<UnitScale> parse_unit(std::string_view text) {
       if (p.text == prefix) return UnitScale{std::string(base), p.factor};
     }
   }
-  // Spelled-out forms seen in headers.
-  if (text == "sec") return UnitScale{"s", 1.0};
-  if (text == "Volt" || text == "Volts" || text == "volt" || text == "volts")
-    return UnitScale{"V", 1.0};
-  if (text == "Amp" || text == "Amps" || text == "amp" || text == "amps")
-    return UnitScale{"A", 1.0};
+  return parse_unit_word(text);
+}
+
+std::optional<UnitScale> parse_time_unit(std::string_view text) {
+  text = trim(text);
+  if (text.size() >= 2 && ((text.front() == '(' && text.back() == ')') ||
+                           (text.front() == '[' && text.back() == ']'))) {
+    text = trim(text.substr(1, text.size() - 2));
+  }
+  if (auto u = parse_unit(text); u && u->si_unit == "s") return u;
+  // Preambles print time units in capitals ("20.00uS", "MS" for milliseconds): where the
+  // quantity is known to be a time, case carries no meaning (nobody states megaseconds).
+  const std::string l = lower_ascii(text);
+  static constexpr std::array<Prefix, 9> kTime{{{"s", 1.0},
+                                                {"ms", 1e-3},
+                                                {"us", 1e-6},
+                                                {"\xC2\xB5s", 1e-6},
+                                                {"\xCE\xBCs", 1e-6},
+                                                {"ns", 1e-9},
+                                                {"ps", 1e-12},
+                                                {"fs", 1e-15},
+                                                {"ks", 1e3}}};
+  for (const Prefix& p : kTime) {
+    if (l == p.text) return UnitScale{"s", p.factor};
+  }
   return std::nullopt;
 }
 
@@ -55,10 +128,20 @@ NameAndUnit split_name_unit(std::string_view cell) {
   if (cell.size() >= 2 && (cell.back() == ')' || cell.back() == ']')) {
     const char open = cell.back() == ')' ? '(' : '[';
     const auto pos = cell.rfind(open);
-    if (pos != std::string_view::npos) {
+    if (pos != std::string_view::npos && pos > 0) {
       return NameAndUnit{std::string(trim(cell.substr(0, pos))),
                          std::string(trim(cell.substr(pos + 1, cell.size() - pos - 2)))};
     }
+  }
+  // "quantity / unit" (ISO 80000-1, 7.1: the quotient of a quantity and its unit is a
+  // number) and "name_unit" (time_s, current_A, I_mA, CH1_V): split only where the part after
+  // the separator is a unit lopside knows, so "U_rms" or "a/b" stay whole names.
+  for (const char sep : {'/', '_'}) {
+    const auto pos = cell.rfind(sep);
+    if (pos == std::string_view::npos || pos == 0 || pos + 1 >= cell.size()) continue;
+    const std::string_view unit = trim(cell.substr(pos + 1));
+    const std::string_view name = trim(cell.substr(0, pos));
+    if (!name.empty() && parse_unit(unit)) return NameAndUnit{std::string(name), std::string(unit)};
   }
   return NameAndUnit{std::string(cell), ""};
 }

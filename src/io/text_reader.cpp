@@ -1,12 +1,29 @@
 // The delimited-text capture reader: CSV, semicolon CSV with decimal comma, TSV and
-// whitespace-separated columns as scopes and spreadsheets export them.
+// whitespace-separated columns as scopes, recorders and spreadsheets export them.
+//
+// How a file is understood, by general rules rather than by recognising instruments:
+//  1. The data start at the first line whose cells are all numbers (or empty) and whose next
+//     lines share its shape: same delimiter, same number of cells, numbers in the same columns.
+//     Columns that are numbers there are the data columns; the others are a margin, which some
+//     exports fill with metadata in their first rows (read as key/values) and leave empty later.
+//  2. Lines above the data that share that shape are data too (the margin rows of those
+//     exports). Above the data, skipping blank lines and lines of bare delimiters: a units row
+//     (units under the names: "second,Volt" or "(ms),(V)") and the names row above it, or a
+//     names row alone. Header cells beyond the data's columns pair up as key/values ("Start",
+//     "Increment" over their values).
+//  3. Everything else above is preamble: key/value lines, '#' comment lines included, all kept
+//     as metadata; the time base and the vertical units are read from them.
+//  4. The time column is found by its unit or its name; a sample-index column (0, 1, 2, …) is
+//     not a channel; a headerless first column that rises in even steps is the time.
 //
 // Streaming: the file is read in fixed chunks; at open, a look-ahead of at most
-// kLookaheadRows data rows is parsed so that the sample interval can be fitted before the first
-// block is handed out. Memory is bounded by that look-ahead, never by the file's size.
+// kLookaheadRows data rows is parsed so that the layout and the sample interval can be settled
+// before the first block is handed out. Memory is bounded by that look-ahead and a window of
+// preamble lines, never by the file's size.
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <cstdio>
 #include <cstring>
 #include <deque>
 #include <istream>
@@ -19,6 +36,7 @@
 #include "lopside/channel_roles.hpp"
 #include "lopside/error.hpp"
 #include "lopside/number_parse.hpp"
+#include "lopside/text_metadata.hpp"
 #include "lopside/units.hpp"
 
 namespace lopside {
@@ -28,9 +46,14 @@ namespace {
 // tenth of a step (8 significant digits, t ≥ 10 s, 100 ns steps): the slope error of a least
 // squares line through n rows with uniform rounding error q is q·sqrt(12/n³)/sqrt(12).
 constexpr std::size_t kLookaheadRows = 65536;
-// Lines before the data that may hold a preamble and a header; a scope's header block is a few
-// dozen lines, so a longer run of non-numeric text means this is not a capture.
-constexpr std::size_t kMaxPreambleLines = 1000;
+// The look-ahead holds at most this many values, so a file of many columns holds fewer rows.
+constexpr std::size_t kLookaheadValues = std::size_t{1} << 22;
+// Lines of preamble kept at once while looking for the data; older ones are read for their
+// key/values and dropped, so a long preamble costs no memory.
+constexpr std::size_t kWindowLines = 4096;
+// Lines after a candidate first data row that must share its shape.
+constexpr std::size_t kConfirmLines = 8;
+constexpr std::size_t kMaxMetadata = 4096;
 constexpr std::size_t kChunkBytes = 1 << 20;
 constexpr std::size_t kMaxLineBytes = 1 << 20;
 
@@ -47,8 +70,8 @@ std::string lower(std::string_view s) {
 }
 
 std::string shorten(std::string_view s, std::size_t n = 40) {
-  if (s.size() <= n) return std::string(s);
-  return std::string(s.substr(0, n)) + "…";
+  if (s.size() <= n) return to_utf8(s);
+  return to_utf8(s.substr(0, n)) + "…";
 }
 
 std::string format_g(double v, int digits = 6) {
@@ -58,8 +81,10 @@ std::string format_g(double v, int digits = 6) {
   return o.str();
 }
 
-// Reads lines from a stream in large chunks; strips CR of CRLF; tracks line numbers and the
-// byte offset of each line's start; refuses binary data with the offset of the first bad byte.
+// Reads lines from a stream in large chunks, strictly forward (pipes cannot seek). Line ends:
+// LF, CRLF, CR CR LF (all CRs before the LF are dropped) and, in a file with no LF at all, a
+// lone CR. Tracks line numbers and each line's byte offset; refuses binary data with the
+// offset of the first bad byte.
 class LineReader {
  public:
   LineReader(std::istream& in, std::string path) : in_(in), path_(std::move(path)) {
@@ -72,17 +97,19 @@ class LineReader {
     for (;;) {
       const char* begin = buffer_.data() + pos_;
       const char* end = buffer_.data() + buffer_.size();
-      const void* nl = std::memchr(begin, '\n', static_cast<std::size_t>(end - begin));
+      const void* nl = std::memchr(begin, cr_mode_ ? '\r' : '\n', static_cast<std::size_t>(end - begin));
       if (nl != nullptr || (eof_ && begin != end)) {
         const char* stop = nl ? static_cast<const char*>(nl) : end;
         std::size_t len = static_cast<std::size_t>(stop - begin);
         line_start_ = consumed_ + pos_;
         pos_ += len + (nl ? 1 : 0);
         ++line_no_;
-        if (len > 0 && begin[len - 1] == '\r') --len;
+        unterminated_ = nl == nullptr;
+        while (len > 0 && begin[len - 1] == '\r') --len;
         line = std::string_view(begin, len);
         if (line_no_ == 1 && line.size() >= 3 && std::memcmp(line.data(), "\xEF\xBB\xBF", 3) == 0) {
           line.remove_prefix(3);  // UTF-8 byte order mark written by spreadsheet exports
+          line_start_ += 3;
         }
         check_text(line);
         return true;
@@ -94,6 +121,8 @@ class LineReader {
 
   std::uint64_t line_number() const { return line_no_; }
   std::uint64_t line_start_byte() const { return line_start_; }
+  /// True when the line last returned is the file's last and had no line end.
+  bool unterminated() const { return unterminated_; }
 
  private:
   void refill() {
@@ -115,6 +144,12 @@ class LineReader {
     if (got == 0 || !in_) eof_ = true;
     if (in_.bad()) {
       throw InputError(path_, InputLocation::at_byte(consumed_ + old), "read error");
+    }
+    if (first_chunk_) {
+      // Old Macintosh exports end lines with CR alone: a first chunk with CRs and no LF.
+      first_chunk_ = false;
+      cr_mode_ = std::memchr(buffer_.data(), '\n', buffer_.size()) == nullptr &&
+                 std::memchr(buffer_.data(), '\r', buffer_.size()) != nullptr;
     }
   }
 
@@ -141,6 +176,9 @@ class LineReader {
   std::uint64_t line_no_ = 0;
   std::uint64_t line_start_ = 0;
   bool eof_ = false;
+  bool first_chunk_ = true;
+  bool cr_mode_ = false;
+  bool unterminated_ = false;
 };
 
 bool is_comment(std::string_view line) {
@@ -152,13 +190,14 @@ bool is_blank(std::string_view line) {
   return trim(line).empty();
 }
 
-// Cell splitter for one delimiter: RFC 4180 quoting ("" inside quotes is a quote) for
-// character delimiters, runs of blanks for the whitespace delimiter.
 struct Dialect {
   char delimiter = ',';  ///< ' ' stands for "runs of spaces or tabs"
   char decimal = '.';
 };
 
+// Cell splitter for one delimiter: RFC 4180 quoting ("" inside quotes is a quote) for
+// character delimiters, runs of blanks for the whitespace delimiter. Trailing empty cells are
+// dropped: many exports end every row with a delimiter, and a line of bare delimiters is empty.
 void split_cells(std::string_view line, char delimiter, std::vector<std::string_view>& cells,
                  std::string& scratch) {
   cells.clear();
@@ -224,24 +263,57 @@ void split_cells(std::string_view line, char delimiter, std::vector<std::string_
       ++i;  // the delimiter
     }
   }
-  // A delimiter at the end of every row (some exports write one) is not an empty column.
-  if (cells.size() > 1 && trim(cells.back()).empty()) cells.pop_back();
+  while (!cells.empty() && trim(cells.back()).empty()) cells.pop_back();
 }
 
-bool all_numeric(const std::vector<std::string_view>& cells, char decimal) {
-  if (cells.empty()) return false;
-  for (auto c : cells) {
-    if (!parse_number(c, decimal) && !is_nan_or_inf_text(c)) return false;
+// A number as a cell holds it, including a quoted cell with thousands separators
+// ("-1,021.11" with the decimal point, "1.021,5" with the decimal comma): digit groups of
+// three after the first group, the separator being the other mark.
+std::optional<double> parse_cell(std::string_view cell, char decimal) {
+  if (auto v = parse_number(cell, decimal)) return v;
+  cell = trim(cell);
+  const char group = decimal == '.' ? ',' : '.';
+  if (cell.find(group) == std::string_view::npos) return std::nullopt;
+  std::string plain;
+  std::size_t i = 0;
+  if (i < cell.size() && (cell[i] == '+' || cell[i] == '-')) plain += cell[i++];
+  std::size_t lead = 0;
+  while (i < cell.size() && cell[i] >= '0' && cell[i] <= '9') plain += cell[i++], ++lead;
+  if (lead == 0 || lead > 3) return std::nullopt;
+  std::size_t groups = 0;
+  while (i < cell.size() && cell[i] == group) {
+    ++i;
+    std::size_t n = 0;
+    while (i < cell.size() && cell[i] >= '0' && cell[i] <= '9') plain += cell[i++], ++n;
+    if (n != 3) return std::nullopt;
+    ++groups;
   }
-  return true;
+  if (groups == 0) return std::nullopt;
+  plain.append(cell.substr(i));
+  return parse_number(plain, decimal);
 }
 
-// The dialects under which a data row reads as numbers, in order of preference. The order
-// settles the ambiguous cases: tab before anything; ';' always pairs with the decimal comma
-// (the European spreadsheet convention); ',' with the decimal point; blanks last. A row of one
-// number without any delimiter also reads as one cell with a decimal comma ("0,5"), which only
-// the header can tell from two cells.
-std::vector<Dialect> detect_dialects(std::string_view line) {
+bool numeric_cell(std::string_view c, char decimal) {
+  return parse_cell(c, decimal).has_value() || is_nan_or_inf_text(c);
+}
+
+// A row that may be the first of the data: every cell a number or empty, at least one number.
+bool pure_row(const std::vector<std::string_view>& cells, char decimal) {
+  bool any = false;
+  for (auto c : cells) {
+    if (trim(c).empty()) continue;
+    if (!numeric_cell(c, decimal)) return false;
+    any = true;
+  }
+  return any;
+}
+
+// The dialects under which a line is a pure row, in order of preference. The order settles the
+// ambiguous cases: tab before anything; ';' always pairs with the decimal comma (the European
+// spreadsheet convention); ',' with the decimal point; blanks last. A row of one number without
+// any delimiter also reads as one cell with a decimal comma ("0,5"), which only the header or
+// the next rows can tell from two cells.
+std::vector<Dialect> pure_dialects(std::string_view line) {
   std::vector<std::string_view> cells;
   std::string scratch;
   std::vector<Dialect> found;
@@ -250,10 +322,10 @@ std::vector<Dialect> detect_dialects(std::string_view line) {
   for (const Dialect& d : candidates) {
     if (d.delimiter != ' ' && line.find(d.delimiter) == std::string_view::npos) continue;
     split_cells(line, d.delimiter, cells, scratch);
-    if (all_numeric(cells, d.decimal)) found.push_back(d);
+    if (pure_row(cells, d.decimal)) found.push_back(d);
   }
   split_cells(line, ' ', cells, scratch);
-  if (all_numeric(cells, ',')) found.push_back(Dialect{' ', ','});
+  if (pure_row(cells, ',')) found.push_back(Dialect{' ', ','});
   return found;
 }
 
@@ -267,63 +339,27 @@ std::vector<std::string_view> header_cells(std::string_view line, const Dialect&
   return head;
 }
 
+// Names a time column goes by (several languages; "x-axis" as plotting exports write it).
 bool is_time_name(const std::string& n) {
-  return n == "time" || n == "t" || n == "zeit" || n == "x" || n.rfind("time ", 0) == 0 ||
-         n == "timestamp" || n == "seconds" || n == "sec";
+  static constexpr std::array<std::string_view, 16> kNames{
+      "time", "t",     "zeit",      "temps",   "tiempo", "tempo",   "tijd",   "czas",
+      "x-axis", "x axis", "timestamp", "seconds", "sec",    "time axis", "horizontal", "xaxis"};
+  for (auto k : kNames) {
+    if (n == k) return true;
+  }
+  return n.rfind("time ", 0) == 0 || n.rfind("time_", 0) == 0 || n.rfind("time[", 0) == 0 ||
+         n.rfind("time(", 0) == 0;
 }
 
-// Preamble line "Sample interval: 1e-7 s" / "Sample rate;1,25E+06" → sample rate in Hz.
-std::optional<double> preamble_rate(std::string_view line, char decimal) {
-  const auto sep = line.find_first_of(",;:=\t");
-  if (sep == std::string_view::npos) return std::nullopt;
-  const std::string key = lower(trim(line.substr(0, sep)));
-  std::string_view rest = trim(line.substr(sep + 1));
-  while (!rest.empty() && (rest.front() == ',' || rest.front() == ';' || rest.front() == ':' ||
-                           rest.front() == '=' || rest.front() == '"')) {
-    rest = trim(rest.substr(1));
+// Names of a sample-index column.
+bool is_index_name(const std::string& n) {
+  static constexpr std::array<std::string_view, 17> kNames{
+      "",       "index", "idx",    "x",     "no",       "no.",   "nr",     "n",     "#",
+      "sample", "samples", "point", "points", "sequence", "seq",  "number", "pt"};
+  for (auto k : kNames) {
+    if (n == k) return true;
   }
-  const bool interval = key.find("interval") != std::string::npos ||
-                        key.find("period") != std::string::npos ||
-                        key.find("time per sample") != std::string::npos;
-  const bool rate =
-      key.find("rate") != std::string::npos || key.find("frequency") != std::string::npos;
-  if (!(key.find("sampl") != std::string::npos && (interval || rate))) return std::nullopt;
-  // Split the number from a trailing unit.
-  std::size_t n = 0;
-  while (n < rest.size() &&
-         (std::isdigit(static_cast<unsigned char>(rest[n])) || rest[n] == '.' || rest[n] == ',' ||
-          rest[n] == '+' || rest[n] == '-' || rest[n] == 'e' || rest[n] == 'E')) {
-    ++n;
-  }
-  std::string_view number = rest.substr(0, n);
-  std::string unit(trim(rest.substr(n)));
-  if (!unit.empty() && unit.back() == '"') unit.pop_back();
-  auto value = parse_number(number, decimal);
-  if (!value) value = parse_number(number, decimal == '.' ? ',' : '.');
-  if (!value || !(*value > 0)) return std::nullopt;
-  if (interval) {
-    double factor = 1.0;
-    if (!unit.empty()) {
-      const auto u = parse_unit(unit);
-      if (!u || u->si_unit != "s") return std::nullopt;
-      factor = u->factor;
-    }
-    return 1.0 / (*value * factor);
-  }
-  static const std::array<std::pair<const char*, double>, 8> kRateUnits{{{"", 1.0},
-                                                                         {"hz", 1.0},
-                                                                         {"khz", 1e3},
-                                                                         {"mhz", 1e6},
-                                                                         {"ghz", 1e9},
-                                                                         {"s/s", 1.0},
-                                                                         {"ks/s", 1e3},
-                                                                         {"ms/s", 1e6}}};
-  const std::string lu = lower(unit);
-  for (const auto& [text, factor] : kRateUnits) {
-    if (lu == text) return *value * factor;
-  }
-  if (lu == "gs/s") return *value * 1e9;
-  return std::nullopt;
+  return false;
 }
 
 // Running least-squares line t = a + b·k over rows k = 0, 1, …, in long double because k
@@ -355,6 +391,13 @@ class TimeFit {
   long double sx_ = 0, sy_ = 0, sxx_ = 0, sxy_ = 0;
 };
 
+struct WindowLine {
+  std::uint64_t no = 0;
+  std::string text;
+  bool comment = false;
+  bool unterminated = false;
+};
+
 class TextReader final : public SampleSource {
  public:
   TextReader(std::istream& in, const std::string& path, const ReaderOptions& options)
@@ -372,13 +415,17 @@ class TextReader final : public SampleSource {
     block.data.resize(max_frames * nch);
     std::size_t f = 0;
     while (f < max_frames) {
-      if (!pending_.empty()) {
-        const std::size_t take = std::min(max_frames - f, pending_.size() / nch);
-        std::copy_n(pending_.begin(), take * nch,
+      if (pending_at_ < pending_.size()) {
+        const std::size_t take = std::min(max_frames - f, (pending_.size() - pending_at_) / nch);
+        std::copy_n(pending_.begin() + static_cast<std::ptrdiff_t>(pending_at_), take * nch,
                     block.data.begin() + static_cast<std::ptrdiff_t>(f * nch));
-        pending_.erase(pending_.begin(),
-                       pending_.begin() + static_cast<std::ptrdiff_t>(take * nch));
+        pending_at_ += take * nch;
         f += take;
+        if (pending_at_ >= pending_.size()) {
+          pending_.clear();
+          pending_.shrink_to_fit();
+          pending_at_ = 0;
+        }
         continue;
       }
       if (finished_) break;
@@ -392,136 +439,738 @@ class TextReader final : public SampleSource {
   }
 
  private:
-  // --- opening: preamble, header, dialect, look-ahead ------------------------------------
-  void open() {
-    std::vector<std::pair<std::uint64_t, std::string>> preamble;  // (line, text)
-    std::string_view line;
-    std::vector<Dialect> dialects;
-    bool any_text = false;
-    while (lines_.next(line)) {
-      any_text = any_text || !is_blank(line);
-      if (is_blank(line) || is_comment(line)) continue;
-      dialects = detect_dialects(line);
-      if (!dialects.empty()) break;
-      if (preamble.size() >= kMaxPreambleLines) {
-        throw InputError(path_, InputLocation::at_line(lines_.line_number()),
-                         "no rows of numbers in the first " + std::to_string(kMaxPreambleLines) +
-                             " lines; expected a delimited text capture (CSV/TSV)");
-      }
-      preamble.emplace_back(lines_.line_number(), std::string(line));
+  // --- finding the data ------------------------------------------------------------------
+  void keep_metadata(std::string key, std::string value) {
+    if (info_.metadata.size() >= kMaxMetadata) return;
+    info_.metadata.emplace_back(std::move(key), std::move(value));
+  }
+
+  // A line above the data that is not its header: its key/value goes to the metadata.
+  void retire(const WindowLine& l) {
+    ++preamble_lines_;
+    if (preamble_first_ == 0) preamble_first_ = l.no;
+    preamble_last_ = l.no;
+    if (auto kv = split_key_value(l.text)) {
+      if (preamble_keys_.size() < 6 && !kv->first.empty()) preamble_keys_.push_back(kv->first);
+      keep_metadata(std::move(kv->first), std::move(kv->second));
     }
-    if (dialects.empty()) {
-      if (!any_text) throw InputError(path_, "the file holds no text; expected a capture");
-      if (!preamble.empty()) {
-        throw InputError(path_, InputLocation::at_line(preamble.back().first),
-                         "no data rows after this line ('" + shorten(preamble.back().second) +
-                             "'); expected rows of numbers separated by ',', ';', tab or spaces");
-      }
-      throw InputError(path_, "no data rows; expected rows of numbers");
+  }
+
+  // A row of the data under the layout being tried: as many cells, numbers in the data columns.
+  bool data_row(std::string_view text, const Dialect& d, std::size_t columns,
+                const std::vector<bool>& is_data) {
+    split_cells(text, d.delimiter, cells_, scratch_);
+    if (cells_.size() != columns) return false;
+    for (std::size_t i = 0; i < columns; ++i) {
+      if (is_data[i] && !numeric_cell(cells_[i], d.decimal)) return false;
     }
-    const std::uint64_t first_data_line = lines_.line_number();
-    std::string first_row(line);
-    // Where the row reads more than one way, the header above it decides: the dialect under
-    // which it has as many cells as the row.
-    dialect_ = dialects.front();
-    if (dialects.size() > 1 && !preamble.empty()) {
-      for (const Dialect& d : dialects) {
-        split_cells(first_row, d.delimiter, cells_, scratch_);
-        std::string head_scratch;
-        if (header_cells(preamble.back().second, d, cells_.size(), head_scratch).size() ==
-            cells_.size()) {
-          dialect_ = d;
-          break;
+    return true;
+  }
+
+  bool bare_delimiters(std::string_view text) {
+    split_cells(text, dialect_.delimiter, cells_, scratch_);
+    return cells_.empty();
+  }
+
+  // The layout a candidate first row gives under `d`; true if the rows after it share it.
+  bool confirm(const std::deque<WindowLine>& window, std::size_t at, const Dialect& d) {
+    split_cells(window[at].text, d.delimiter, cells_, scratch_);
+    const std::size_t columns = cells_.size();
+    std::vector<bool> is_data(columns);
+    for (std::size_t i = 0; i < columns; ++i) is_data[i] = !trim(cells_[i]).empty();
+    std::size_t checked = 0;
+    for (std::size_t j = at + 1; j < window.size() && checked < kConfirmLines; ++j) {
+      if (window[j].comment) continue;
+      if (window[j].unterminated) break;  // the last line may be cut short; judged later
+      if (!data_row(window[j].text, d, columns, is_data)) return false;
+      ++checked;
+    }
+    dialect_ = d;
+    columns_ = columns;
+    is_data_ = std::move(is_data);
+    return true;
+  }
+
+  // The nearest line above `at` that is neither a comment nor bare delimiters, or npos.
+  std::size_t line_above(const std::deque<WindowLine>& window, std::size_t at) {
+    while (at > 0) {
+      --at;
+      if (window[at].comment) return std::string::npos;
+      if (!bare_delimiters(window[at].text)) return at;
+    }
+    return std::string::npos;
+  }
+
+  // Scans to the first data row; returns the window of lines read so far, the data's first
+  // row at index `data_at`. Lines that scroll out of the window are preamble.
+  std::deque<WindowLine> find_data(std::size_t& data_at) {
+    std::deque<WindowLine> window;
+    std::size_t search = 0;
+    bool eof = false;
+    for (;;) {
+      std::string_view line;
+      if (lines_.next(line)) {
+        if (!is_blank(line)) {
+          window.push_back({lines_.line_number(), std::string(line), is_comment(line),
+                            lines_.unterminated()});
+          if (window.size() > kWindowLines && search > 0) {
+            retire(window.front());
+            window.pop_front();
+            --search;
+          }
+        }
+      } else {
+        eof = true;
+      }
+      while (search < window.size()) {
+        if (window[search].comment) {
+          ++search;
+          continue;
+        }
+        const std::vector<Dialect> dialects = pure_dialects(window[search].text);
+        if (dialects.empty()) {
+          ++search;
+          continue;
+        }
+        std::size_t after = 0;
+        for (std::size_t j = search + 1; j < window.size() && after < kConfirmLines; ++j)
+          after += window[j].comment ? 0u : 1u;
+        if (after < kConfirmLines && !eof) break;  // read more lines first
+        // Where the row reads more than one way, the dialect under which the line above it
+        // has as many cells as the row wins; else the first that the next rows confirm.
+        std::vector<Dialect> confirmed;
+        for (const Dialect& d : dialects) {
+          if (confirm(window, search, d)) confirmed.push_back(d);
+        }
+        if (!confirmed.empty()) {
+          Dialect chosen = confirmed.front();
+          for (const Dialect& d : confirmed) {
+            confirm(window, search, d);
+            dialect_ = d;
+            const std::size_t above = line_above(window, search);
+            if (above == std::string::npos) continue;
+            std::string head_scratch;
+            if (header_cells(window[above].text, d, columns_, head_scratch).size() == columns_) {
+              chosen = d;
+              break;
+            }
+          }
+          confirm(window, search, chosen);
+          data_at = search;
+          return window;
+        }
+        ++search;
+      }
+      if (eof) break;
+    }
+    bool any_text = preamble_lines_ > 0 || !window.empty();
+    if (!any_text) throw InputError(path_, "the file holds no text; expected a capture");
+    if (window.empty()) throw InputError(path_, "no data rows; expected rows of numbers");
+    // Numbers in a shape not understood must not be called "no rows of numbers".
+    std::size_t numeric_lines = 0, first_numeric = 0;
+    for (const auto& l : window) {
+      if (l.comment) continue;
+      std::vector<std::string_view> cells;
+      std::string scratch;
+      split_cells(l.text, ',', cells, scratch);
+      std::size_t numbers = 0;
+      for (auto c : cells) numbers += numeric_cell(c, '.') ? 1u : 0u;
+      if (numbers > 0 && 2 * numbers >= cells.size()) {
+        if (numeric_lines++ == 0) first_numeric = static_cast<std::size_t>(l.no);
+      }
+    }
+    if (numeric_lines >= 2) {
+      throw InputError(path_, InputLocation::at_line(first_numeric),
+                       "rows of numbers from here on, but in no layout lopside understands: "
+                       "expected rows with the same number of cells separated by ',', ';', tab "
+                       "or spaces, numbers in the same columns of every row");
+    }
+    throw InputError(path_, InputLocation::at_line(window.back().no),
+                     "no data rows after this line ('" + shorten(window.back().text) +
+                         "'); expected rows of numbers separated by ',', ';', tab or spaces");
+  }
+
+  // --- the header ------------------------------------------------------------------------
+  // Header cells mapped onto the data's columns: one per column (extra cells beyond them
+  // returned in `extra`), or, when the header names only the data columns of a layout with a
+  // leading margin, right-aligned onto them. Empty when the line does not fit.
+  std::vector<std::string> map_header(std::string_view text, std::vector<std::string>* extra) {
+    std::string head_scratch;
+    const std::vector<std::string_view> head = header_cells(text, dialect_, columns_, head_scratch);
+    std::vector<std::string> out;
+    if (head.size() >= columns_) {
+      for (std::size_t i = 0; i < columns_; ++i) out.emplace_back(trim(head[i]));
+      if (extra) {
+        for (std::size_t i = columns_; i < head.size(); ++i) extra->emplace_back(trim(head[i]));
+      }
+      return out;
+    }
+    const auto data_columns = static_cast<std::size_t>(std::count(is_data_.begin(), is_data_.end(), true));
+    if (head.size() == data_columns && data_columns < columns_) {
+      out.assign(columns_, std::string());
+      std::size_t h = 0;
+      for (std::size_t i = 0; i < columns_; ++i) {
+        if (is_data_[i]) out[i] = std::string(trim(head[h++]));
+      }
+    }
+    return out;
+  }
+
+  bool any_numeric_data_cell(const std::vector<std::string>& cells) const {
+    for (std::size_t i = 0; i < cells.size(); ++i) {
+      if (is_data_[i] && numeric_cell(cells[i], dialect_.decimal)) return true;
+    }
+    return false;
+  }
+
+  // A units row: no numbers under the data, and at least half of its non-empty cells there are
+  // units lopside knows ("second", "Volt", "(ms)"); the rest may be words such as "Sequence".
+  bool units_row(const std::vector<std::string>& cells) const {
+    std::size_t filled = 0, units = 0;
+    for (std::size_t i = 0; i < cells.size(); ++i) {
+      if (!is_data_[i] || trim(cells[i]).empty()) continue;
+      ++filled;
+      if (numeric_cell(cells[i], dialect_.decimal)) return false;
+      if (parse_unit(cells[i])) ++units;
+    }
+    return units > 0 && 2 * units >= filled;
+  }
+
+  // A line that states a time base or a unit is preamble, never a header.
+  static bool keyed_fact(std::string_view text) {
+    const auto kv = split_key_value(text);
+    if (!kv || kv->second.empty()) return false;
+    if (is_vertical_unit_key(kv->first)) return true;
+    return stated_time_base({*kv}).interval_s.has_value();
+  }
+
+  struct Header {
+    std::vector<std::string> names;
+    std::vector<std::string> units;  // from a units row; empty strings where none
+    std::size_t top = 0;             // window index of the header's first line
+    std::uint64_t line = 0;          // its line number
+    bool found = false;
+  };
+
+  Header read_header(std::deque<WindowLine>& window, std::size_t data_at) {
+    Header h;
+    h.top = data_at;
+    const std::size_t h1 = line_above(window, data_at);
+    if (h1 == std::string::npos) {
+      // A header written as a comment right above the data ("# time (s), current (A)").
+      if (data_at > 0 && window[data_at - 1].comment) {
+        std::string_view t = trim(window[data_at - 1].text);
+        while (!t.empty() && t.front() == '#') t = trim(t.substr(1));
+        std::vector<std::string> names = map_header(t, nullptr);
+        if (!names.empty() && !any_numeric_data_cell(names) && !keyed_fact(t) &&
+            names.size() == columns_) {
+          h.names = std::move(names);
+          h.top = data_at - 1;
+          h.line = window[data_at - 1].no;
+          h.found = true;
         }
       }
+      return h;
     }
-    split_cells(first_row, dialect_.delimiter, cells_, scratch_);
-    columns_ = cells_.size();
-
-    // The header is the text line right above the data when it has one cell per column and
-    // none of them is a number; everything above it is preamble.
-    std::vector<std::string> names(columns_);
-    bool has_header = false;
-    std::uint64_t header_line = 0;
-    if (!preamble.empty()) {
+    if (keyed_fact(window[h1].text)) return h;
+    std::vector<std::string> extra1, extra2;
+    std::vector<std::string> first = map_header(window[h1].text, &extra1);
+    const std::size_t h2 = first.empty() ? std::string::npos : line_above(window, h1);
+    if (h2 != std::string::npos && units_row(first) && !keyed_fact(window[h2].text)) {
+      std::vector<std::string> names = map_header(window[h2].text, &extra2);
+      if (!names.empty()) {
+        h.names = std::move(names);
+        h.units = std::move(first);
+        h.top = h2;
+        h.line = window[h2].no;
+        h.found = true;
+        // Cells beyond the data's columns: keys over their values ("Start" over "-1.06e-05").
+        for (std::size_t i = 0; i < extra2.size(); ++i) {
+          if (extra2[i].empty()) continue;
+          keep_metadata(to_utf8(extra2[i]), i < extra1.size() ? to_utf8(extra1[i]) : std::string());
+        }
+        return h;
+      }
+    }
+    if (!first.empty() && !any_numeric_data_cell(first)) {
+      if (!extra1.empty()) {
+        throw InputError(path_, InputLocation::at_line(window[h1].no),
+                         "the header has " + std::to_string(columns_ + extra1.size()) +
+                             " cells but the data rows below it have " + std::to_string(columns_) +
+                             "; expected one name per column (quote names that hold the "
+                             "delimiter)");
+      }
+      h.names = std::move(first);
+      h.top = h1;
+      h.line = window[h1].no;
+      h.found = true;
+      return h;
+    }
+    if (first.empty()) {
       std::string head_scratch;
-      const std::vector<std::string_view> head =
-          header_cells(preamble.back().second, dialect_, columns_, head_scratch);
-      bool numeric_cell = false;
-      for (auto c : head) numeric_cell = numeric_cell || parse_number(c, dialect_.decimal);
-      if (head.size() == columns_ && !numeric_cell) {
-        has_header = true;
-        header_line = preamble.back().first;
-        for (std::size_t i = 0; i < columns_; ++i) names[i] = std::string(trim(head[i]));
-        preamble.pop_back();
-      } else if (!numeric_cell && (preamble.back().second.find('(') != std::string::npos ||
-                                   preamble.back().second.find('[') != std::string::npos)) {
-        throw InputError(path_, InputLocation::at_line(preamble.back().first),
+      const auto head = header_cells(window[h1].text, dialect_, columns_, head_scratch);
+      bool numeric = false;
+      for (auto c : head) numeric = numeric || numeric_cell(c, dialect_.decimal);
+      if (!numeric && (window[h1].text.find('(') != std::string::npos ||
+                       window[h1].text.find('[') != std::string::npos)) {
+        throw InputError(path_, InputLocation::at_line(window[h1].no),
                          "the header has " + std::to_string(head.size()) +
                              " cells but the data rows below it have " + std::to_string(columns_) +
                              "; expected one name per column (quote names that hold the "
                              "delimiter)");
       }
     }
-    std::optional<double> rate_from_preamble;
-    for (const auto& p : preamble) {
-      if (!rate_from_preamble) rate_from_preamble = preamble_rate(p.second, dialect_.decimal);
+    return h;
+  }
+
+  // --- opening ---------------------------------------------------------------------------
+  void open() {
+    std::size_t data_at = 0;
+    std::deque<WindowLine> window = find_data(data_at);
+    // Rows above the candidate that share its layout are data too (margin rows).
+    while (data_at > 0 && !window[data_at - 1].comment &&
+           data_row(window[data_at - 1].text, dialect_, columns_, is_data_)) {
+      --data_at;
+    }
+    first_data_line_ = window[data_at].no;
+    Header header = read_header(window, data_at);
+    for (std::size_t i = 0; i < header.top; ++i) retire(window[i]);
+    for (std::size_t i = header.top; i < data_at; ++i) {
+      if (window[i].comment) retire(window[i]);
+    }
+    window.erase(window.begin(), window.begin() + static_cast<std::ptrdiff_t>(data_at));
+
+    setup_columns(header);
+    lookahead(window);
+    window.clear();
+    decide_columns(header);
+    settle_time_base(header);
+    describe(header);
+  }
+
+  // Names and units from the header; which column is the time (by unit or name).
+  void setup_columns(const Header& h) {
+    column_name_.assign(columns_, std::string());
+    column_unit_.assign(columns_, std::string());
+    column_unit_text_.assign(columns_, std::string());
+    column_factor_.assign(columns_, 1.0);
+    column_unit_stated_.assign(columns_, false);
+    for (std::size_t i = 0; i < columns_; ++i) {
+      if (!is_data_[i] || !h.found) continue;
+      NameAndUnit nu = split_name_unit(h.names[i]);
+      std::string unit_text = nu.unit_text;
+      if (!h.units.empty() && !trim(h.units[i]).empty()) {
+        unit_text = std::string(trim(h.units[i]));
+        nu.name = std::string(trim(h.names[i]));
+      }
+      column_name_[i] = to_utf8(nu.name);
+      if (unit_text.empty()) continue;
+      column_unit_stated_[i] = true;
+      if (const auto u = parse_unit(unit_text)) {
+        column_unit_[i] = u->si_unit;
+        column_factor_[i] = u->factor;
+      } else {
+        std::string_view t = trim(unit_text);
+        if (t.size() >= 2 && (t.front() == '(' || t.front() == '[')) t = t.substr(1, t.size() - 2);
+        column_unit_text_[i] = to_utf8(t);
+      }
+    }
+    for (std::size_t i = 0; i < columns_; ++i) {
+      if (is_data_[i] && column_unit_[i] == "s") {
+        time_column_ = static_cast<int>(i);
+        break;
+      }
+    }
+    if (time_column_ < 0 && h.found) {
+      for (std::size_t i = 0; i < columns_; ++i) {
+        if (is_data_[i] && !column_unit_stated_[i] && is_time_name(lower(column_name_[i]))) {
+          time_column_ = static_cast<int>(i);
+          break;
+        }
+      }
+    }
+    data_index_.clear();
+    for (std::size_t i = 0; i < columns_; ++i) {
+      if (is_data_[i]) data_index_.push_back(i);
+    }
+    // Printed resolutions are kept for the columns that may turn out to be the time.
+    if (time_column_ >= 0) {
+      q_columns_.push_back(static_cast<std::size_t>(time_column_));
+    } else {
+      for (std::size_t k = 0; k < std::min<std::size_t>(2, data_index_.size()); ++k)
+        q_columns_.push_back(data_index_[k]);
+    }
+  }
+
+  // Parses up to kLookaheadRows rows as written (no factors yet) so that the layout's open
+  // questions (index column, headerless time, integer codes) and the interval can be settled.
+  void lookahead(const std::deque<WindowLine>& window) {
+    const std::size_t d = data_index_.size();
+    const std::size_t max_rows = std::min(kLookaheadRows, std::max<std::size_t>(16, kLookaheadValues / d));
+    fraction_seen_.assign(columns_, false);
+    auto take = [&](std::string_view text, std::uint64_t line_no, bool unterminated) {
+      if (unterminated && cut_short(text, line_no)) return;
+      split_cells(text, dialect_.delimiter, cells_, scratch_);
+      if (cells_.size() != columns_) {
+        bad_row(line_no, cell_count_message());
+        return;
+      }
+      const std::size_t base = look_values_.size();
+      look_values_.resize(base + d);
+      for (std::size_t k = 0; k < d; ++k) {
+        const std::string_view cell = cells_[data_index_[k]];
+        const auto v = parse_cell(cell, dialect_.decimal);
+        if (!v) {
+          look_values_.resize(base);
+          bad_cell(line_no, data_index_[k], cell);
+          return;
+        }
+        look_values_[base + k] = *v;
+        if (!fraction_seen_[data_index_[k]] &&
+            (cell.find(dialect_.decimal) != std::string_view::npos ||
+             cell.find_first_of("eE") != std::string_view::npos)) {
+          fraction_seen_[data_index_[k]] = true;
+        }
+      }
+      for (const std::size_t c : q_columns_)
+        look_q_.push_back(printed_resolution(cells_[c], dialect_.decimal));
+      look_lines_.push_back(line_no);
+      look_k_.push_back(row_index_);
+      ++row_index_;
+      // The margin of a row holds metadata ("Sample Interval", "4.00E-05").
+      std::string key, value;
+      for (std::size_t i = 0; i < columns_; ++i) {
+        if (is_data_[i] || trim(cells_[i]).empty()) continue;
+        if (key.empty()) {
+          key = to_utf8(trim(cells_[i]));
+        } else {
+          if (!value.empty()) value += ' ';
+          value += to_utf8(trim(cells_[i]));
+        }
+      }
+      if (!key.empty()) keep_metadata(std::move(key), std::move(value));
+      last_row_line_.assign(text);
+    };
+    for (const auto& l : window) {  // bounded by the window, so read whole
+      if (l.comment || bare_delimiters(l.text)) continue;
+      take(l.text, l.no, l.unterminated);
+    }
+    // The window may already hold rows beyond the look-ahead's limit: keep them for later.
+    std::string_view line;
+    while (look_lines_.size() < max_rows && !finished_) {
+      if (!lines_.next(line)) {
+        finished_ = true;
+        break;
+      }
+      if (is_blank(line) || is_comment(line)) continue;
+      take(line, lines_.line_number(), lines_.unterminated());
+    }
+    if (look_lines_.empty()) {
+      throw InputError(path_, InputLocation::at_line(first_data_line_),
+                       "no usable data rows (every row was skipped as malformed)");
+    }
+  }
+
+  std::string cell_count_message() const {
+    return "expected " + std::to_string(columns_) + " cells separated by " + delimiter_name() +
+           ", found " + std::to_string(cells_.size());
+  }
+
+  bool bad_cell(std::uint64_t line_no, std::size_t column, std::string_view cell) {
+    if (is_nan_or_inf_text(cell)) {
+      return bad_row(line_no, "column " + std::to_string(column + 1) + ": '" + shorten(trim(cell)) +
+                                  "' is not a finite number; expected a sample value");
+    }
+    return bad_row(line_no, "column " + std::to_string(column + 1) + ": expected a number" +
+                                (dialect_.decimal == ',' ? " with a decimal comma" : "") +
+                                ", found '" + shorten(trim(cell)) + "'");
+  }
+
+  // A last line without a line end, from a file still being written, may be cut inside a
+  // number ("881." of "881.25"): too few cells, a number that ends in its mark, exponent or
+  // sign, or fewer decimals than the same column of the row before. It is left out, and said.
+  bool cut_short(std::string_view text, std::uint64_t line_no) {
+    split_cells(text, dialect_.delimiter, cells_, scratch_);
+    bool cut = cells_.size() != columns_;
+    std::vector<std::string_view> before;
+    std::string before_scratch;
+    if (!cut && !last_row_line_.empty())
+      split_cells(last_row_line_, dialect_.delimiter, before, before_scratch);
+    for (std::size_t i = 0; !cut && i < columns_; ++i) {
+      if (!is_data_[i]) continue;
+      const std::string_view c = trim(cells_[i]);
+      if (c.empty() || !numeric_cell(c, dialect_.decimal)) {
+        cut = true;
+        break;
+      }
+      const char last = c.back();
+      cut = last == dialect_.decimal || last == 'e' || last == 'E' || last == '+' || last == '-';
+      if (!cut && before.size() == columns_) {
+        cut = printed_resolution(c, dialect_.decimal) >
+              printed_resolution(trim(before[i]), dialect_.decimal) * 1.5;
+      }
+    }
+    if (!cut) return false;
+    warnings_.push_back("line " + std::to_string(line_no) +
+                        ", the last, has no line end and is cut short ('" + shorten(trim(text)) +
+                        "'); it was left out (was the file still being written?)");
+    finished_ = true;
+    return true;
+  }
+
+  // Consecutive whole numbers stepping by one: a sample index, not a measured channel.
+  bool counts_up_by_one(std::size_t k) const {
+    const std::size_t d = data_index_.size();
+    const std::size_t n = look_lines_.size();
+    if (n < 3) return false;
+    for (std::size_t r = 0; r < n; ++r) {
+      const double v = look_values_[r * d + k];
+      if (v != std::floor(v)) return false;
+      if (r > 0 && v - look_values_[(r - 1) * d + k] != static_cast<double>(look_k_[r] - look_k_[r - 1]))
+        return false;
+    }
+    return true;
+  }
+
+  // A headerless column rising in even steps (nine in ten steps agree with the median to its
+  // printed resolution): the time axis of an export without names.
+  bool rises_evenly(std::size_t k, std::size_t qk) const {
+    const std::size_t d = data_index_.size();
+    const std::size_t n = look_lines_.size();
+    if (n < 3) return false;
+    std::vector<double> steps;
+    double q_max = 0;
+    for (std::size_t r = 1; r < n; ++r) {
+      const double step = (look_values_[r * d + k] - look_values_[(r - 1) * d + k]) /
+                          static_cast<double>(look_k_[r] - look_k_[r - 1]);
+      if (step < 0) return false;
+      steps.push_back(step);
+      q_max = std::max(q_max, look_q_[r * q_columns_.size() + qk]);
+    }
+    auto mid = steps.begin() + static_cast<std::ptrdiff_t>(steps.size() / 2);
+    std::nth_element(steps.begin(), mid, steps.end());
+    const double median = *mid;
+    if (!(median > 0)) return false;
+    std::size_t near = 0;
+    for (double st : steps) near += std::fabs(st - median) <= 0.5 * q_max + 1e-9 * median ? 1 : 0;
+    return 10 * near >= 9 * steps.size();
+  }
+
+  // Index column, headerless time, channels with their units, gains and roles.
+  void decide_columns(const Header& h) {
+    const std::size_t d = data_index_.size();
+    for (std::size_t k = 0; k < d; ++k) {
+      const std::size_t col = data_index_[k];
+      if (static_cast<int>(col) == time_column_ || !column_unit_[col].empty()) continue;
+      const bool named_as_index = is_index_name(lower(column_name_[col])) ||
+                                  is_index_name(lower(column_unit_text_[col]));
+      if ((k == 0 || named_as_index) && d > 1 && counts_up_by_one(k)) {
+        index_column_ = static_cast<int>(col);
+        index_k_ = k;
+        break;
+      }
+    }
+    // A time axis without a name: headerless files, or a first column called "x".
+    if (time_column_ < 0 && !options_.rate_hz) {
+      for (std::size_t qk = 0; qk < q_columns_.size(); ++qk) {
+        const std::size_t col = q_columns_[qk];
+        if (static_cast<int>(col) == index_column_) continue;
+        const std::size_t k = static_cast<std::size_t>(
+            std::find(data_index_.begin(), data_index_.end(), col) - data_index_.begin());
+        const std::size_t others = d - 1 - (index_column_ >= 0 ? 1 : 0);
+        const std::string name = lower(column_name_[col]);
+        const bool unnamed = !h.found || name == "x";
+        if (others >= 1 && unnamed && !column_unit_stated_[col] && rises_evenly(k, qk)) {
+          time_column_ = static_cast<int>(col);
+          warnings_.push_back("column " + std::to_string(col + 1) +
+                              " taken as the time: it has no name and rises in even steps");
+        }
+        break;
+      }
+    }
+    if (time_column_ >= 0) {
+      const auto tc = static_cast<std::size_t>(time_column_);
+      if (column_unit_[tc] != "s") {
+        // No unit in the header: the preamble's horizontal unit, else seconds.
+        std::optional<UnitScale> unit;
+        for (const auto& [key, value] : info_.metadata) {
+          std::string k = lower(key);
+          k.erase(std::remove_if(k.begin(), k.end(), [](char c) { return c == ' ' || c == '_'; }),
+                  k.end());
+          if (k == "horizontalunits" || k == "horizontalunit" || k == "xunit" || k == "xunits" ||
+              k == "hunit" || k == "timeunit" || k == "timeunits") {
+            unit = parse_time_unit(value);
+            if (unit) break;
+          }
+        }
+        if (unit) {
+          column_factor_[tc] = unit->factor;
+        } else if (h.found) {
+          warnings_.push_back("column " + std::to_string(tc + 1) + " '" + column_name_[tc] +
+                              "' taken as time in seconds (its header gives no unit)");
+        }
+        column_unit_[tc] = "s";
+      }
+      time_k_ = static_cast<std::size_t>(
+          std::find(data_index_.begin(), data_index_.end(), tc) - data_index_.begin());
+      time_qk_ = static_cast<std::size_t>(
+          std::find(q_columns_.begin(), q_columns_.end(), tc) - q_columns_.begin());
     }
 
-    // Columns: names, units, the time column.
-    std::vector<ChannelInfo> channels;
-    header_factor_.assign(columns_, 1.0);
-    std::vector<std::string> units(columns_);
-    for (std::size_t i = 0; i < columns_; ++i) {
-      if (!has_header) {
-        names[i] = "ch" + std::to_string(i + 1);
-        continue;
+    // Units the preamble states for channels whose header gives none: one for all
+    // ("Vertical Units,V") or one per channel ("VUnit,V,A,V,V", or one key per channel).
+    std::vector<std::string> stated_units;
+    std::size_t unit_keys = 0;
+    std::string source_name;
+    for (const auto& [key, value] : info_.metadata) {
+      if (is_vertical_unit_key(key) && !value.empty()) {
+        ++unit_keys;
+        std::vector<std::string_view> tokens;
+        std::string sc;
+        split_cells(value, value.find(',') != std::string::npos   ? ','
+                           : value.find(';') != std::string::npos ? ';'
+                                                                   : ' ',
+                    tokens, sc);
+        for (auto t : tokens) stated_units.emplace_back(trim(t));
       }
-      const NameAndUnit nu = split_name_unit(names[i]);
-      if (!nu.unit_text.empty()) {
-        const auto u = parse_unit(nu.unit_text);
-        if (u) {
-          units[i] = u->si_unit;
-          header_factor_[i] = u->factor;
-          names[i] = nu.name;
-        } else {
-          warnings_.push_back("column " + std::to_string(i + 1) + " '" + names[i] + "': unit '" +
-                              nu.unit_text + "' not understood; values taken as written");
-        }
-      }
-      if (time_column_ < 0 &&
-          (units[i] == "s" || (units[i].empty() && is_time_name(lower(nu.name))))) {
-        time_column_ = static_cast<int>(i);
-        if (units[i].empty()) {
-          warnings_.push_back("column " + std::to_string(i + 1) + " '" + names[i] +
-                              "' taken as time in seconds (its header gives no unit)");
-          units[i] = "s";
-        }
-      }
+      if (source_name.empty() && is_source_key(key) && !value.empty()) source_name = value;
     }
-    for (std::size_t i = 0; i < columns_; ++i) {
-      if (static_cast<int>(i) == time_column_) continue;
+    std::vector<ChannelInfo> channels;
+    for (std::size_t k = 0; k < d; ++k) {
+      const std::size_t col = data_index_[k];
+      if (static_cast<int>(col) == time_column_ || static_cast<int>(col) == index_column_)
+        continue;
       ChannelInfo c;
-      c.name = names[i];
-      c.unit = units[i] == "s" ? "s" : units[i];
       c.index = channels.size() + 1;
+      c.name = column_name_[col].empty() ? "ch" + std::to_string(c.index) : column_name_[col];
+      c.unit = column_unit_[col];
+      c.unit_text = column_unit_text_[col];
       channels.push_back(c);
-      channel_column_.push_back(i);
+      channel_column_.push_back(col);
+      channel_k_.push_back(k);
     }
     if (channels.empty()) {
-      throw InputError(path_, InputLocation::at_line(has_header ? header_line : first_data_line),
-                       "only a time column; expected at least one channel of samples");
+      throw InputError(path_, InputLocation::at_line(h.found ? h.line : first_data_line_),
+                       "only a time or sample-index column; expected at least one channel of "
+                       "samples");
     }
-    gains_ = channel_gains(channels, options_, path_);
+    if (!h.found && channels.size() == 1 && !source_name.empty()) channels[0].name = source_name;
+    gains_.assign(channels.size(), 1.0);
     for (std::size_t c = 0; c < channels.size(); ++c) {
-      gains_[c] *= header_factor_[channel_column_[c]];
+      const std::size_t col = channel_column_[c];
+      gains_[c] = column_factor_[col];
+      if (column_unit_stated_[col] || stated_units.empty()) continue;
+      std::string text;
+      if (stated_units.size() == 1) text = stated_units[0];
+      else if (stated_units.size() >= channels.size()) text = stated_units[c];
+      else if (unit_keys == 1) text = stated_units[0];
+      if (text.empty()) continue;
+      // Integers alone under a stated vertical unit are the digitiser's codes, not volts: a
+      // scope that writes them leaves the scaling (codes per division) to its own software.
+      if (!fraction_seen_[col]) {
+        channels[c].unit_text = "counts";
+        warnings_.push_back("channel " + std::to_string(c + 1) + " '" + channels[c].name +
+                            "' holds whole numbers only: taken as raw digitiser codes (counts), "
+                            "not '" + text + "' as the preamble says; give --gain and --unit to "
+                            "scale it");
+        continue;
+      }
+      if (const auto u = parse_unit(text)) {
+        channels[c].unit = u->si_unit;
+        gains_[c] = u->factor;
+      } else {
+        channels[c].unit_text = text;
+      }
     }
+    const std::vector<double> user = channel_gains(channels, options_, path_);
+    for (std::size_t c = 0; c < channels.size(); ++c) gains_[c] *= user[c];
     std::vector<std::string> notes;
     assign_roles(channels, options_, path_, notes);
     info_.channels = std::move(channels);
     for (auto& n : notes) role_notes_.push_back(n);
+  }
 
-    // Format and how the file was read.
+  // The sample rate: the time column's fit wins; else --rate; else what the file states.
+  void settle_time_base(const Header& h) {
+    const StatedTimeBase stated = stated_time_base(info_.metadata, dialect_.decimal);
+    const std::size_t d = data_index_.size();
+    const std::size_t nq = q_columns_.size();
+    const std::uint64_t resume_index = row_index_;
+    if (time_column_ >= 0) {
+      const double factor = column_factor_[static_cast<std::size_t>(time_column_)];
+      for (std::size_t r = 0; r < look_lines_.size(); ++r) {
+        row_index_ = look_k_[r];
+        track_time(look_values_[r * d + time_k_] * factor, look_q_[r * nq + time_qk_] * factor,
+                   look_lines_[r]);
+      }
+      row_index_ = resume_index;
+      if (look_lines_.size() < 2) {
+        throw InputError(path_, InputLocation::at_line(first_data_line_),
+                         "only one data row; a time column needs two rows to give a sample "
+                         "interval");
+      }
+      dt_s_ = lookahead_interval();
+      if (!(dt_s_ > 0)) {
+        throw InputError(path_, InputLocation::at_line(first_data_line_),
+                         "the time column does not advance; expected rising times");
+      }
+      check_lookahead_times();
+      info_.sample_rate_hz = 1.0 / dt_s_;
+      info_.start_time_s = start_time();
+      if (options_.rate_hz && std::fabs(*options_.rate_hz * dt_s_ - 1.0) > 1e-3) {
+        warnings_.push_back("--rate " + format_g(*options_.rate_hz) +
+                            " Hz ignored: the time column gives " +
+                            format_g(info_.sample_rate_hz, 8) + " Hz");
+      }
+      if (stated.interval_s && std::fabs(*stated.interval_s / dt_s_ - 1.0) > 0.01) {
+        warnings_.push_back("the file states '" + stated.interval_key + "' " +
+                            format_g(*stated.interval_s) + " s, but its time column steps by " +
+                            format_g(dt_s_) + " s; the time column is used");
+      }
+    } else if (options_.rate_hz) {
+      info_.sample_rate_hz = *options_.rate_hz;
+    } else if (stated.interval_s) {
+      info_.sample_rate_hz = 1.0 / *stated.interval_s;
+      if (stated.start_s) info_.start_time_s = *stated.start_s;
+      info_.detail += "sample interval from '" + stated.interval_key + "'";
+    } else {
+      std::string read = preamble_lines_ == 0
+                             ? std::string("no preamble lines")
+                             : std::to_string(preamble_lines_) + " preamble line(s) (lines " +
+                                   std::to_string(preamble_first_) + "–" +
+                                   std::to_string(preamble_last_);
+      if (!preamble_keys_.empty()) {
+        read += ": ";
+        for (std::size_t i = 0; i < preamble_keys_.size(); ++i)
+          read += (i ? ", '" : "'") + shorten(preamble_keys_[i], 30) + "'";
+        if (preamble_lines_ > preamble_keys_.size()) read += ", …";
+      }
+      if (preamble_lines_ > 0) read += ")";
+      throw InputError(path_, InputLocation::at_line(h.found ? h.line : first_data_line_),
+                       "no time column and no sample rate: read " + read +
+                           ", none of which states the time base. Expected a time column "
+                           "(named time, t, x-axis, … or with a unit of seconds), --rate HZ, or "
+                           "a line such as " +
+                           accepted_time_base_wordings());
+    }
+    if (!(info_.sample_rate_hz > 0) || !std::isfinite(info_.sample_rate_hz)) {
+      throw InputError(path_, "the sample rate must be a positive number of hertz");
+    }
+    if (index_column_ >= 0) index_origin_ = look_values_[index_k_] - static_cast<double>(look_k_[0]);
+    // The look-ahead's channels, scaled, become the first blocks.
+    pending_.reserve(look_lines_.size() * channel_k_.size());
+    for (std::size_t r = 0; r < look_lines_.size(); ++r) {
+      for (std::size_t c = 0; c < channel_k_.size(); ++c)
+        pending_.push_back(look_values_[r * d + channel_k_[c]] * gains_[c]);
+    }
+    rows_ = look_lines_.size();
+    look_values_ = {};
+    look_q_ = {};
+    look_lines_ = {};
+    look_k_ = {};
+  }
+
+  void describe(const Header& h) {
     switch (dialect_.delimiter) {
       case ',':
         info_.format = "csv";
@@ -541,64 +1190,30 @@ class TextReader final : public SampleSource {
                      : dialect_.delimiter == ' ' ? "spaces"
                                                  : std::string("'") + dialect_.delimiter + "'") +
                     ", decimal " + (dialect_.decimal == ',' ? "comma" : "point");
-    if (!preamble.empty()) d += ", " + std::to_string(preamble.size()) + " preamble lines";
-    d += has_header ? ", header at line " + std::to_string(header_line) : ", no header row";
+    if (preamble_lines_ > 0) d += ", " + std::to_string(preamble_lines_) + " preamble lines";
+    d += h.found ? ", header at line " + std::to_string(h.line) : ", no header row";
+    if (!h.units.empty()) d += " with a units row";
+    d += ", data from line " + std::to_string(first_data_line_);
+    const auto margin = static_cast<std::size_t>(std::count(is_data_.begin(), is_data_.end(), false));
+    if (margin > 0) d += ", " + std::to_string(margin) + " margin column(s) not read as data";
     if (time_column_ >= 0) {
-      d += ", time column " + std::to_string(time_column_ + 1) + " '" +
-           names[static_cast<std::size_t>(time_column_)] + "'";
+      const auto tc = static_cast<std::size_t>(time_column_);
+      d += ", time column " + std::to_string(tc + 1) +
+           (column_name_[tc].empty() ? std::string() : " '" + column_name_[tc] + "'");
     }
+    if (index_column_ >= 0) {
+      const auto ic = static_cast<std::size_t>(index_column_);
+      d += ", sample-index column " + std::to_string(ic + 1) +
+           (column_name_[ic].empty() ? std::string() : " '" + column_name_[ic] + "'");
+    }
+    if (!info_.detail.empty()) d += ", " + info_.detail;
     info_.detail = d;
-    if (!has_header) {
-      warnings_.push_back("no header row: columns named ch1…ch" + std::to_string(columns_) +
-                          ", without units (give --unit CH=A / --unit CH=V)");
-    }
-
-    // Look-ahead: the first data row (already read) and up to kLookaheadRows more.
-    const std::size_t nch = info_.channels.size();
-    std::vector<double> row(nch);
-    if (parse_row(first_row, first_data_line, row.data()))
-      pending_.insert(pending_.end(), row.begin(), row.end());
-    while (rows_ < kLookaheadRows && !finished_) {
-      if (!parse_next_row(row.data())) break;
-      pending_.insert(pending_.end(), row.begin(), row.end());
-    }
-    if (pending_.empty()) {
-      throw InputError(path_, InputLocation::at_line(first_data_line),
-                       "no usable data rows (every row was skipped as malformed)");
-    }
-
-    // Sample rate: the time column's fit wins; else --rate; else the preamble.
-    if (time_column_ >= 0) {
-      if (rows_ < 2) {
-        throw InputError(path_, InputLocation::at_line(first_data_line),
-                         "only one data row; a time column needs two rows to give a sample "
-                         "interval");
-      }
-      dt_s_ = lookahead_interval();
-      if (!(dt_s_ > 0)) {
-        throw InputError(path_, InputLocation::at_line(first_data_line),
-                         "the time column does not advance; expected rising times");
-      }
-      check_lookahead_times();
-      info_.sample_rate_hz = 1.0 / dt_s_;
-      info_.start_time_s = start_time();
-      if (options_.rate_hz && std::fabs(*options_.rate_hz * dt_s_ - 1.0) > 1e-3) {
-        warnings_.push_back("--rate " + format_g(*options_.rate_hz) +
-                            " Hz ignored: the time column gives " +
-                            format_g(info_.sample_rate_hz, 8) + " Hz");
-      }
-    } else if (options_.rate_hz) {
-      info_.sample_rate_hz = *options_.rate_hz;
-    } else if (rate_from_preamble) {
-      info_.sample_rate_hz = *rate_from_preamble;
-      info_.detail += ", sample rate from the preamble";
-    } else {
-      throw InputError(path_, InputLocation::at_line(has_header ? header_line : first_data_line),
-                       "no time column and no sample rate; expected --rate HZ, or a "
-                       "'Sample interval' or 'Sample rate' line before the header");
-    }
-    if (!(info_.sample_rate_hz > 0) || !std::isfinite(info_.sample_rate_hz)) {
-      throw InputError(path_, "the sample rate must be a positive number of hertz");
+    if (!h.found) {
+      warnings_.push_back("no header row: channels named " +
+                          (info_.channels.size() == 1 ? info_.channels[0].name
+                                                      : "ch1…ch" + std::to_string(info_.channels.size())) +
+                          (info_.channels[0].unit.empty() ? ", without units (give --unit CH=A / --unit CH=V)"
+                                                          : ""));
     }
   }
 
@@ -606,46 +1221,47 @@ class TextReader final : public SampleSource {
   // Parses the next data row into `out`; false at end of input.
   bool parse_next_row(double* out) {
     std::string_view line;
-    while (lines_.next(line)) {
+    while (!finished_ && lines_.next(line)) {
       if (is_blank(line) || is_comment(line)) continue;
-      if (parse_row(line, lines_.line_number(), out)) return true;
+      if (parse_row(line, lines_.line_number(), out, lines_.unterminated())) return true;
     }
     finished_ = true;
     return false;
   }
 
-  // Parses one data line; false if it was malformed and skipped (--skip-bad-rows).
-  bool parse_row(std::string_view line, std::uint64_t line_no, double* out) {
+  // Parses one data line; false if it was malformed and skipped (--skip-bad-rows) or cut.
+  bool parse_row(std::string_view line, std::uint64_t line_no, double* out, bool unterminated) {
+    if (unterminated && cut_short(line, line_no)) return false;
     split_cells(line, dialect_.delimiter, cells_, scratch_);
-    if (cells_.size() != columns_) {
-      return bad_row(line_no, "expected " + std::to_string(columns_) + " cells separated by " +
-                                  delimiter_name() + ", found " + std::to_string(cells_.size()));
-    }
-    double t = 0;
-    for (std::size_t i = 0; i < columns_; ++i) {
-      const auto v = parse_number(cells_[i], dialect_.decimal);
-      if (!v) {
-        if (is_nan_or_inf_text(cells_[i])) {
-          return bad_row(line_no, "column " + std::to_string(i + 1) + ": '" +
-                                      shorten(trim(cells_[i])) +
-                                      "' is not a finite number; "
-                                      "expected a sample value");
-        }
-        return bad_row(line_no, "column " + std::to_string(i + 1) + ": expected a number" +
-                                    (dialect_.decimal == ',' ? " with a decimal comma" : "") +
-                                    ", found '" + shorten(trim(cells_[i])) + "'");
-      }
-      if (static_cast<int>(i) == time_column_) t = *v * header_factor_[i];
-    }
+    if (cells_.size() != columns_) return bad_row(line_no, cell_count_message());
     for (std::size_t c = 0; c < channel_column_.size(); ++c) {
-      out[c] = *parse_number(cells_[channel_column_[c]], dialect_.decimal) * gains_[c];
+      const std::string_view cell = cells_[channel_column_[c]];
+      const auto v = parse_cell(cell, dialect_.decimal);
+      if (!v) return bad_cell(line_no, channel_column_[c], cell);
+      out[c] = *v * gains_[c];
+    }
+    if (index_column_ >= 0) {
+      const std::string_view cell = cells_[static_cast<std::size_t>(index_column_)];
+      const auto v = parse_cell(cell, dialect_.decimal);
+      if (!v) return bad_cell(line_no, static_cast<std::size_t>(index_column_), cell);
+      const double expected = index_origin_ + static_cast<double>(row_index_);
+      if (*v != expected) {
+        throw InputError(path_, InputLocation::at_line(line_no),
+                         "the sample index is " + format_g(*v, 15) + " where " +
+                             format_g(expected, 15) +
+                             " was expected; expected an index rising by one per row (" +
+                             (*v > expected ? "samples are missing" : "it repeats or steps back") +
+                             ")");
+      }
     }
     if (time_column_ >= 0) {
-      const double q =
-          printed_resolution(cells_[static_cast<std::size_t>(time_column_)], dialect_.decimal) *
-          header_factor_[static_cast<std::size_t>(time_column_)];
-      track_time(t, q, line_no);
+      const auto tc = static_cast<std::size_t>(time_column_);
+      const auto v = parse_cell(cells_[tc], dialect_.decimal);
+      if (!v) return bad_cell(line_no, tc, cells_[tc]);
+      track_time(*v * column_factor_[tc],
+                 printed_resolution(cells_[tc], dialect_.decimal) * column_factor_[tc], line_no);
     }
+    last_row_line_.assign(line);
     ++rows_;
     ++row_index_;
     return true;
@@ -692,9 +1308,20 @@ class TextReader final : public SampleSource {
                        "time goes backwards: " + format_g(t, 10) + " s after " +
                            format_g(prev_t_, 10) + " s; expected rising times");
     }
+    if (fit_.count() > 0) {
+      // Printed coarser than a step, the time repeats and then moves on by one printed digit;
+      // the value crossed the midpoint between the two printed values halfway between the two
+      // rows (round to nearest), so a line through those crossings is exact where a line
+      // through the staircase itself is not.
+      if (t == prev_t_) {
+        ++repeats_;
+      } else {
+        steps_fit_.add(0.5 * (prev_k_ + k), 0.5 * (prev_t_ - t0_ + rel));
+      }
+    }
     if (dt_s_ > 0) {
-      check_time(k, rel, q, line_no, static_cast<double>(fit_.predict(k)), prev_t_ - t0_, prev_q_,
-                 prev_k_, true, true, fit_.count());
+      check_time(k, rel, q, line_no, predict(k), prev_t_ - t0_, prev_q_, prev_k_, true, true,
+                 coarse() ? steps_fit_.count() : fit_.count());
     } else {
       lookahead_times_.push_back({k, rel, q, line_no});
     }
@@ -703,6 +1330,10 @@ class TextReader final : public SampleSource {
     prev_q_ = q;
     prev_k_ = k;
   }
+
+  bool coarse() const { return repeats_ > 0 && steps_fit_.count() >= 2; }
+  const TimeFit& best_fit() const { return coarse() ? steps_fit_ : fit_; }
+  double predict(double k) const { return static_cast<double>(best_fit().predict(k)); }
 
   // Two tests, both needed: against the neighbouring row (sharp for a single missing sample
   // when printing resolves each step) and against the fitted line (the only one that sees a
@@ -779,7 +1410,7 @@ class TextReader final : public SampleSource {
     for (double st : steps) near += std::fabs(st - median) <= 0.5 * q_max + 1e-9 * median ? 1 : 0;
     // Trust the median when nine steps in ten agree with it to the printed resolution.
     if (median > 0 && 10 * near >= 9 * steps.size()) return median;
-    return static_cast<double>(fit_.slope());
+    return static_cast<double>(best_fit().slope());
   }
 
   // The look-ahead rows: first row to row, so a gap is named at its own line; then against a
@@ -789,6 +1420,16 @@ class TextReader final : public SampleSource {
   void check_lookahead_times() {
     constexpr std::size_t kSettleRows = 512;
     const auto& rows = lookahead_times_;
+    if (coarse()) {
+      // The crossings' line is already immune to a few missing rows: every row against it.
+      for (std::size_t i = 1; i < rows.size(); ++i) {
+        check_time(rows[i].k, rows[i].rel, rows[i].q, rows[i].line, predict(rows[i].k),
+                   rows[i - 1].rel, rows[i - 1].q, rows[i - 1].k, true, true, steps_fit_.count());
+      }
+      lookahead_times_.clear();
+      lookahead_times_.shrink_to_fit();
+      return;
+    }
     for (std::size_t i = 1; i < rows.size(); ++i) {
       check_time(rows[i].k, rows[i].rel, rows[i].q, rows[i].line, 0.0, rows[i - 1].rel,
                  rows[i - 1].q, rows[i - 1].k, true, false);
@@ -813,7 +1454,7 @@ class TextReader final : public SampleSource {
   // The first row's time as printed, unless the fitted line says it was rounded: within half
   // its printed resolution the printed value is the better one (and 0 stays 0).
   double start_time() const {
-    const double intercept = static_cast<double>(fit_.intercept());
+    const double intercept = static_cast<double>(best_fit().intercept());
     return std::fabs(intercept) <= 0.5 * first_q_ ? t0_ : t0_ + intercept;
   }
 
@@ -822,7 +1463,7 @@ class TextReader final : public SampleSource {
     done_ = true;
     info_.frames = rows_;
     if (time_column_ >= 0 && fit_.count() >= 2) {
-      dt_s_ = static_cast<double>(fit_.slope());
+      dt_s_ = static_cast<double>(best_fit().slope());
       info_.sample_rate_hz = 1.0 / dt_s_;
       info_.start_time_s = start_time();
     }
@@ -855,15 +1496,39 @@ class TextReader final : public SampleSource {
   CaptureInfo info_;
   std::vector<std::string> warnings_;
   std::vector<std::string> role_notes_;
+  // preamble
+  std::uint64_t preamble_lines_ = 0, preamble_first_ = 0, preamble_last_ = 0;
+  std::vector<std::string> preamble_keys_;
+  // layout
   Dialect dialect_;
   std::size_t columns_ = 0;
+  std::vector<bool> is_data_;
+  std::vector<std::size_t> data_index_;  // file columns holding numbers, in order
+  std::vector<std::string> column_name_, column_unit_, column_unit_text_;
+  std::vector<double> column_factor_;
+  std::vector<bool> column_unit_stated_;
+  std::vector<bool> fraction_seen_;
+  std::uint64_t first_data_line_ = 0;
   int time_column_ = -1;
+  int index_column_ = -1;
+  std::size_t time_k_ = 0, time_qk_ = 0, index_k_ = 0;
+  double index_origin_ = 0;
   std::vector<std::size_t> channel_column_;
-  std::vector<double> header_factor_;
+  std::vector<std::size_t> channel_k_;
   std::vector<double> gains_;
+  // look-ahead, as written: values of the data columns row by row, printed resolutions of the
+  // columns that may be the time, line numbers and time-base indices
+  std::vector<std::size_t> q_columns_;
+  std::vector<double> look_values_;
+  std::vector<double> look_q_;
+  std::vector<std::uint64_t> look_lines_;
+  std::vector<std::uint64_t> look_k_;
+  std::string last_row_line_;
+  // rows
   std::vector<std::string_view> cells_;
   std::string scratch_;
-  std::deque<double> pending_;
+  std::vector<double> pending_;
+  std::size_t pending_at_ = 0;
   std::uint64_t rows_ = 0;       // rows handed out
   std::uint64_t row_index_ = 0;  // rows including skipped ones: the time base index
   std::uint64_t skipped_ = 0;
@@ -873,6 +1538,8 @@ class TextReader final : public SampleSource {
   bool done_ = false;
   // time column state
   TimeFit fit_;
+  TimeFit steps_fit_;
+  std::uint64_t repeats_ = 0;
   double t0_ = 0, first_q_ = 0, prev_t_ = 0, prev_q_ = 0, prev_k_ = 0, dt_s_ = 0;
   std::vector<PendingTime> lookahead_times_;
   std::uint64_t jitter_rows_ = 0, first_jitter_line_ = 0;
