@@ -391,11 +391,12 @@ TEST_F(Cli, UsageErrors) {
   EXPECT_EQ(run({"inspect", "--no-such-flag"}).status, 2);
 }
 
-TEST_F(Cli, UnwritableJsonTargetIsBadInput) {
+// An output that cannot be created is an output failure (exit 3), not bad input (exit 2).
+TEST_F(Cli, UnwritableJsonTargetIsOutputFailure) {
   const fs::path p = file("bench.csv", reference_csv());
   const fs::path target = dir_ / "no_such_dir" / "out.json";
   const RunResult r = run({"inspect", p.string(), "--json", target.string()});
-  EXPECT_EQ(r.status, 2) << r.err;
+  EXPECT_EQ(r.status, 3) << r.err;
   EXPECT_NE(r.err.find(target.string()), std::string::npos) << r.err;
 }
 

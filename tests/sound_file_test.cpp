@@ -324,7 +324,7 @@ TEST(SoundFileWriter, RejectsBadSettingsAndLeavesNoFile) {
                InputError);
   EXPECT_THROW(
       w.open(dir / "no-such-dir" / "d.wav", SoundContainer::wav, SoundSampleFormat::pcm16, 1, 8000),
-      InputError);
+      OutputError);
   {
     lopside::SoundFileWriter abandoned;
     abandoned.open(dir / "e.wav", SoundContainer::wav, SoundSampleFormat::pcm16, 1, 8000);

@@ -1,6 +1,7 @@
 #pragma once
 /// \file
-/// The one exception type for bad input, and the exit codes of the `lopside` program.
+/// The exception types for bad input and for failed outputs, and the exit codes of the
+/// `lopside` program.
 
 #include <cstdint>
 #include <optional>
@@ -14,6 +15,10 @@ namespace exit_code {
 inline constexpr int ok = 0;
 inline constexpr int failure = 1;    ///< an internal error: a bug, not the user's input
 inline constexpr int bad_input = 2;  ///< unreadable, malformed or unusable input, or bad usage
+/// An output could not be written: not creatable, a write, flush, close or rename failed (disk
+/// full, /dev/full, a closed standard output, a reader that went away: EPIPE). Kept apart from
+/// bad_input because the input was fine and a retry with room to write will succeed.
+inline constexpr int output_failed = 3;
 }  // namespace exit_code
 
 /// Where in a file an error sits: a line as an editor counts it (first line = 1), or a byte
@@ -40,6 +45,21 @@ class InputError : public std::runtime_error {
  private:
   std::string path_;
   InputLocation where_;
+  std::string message_;
+};
+
+/// A failed output: it cannot be created or opened, or a write, flush, close or rename failed.
+/// Not bad input (InputError): the input was fine. `what()` reads `PATH: message`, where the
+/// message carries the system's reason (strerror), e.g. "No space left on device".
+class OutputError : public std::runtime_error {
+ public:
+  OutputError(std::string path, const std::string& message);
+
+  const std::string& path() const noexcept { return path_; }
+  const std::string& message() const noexcept { return message_; }
+
+ private:
+  std::string path_;
   std::string message_;
 };
 

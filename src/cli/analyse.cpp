@@ -3,6 +3,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <vector>
 
 #include "commands.hpp"
 #include "lopside/capture_reader.hpp"
@@ -73,6 +74,29 @@ std::pair<double, double> parse_zero(const std::string& text) {
       "--zero", "expected FROM:TO in seconds with FROM < TO, e.g. 0:0.05; got '" + text + "'");
 }
 
+// The current must be in amperes: a channel in volts (or codes, or a.u.) read as amperes gives
+// figures off by the probe's transfer ratio, silently. No stated unit is taken as amperes, and
+// said.
+void check_current_unit(const AnalysisOptions& o, const ChannelInfo& c,
+                        std::vector<std::string>& warnings) {
+  if (c.unit == "A") return;
+  const std::string n = std::to_string(c.index);
+  if (c.unit.empty() && c.unit_text.empty()) {
+    warnings.push_back("channel " + n + " '" + c.name +
+                       "' states no unit: taken as amperes (give --unit " + n +
+                       "=A, or --gain and --unit for a probe in volts, to say so)");
+    return;
+  }
+  const std::string unit = c.unit.empty() ? c.unit_text : c.unit;
+  throw InputError(o.capture_path,
+                   "channel " + n + " '" + c.name + "', taken as the current, is in " + unit +
+                       ", not amperes; expected --gain " + n + "=A_PER_" +
+                       (c.unit == "V" ? "V" : "UNIT") + " (the probe's transfer ratio, e.g. " +
+                       "--gain " + n + "=10 for a 100 mV/A probe) or --unit " + n +
+                       "=A if the values are amperes already" +
+                       (c.unit == "V" ? "; or name the current channel with --current CH" : ""));
+}
+
 }  // namespace
 
 void add_analysis_flags(CLI::App& app, AnalysisOptions& options) {
@@ -118,6 +142,8 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
                          describe_channels(info.channels) + ")");
   }
   const auto voltage = channel_with_role(info, ChannelRole::voltage);
+  std::vector<std::string> unit_warnings;
+  check_current_unit(o, info.channels[*current], unit_warnings);
 
   CycleConfig config;
   config.sample_rate_hz = info.sample_rate_hz;
@@ -177,6 +203,7 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
   result.time_course = course.finish();
   result.diagnosis = diagnose(summary, result.time_course);
   result.warnings = source->warnings();
+  for (const auto& w : unit_warnings) result.warnings.push_back(w);
   for (const auto& w : summary.warnings) result.warnings.push_back(w);
   if (summary.harmonics) {
     for (const auto& w : summary.harmonics->warnings) result.warnings.push_back(w);

@@ -13,6 +13,7 @@
 #include "lopside/error.hpp"
 #include "lopside/inspect_report.hpp"
 #include "lopside/units.hpp"
+#include "output_paths.hpp"
 #include "reader_flags.hpp"
 
 namespace lopside::cli {
@@ -47,6 +48,7 @@ void setup_inspect(CLI::App& app) {
 }
 
 void run_inspect(const InspectOptions& options) {
+  check_output_paths({options.capture_path}, {{"--json", options.json_path, true}});
   // Opened first so an unwritable target fails before a long read, not after it.
   std::optional<AtomicOutput> json_out;
   if (!options.json_path.empty()) json_out.emplace(options.json_path);

@@ -9,6 +9,7 @@
 #include "lopside/atomic_file.hpp"
 #include "lopside/diagnosis.hpp"
 #include "lopside/measure_report.hpp"
+#include "output_paths.hpp"
 
 namespace lopside::cli {
 
@@ -44,6 +45,9 @@ void setup_measure(CLI::App& app) {
 }
 
 void run_measure(const MeasureOptions& o) {
+  check_output_paths({o.analysis.capture_path}, {{"--json", o.json_path, true},
+                                                 {"--cycles", o.cycles_path},
+                                                 {"--spectrum", o.spectrum_path}});
   // Outputs are opened first so that an unwritable target fails before a long read.
   std::optional<AtomicOutput> json_out, cycles_out, spectrum_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);

@@ -10,6 +10,7 @@
 #include "lopside/atomic_file.hpp"
 #include "lopside/lead_swap.hpp"
 #include "lopside/swap_report.hpp"
+#include "output_paths.hpp"
 
 namespace lopside::cli {
 namespace {
@@ -65,6 +66,7 @@ void setup_swap(CLI::App& app) {
 }
 
 void run_swap(const SwapOptions& o) {
+  check_output_paths({o.normal_path, o.swapped_path}, {{"--json", o.json_path, true}});
   // The output is opened first so that an unwritable target fails before two long reads.
   std::optional<AtomicOutput> json_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);

@@ -23,4 +23,9 @@ InputError::InputError(std::string path, InputLocation where, const std::string&
       where_(where),
       message_(message) {}
 
+OutputError::OutputError(std::string path, const std::string& message)
+    : std::runtime_error(format_error(path, InputLocation{}, message)),
+      path_(std::move(path)),
+      message_(message) {}
+
 }  // namespace lopside

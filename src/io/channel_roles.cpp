@@ -4,6 +4,7 @@
 #include <cctype>
 #include <charconv>
 #include <cmath>
+#include <vector>
 
 #include "lopside/error.hpp"
 #include "lopside/units.hpp"
@@ -55,8 +56,17 @@ std::size_t find_channel(const std::vector<ChannelInfo>& channels, const Channel
                                describe_channels(channels) + "), the time column not counted");
   }
   const std::string wanted = lower(selector);
+  std::vector<std::size_t> matches;
   for (std::size_t i = 0; i < channels.size(); ++i) {
-    if (lower(channels[i].name) == wanted) return i;
+    if (lower(channels[i].name) == wanted) matches.push_back(i);
+  }
+  if (matches.size() == 1) return matches.front();
+  if (matches.size() > 1) {
+    std::string numbers;
+    for (const std::size_t m : matches) numbers += (numbers.empty() ? "" : ", ") + std::to_string(m + 1);
+    throw InputError(path, "channel name '" + selector + "' is ambiguous: channels " + numbers +
+                               " all have it; expected a channel number (" +
+                               describe_channels(channels) + ")");
   }
   throw InputError(path, "there is no channel named '" + selector +
                              "'; expected a number or one of: " + describe_channels(channels));
@@ -88,7 +98,11 @@ void assign_roles(std::vector<ChannelInfo>& channels, const ReaderOptions& optio
                   const std::string& path, std::vector<std::string>& notes) {
   for (const auto& [selector, unit] : options.units) {
     const auto parsed = parse_unit(unit);
-    if (parsed) channels[find_channel(channels, selector, path)].unit = parsed->si_unit;
+    if (parsed) {
+      ChannelInfo& c = channels[find_channel(channels, selector, path)];
+      c.unit = parsed->si_unit;
+      c.unit_text.clear();
+    }
   }
   for (auto& c : channels) c.role = ChannelRole::other;
   std::optional<std::size_t> current, voltage;
@@ -119,8 +133,33 @@ void assign_roles(std::vector<ChannelInfo>& channels, const ReaderOptions& optio
     }
     return std::nullopt;
   };
+  // A capture of one channel records the current: that is what lopside measures. Whether its
+  // unit allows that is the measuring command's question, not the reader's.
+  if (!current && !voltage && channels.size() == 1) {
+    current = 0;
+    notes.push_back("channel 1 '" + channels[0].name + "' taken as the current (the only channel)");
+  }
   if (!current) current = guess(ChannelRole::current, "A", name_means_current);
   if (!voltage) voltage = guess(ChannelRole::voltage, "V", name_means_voltage);
+  // A gain on a channel in volts (or in codes) that carries the current is the probe's
+  // transfer ratio in amperes per volt (or per code): the result is in amperes.
+  if (current && channels[*current].unit != "A") {
+    bool gain_given = false;
+    bool unit_given = false;
+    for (const auto& [selector, gain] : options.gains)
+      gain_given = gain_given || find_channel(channels, selector, path) == *current;
+    for (const auto& [selector, unit] : options.units)
+      unit_given = unit_given || find_channel(channels, selector, path) == *current;
+    if (gain_given && !unit_given) {
+      const std::string was = channels[*current].unit.empty() ? channels[*current].unit_text
+                                                              : channels[*current].unit;
+      notes.push_back("channel " + std::to_string(*current + 1) + " '" + channels[*current].name +
+                      "': --gain taken as amperes per " + (was.empty() ? "unit" : was) +
+                      ", so the current is in A");
+      channels[*current].unit = "A";
+      channels[*current].unit_text.clear();
+    }
+  }
   if (current) channels[*current].role = ChannelRole::current;
   if (voltage) channels[*voltage].role = ChannelRole::voltage;
 }

@@ -369,6 +369,8 @@ class TimeFit {
  public:
   void add(double k, double t) {
     const long double x = k, y = t;
+    if (n_ == 0 || k < min_x_) min_x_ = k;
+    if (n_ == 0 || k > max_x_) max_x_ = k;
     ++n_;
     sx_ += x;
     sy_ += y;
@@ -376,7 +378,18 @@ class TimeFit {
     sxy_ += x * y;
   }
   std::uint64_t count() const { return n_; }
+  /// Rows between the first and the last point.
+  double span() const { return n_ < 2 ? 0.0 : max_x_ - min_x_; }
+  /// The least-squares slope whatever fix_slope said.
+  long double fitted_slope() const {
+    const long double n = static_cast<long double>(n_);
+    const long double d = n * sxx_ - sx_ * sx_;
+    return d == 0 ? 0.0L : (n * sxy_ - sx_ * sy_) / d;
+  }
+  /// From now on the line has this slope, through the points' centroid.
+  void fix_slope(std::optional<long double> b) { fixed_ = b; }
   long double slope() const {
+    if (fixed_) return *fixed_;
     const long double n = static_cast<long double>(n_);
     const long double d = n * sxx_ - sx_ * sx_;
     return d == 0 ? 0.0L : (n * sxy_ - sx_ * sy_) / d;
@@ -389,6 +402,8 @@ class TimeFit {
  private:
   std::uint64_t n_ = 0;
   long double sx_ = 0, sy_ = 0, sxx_ = 0, sxy_ = 0;
+  double min_x_ = 0, max_x_ = 0;
+  std::optional<long double> fixed_;
 };
 
 struct WindowLine {
@@ -447,7 +462,11 @@ class TextReader final : public SampleSource {
 
   // A line above the data that is not its header: its key/value goes to the metadata.
   void retire(const WindowLine& l) {
-    ++preamble_lines_;
+    if (l.comment) {
+      ++comment_lines_;
+    } else {
+      ++preamble_lines_;
+    }
     if (preamble_first_ == 0) preamble_first_ = l.no;
     preamble_last_ = l.no;
     if (auto kv = split_key_value(l.text)) {
@@ -478,13 +497,29 @@ class TextReader final : public SampleSource {
     const std::size_t columns = cells_.size();
     std::vector<bool> is_data(columns);
     for (std::size_t i = 0; i < columns; ++i) is_data[i] = !trim(cells_[i]).empty();
-    std::size_t checked = 0;
+    // A names row right above, one name per cell, makes the row the data's first: a malformed
+    // row soon after it is then reported at its own line. Without one, three in four of the
+    // next rows must share the shape (a stray bad row does not move the data's start).
+    const Dialect saved = dialect_;
+    dialect_ = d;
+    const std::size_t above = line_above(window, at);
+    dialect_ = saved;
+    bool named = false;
+    if (above != std::string::npos && !window[above].comment && !keyed_fact(window[above].text)) {
+      std::string head_scratch;
+      const auto head = header_cells(window[above].text, d, columns, head_scratch);
+      named = head.size() == columns;
+      for (std::size_t i = 0; named && i < columns; ++i)
+        named = !trim(head[i]).empty() && !numeric_cell(head[i], d.decimal);
+    }
+    std::size_t checked = 0, matched = 0;
     for (std::size_t j = at + 1; j < window.size() && checked < kConfirmLines; ++j) {
       if (window[j].comment) continue;
       if (window[j].unterminated) break;  // the last line may be cut short; judged later
-      if (!data_row(window[j].text, d, columns, is_data)) return false;
+      matched += data_row(window[j].text, d, columns, is_data) ? 1u : 0u;
       ++checked;
     }
+    if (!named && 4 * matched < 3 * checked) return false;
     dialect_ = d;
     columns_ = columns;
     is_data_ = std::move(is_data);
@@ -563,7 +598,7 @@ class TextReader final : public SampleSource {
       }
       if (eof) break;
     }
-    bool any_text = preamble_lines_ > 0 || !window.empty();
+    bool any_text = preamble_lines_ + comment_lines_ > 0 || !window.empty();
     if (!any_text) throw InputError(path_, "the file holds no text; expected a capture");
     if (window.empty()) throw InputError(path_, "no data rows; expected rows of numbers");
     // Numbers in a shape not understood must not be called "no rows of numbers".
@@ -1134,18 +1169,19 @@ class TextReader final : public SampleSource {
       if (stated.start_s) info_.start_time_s = *stated.start_s;
       info_.detail += "sample interval from '" + stated.interval_key + "'";
     } else {
-      std::string read = preamble_lines_ == 0
+      const std::uint64_t lines_read = preamble_lines_ + comment_lines_;
+      std::string read = lines_read == 0
                              ? std::string("no preamble lines")
-                             : std::to_string(preamble_lines_) + " preamble line(s) (lines " +
+                             : std::to_string(lines_read) + " preamble line(s) (lines " +
                                    std::to_string(preamble_first_) + "–" +
                                    std::to_string(preamble_last_);
       if (!preamble_keys_.empty()) {
         read += ": ";
         for (std::size_t i = 0; i < preamble_keys_.size(); ++i)
           read += (i ? ", '" : "'") + shorten(preamble_keys_[i], 30) + "'";
-        if (preamble_lines_ > preamble_keys_.size()) read += ", …";
+        if (lines_read > preamble_keys_.size()) read += ", …";
       }
-      if (preamble_lines_ > 0) read += ")";
+      if (lines_read > 0) read += ")";
       throw InputError(path_, InputLocation::at_line(h.found ? h.line : first_data_line_),
                        "no time column and no sample rate: read " + read +
                            ", none of which states the time base. Expected a time column "
@@ -1191,6 +1227,7 @@ class TextReader final : public SampleSource {
                                                  : std::string("'") + dialect_.delimiter + "'") +
                     ", decimal " + (dialect_.decimal == ',' ? "comma" : "point");
     if (preamble_lines_ > 0) d += ", " + std::to_string(preamble_lines_) + " preamble lines";
+    if (comment_lines_ > 0) d += ", " + std::to_string(comment_lines_) + " comment lines";
     d += h.found ? ", header at line " + std::to_string(h.line) : ", no header row";
     if (!h.units.empty()) d += " with a units row";
     d += ", data from line " + std::to_string(first_data_line_);
@@ -1332,6 +1369,40 @@ class TextReader final : public SampleSource {
   }
 
   bool coarse() const { return repeats_ > 0 && steps_fit_.count() >= 2; }
+
+  // A time column printed so coarsely that only a few printed values change gives the interval
+  // to about ±1 row at each end of the span of its crossings (a value that falls exactly on a
+  // half rounds one way or the other). Digitisers run at preferred intervals (1, 2, 2.5, 4, 5
+  // and 8 times a power of ten, common practice), so where one lies within that uncertainty it
+  // is the interval; otherwise the fit stands.
+  void snap_coarse_interval() {
+    if (!coarse()) return;
+    const double span = steps_fit_.span();
+    const auto fitted = static_cast<double>(steps_fit_.fitted_slope());
+    if (!(span > 0) || !(fitted > 0)) return;
+    const double tolerance = 1.5 / span;
+    double best = 0, best_rel = 1e300;
+    const int decade = static_cast<int>(std::floor(std::log10(fitted)));
+    for (int e = decade - 1; e <= decade + 1; ++e) {
+      for (const double m : {1.0, 2.0, 2.5, 4.0, 5.0, 8.0}) {
+        const double candidate = m * std::pow(10.0, e);
+        const double rel = std::fabs(candidate / fitted - 1.0);
+        if (rel < best_rel) {
+          best_rel = rel;
+          best = candidate;
+        }
+      }
+    }
+    if (best_rel <= tolerance && best_rel > 0) {
+      steps_fit_.fix_slope(best);
+      snapped_note_ = "interval " + format_g(best) + " s: the preferred value within ±" +
+                      format_g(tolerance * 100, 2) + " % of the coarse time column's fit (" +
+                      format_g(fitted, 8) + " s)";
+    } else {
+      steps_fit_.fix_slope(std::nullopt);
+      snapped_note_.clear();
+    }
+  }
   const TimeFit& best_fit() const { return coarse() ? steps_fit_ : fit_; }
   double predict(double k) const { return static_cast<double>(best_fit().predict(k)); }
 
@@ -1393,7 +1464,7 @@ class TextReader final : public SampleSource {
   // The interval of the look-ahead rows. Where printing resolves each step (the steps agree),
   // their median is immune to a few missing samples; where it does not, only the
   // least-squares slope over all rows can give the interval.
-  double lookahead_interval() const {
+  double lookahead_interval() {
     std::vector<double> steps;
     double q_max = 0;
     for (std::size_t i = 1; i < lookahead_times_.size(); ++i) {
@@ -1410,6 +1481,7 @@ class TextReader final : public SampleSource {
     for (double st : steps) near += std::fabs(st - median) <= 0.5 * q_max + 1e-9 * median ? 1 : 0;
     // Trust the median when nine steps in ten agree with it to the printed resolution.
     if (median > 0 && 10 * near >= 9 * steps.size()) return median;
+    snap_coarse_interval();
     return static_cast<double>(best_fit().slope());
   }
 
@@ -1463,6 +1535,9 @@ class TextReader final : public SampleSource {
     done_ = true;
     info_.frames = rows_;
     if (time_column_ >= 0 && fit_.count() >= 2) {
+      steps_fit_.fix_slope(std::nullopt);
+      snap_coarse_interval();
+      if (!snapped_note_.empty()) info_.detail += ", " + snapped_note_;
       dt_s_ = static_cast<double>(best_fit().slope());
       info_.sample_rate_hz = 1.0 / dt_s_;
       info_.start_time_s = start_time();
@@ -1497,7 +1572,7 @@ class TextReader final : public SampleSource {
   std::vector<std::string> warnings_;
   std::vector<std::string> role_notes_;
   // preamble
-  std::uint64_t preamble_lines_ = 0, preamble_first_ = 0, preamble_last_ = 0;
+  std::uint64_t preamble_lines_ = 0, comment_lines_ = 0, preamble_first_ = 0, preamble_last_ = 0;
   std::vector<std::string> preamble_keys_;
   // layout
   Dialect dialect_;
@@ -1539,6 +1614,7 @@ class TextReader final : public SampleSource {
   // time column state
   TimeFit fit_;
   TimeFit steps_fit_;
+  std::string snapped_note_;
   std::uint64_t repeats_ = 0;
   double t0_ = 0, first_q_ = 0, prev_t_ = 0, prev_q_ = 0, prev_k_ = 0, dt_s_ = 0;
   std::vector<PendingTime> lookahead_times_;

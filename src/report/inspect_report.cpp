@@ -10,6 +10,7 @@
 #include <string_view>
 
 #include "lopside/units.hpp"
+#include "report_support.hpp"
 
 namespace lopside {
 namespace {
@@ -104,7 +105,7 @@ void write_inspect_text(std::ostream& out, const InspectResult& result) {
     row.fill("-");  // a channel without samples shows dashes, never a made-up zero
     row[0] = std::to_string(ch.index);
     row[1] = ch.name;
-    row[2] = ch.unit.empty() ? std::string("?") : ch.unit;
+    row[2] = !ch.unit.empty() ? ch.unit : !ch.unit_text.empty() ? ch.unit_text : std::string("?");
     row[3] = to_string(ch.role);
     if (i < result.channels.size() && result.channels[i].count > 0) {
       const ChannelSummary& s = result.channels[i];
@@ -173,7 +174,10 @@ void write_inspect_json(std::ostream& out, const InspectResult& result) {
     json c;
     c["index"] = ch.index;
     c["name"] = ch.name;
-    c["unit"] = ch.unit;
+    // The SI unit the values are in, else the unit as the file states it ("a.u.", "counts").
+    c["unit"] = !ch.unit.empty() ? json(ch.unit) : !ch.unit_text.empty() ? json(ch.unit_text)
+                                                                        : json(nullptr);
+    c["unit_is_si"] = !ch.unit.empty();
     c["role"] = to_string(ch.role);
     const bool have = i < result.channels.size() && result.channels[i].count > 0;
     const ChannelSummary s = have ? result.channels[i] : ChannelSummary{};
@@ -186,6 +190,7 @@ void write_inspect_json(std::ostream& out, const InspectResult& result) {
     channels.push_back(std::move(c));
   }
   doc["channels"] = std::move(channels);
+  doc["metadata"] = report_detail::metadata_json(info.metadata);
   doc["warnings"] = result.warnings;
   // Header names come from the file: replace invalid UTF-8 rather than throw halfway through.
   out << doc.dump(2, ' ', false, json::error_handler_t::replace) << '\n';

@@ -236,6 +236,7 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   input["start_time_s"] = r.info.start_time_s;
   input["current_channel"] = r.current_name;
   input["voltage_channel"] = r.voltage_name ? json(*r.voltage_name) : json(nullptr);
+  input["metadata"] = report_detail::metadata_json(r.info.metadata);
   doc["input"] = input;
   json probe;
   probe["offset_tolerance_a"] = r.probe_offset_a;

@@ -7,6 +7,8 @@
 #include <nlohmann/json.hpp>
 #include <ostream>
 #include <string>
+#include <utility>
+#include <vector>
 
 #include "lopside/cycle_engine.hpp"
 
@@ -34,6 +36,17 @@ inline std::string pad(const std::string& text, std::size_t width) {
 /// One aligned "  label               text" line of a summary.
 inline void line(std::ostream& out, const std::string& label, const std::string& text) {
   out << "  " << pad(label, 20) << text << '\n';
+}
+
+/// The capture's key/values as one object in file order; a key stated again gets " #2", " #3".
+inline json metadata_json(const std::vector<std::pair<std::string, std::string>>& pairs) {
+  json j = json::object();
+  for (const auto& [key, value] : pairs) {
+    std::string k = key.empty() ? std::string("(untitled)") : key;
+    for (int n = 2; j.contains(k); ++n) k = (key.empty() ? "(untitled)" : key) + " #" + std::to_string(n);
+    j[k] = value;
+  }
+  return j;
 }
 
 inline std::string fixed(double v, int decimals) {
