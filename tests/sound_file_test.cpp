@@ -324,7 +324,7 @@ TEST(SoundFileWriter, RejectsBadSettingsAndLeavesNoFile) {
                InputError);
   EXPECT_THROW(
       w.open(dir / "no-such-dir" / "d.wav", SoundContainer::wav, SoundSampleFormat::pcm16, 1, 8000),
-      OutputError);
+      lopside::OutputError);
   {
     lopside::SoundFileWriter abandoned;
     abandoned.open(dir / "e.wav", SoundContainer::wav, SoundSampleFormat::pcm16, 1, 8000);
