@@ -15,6 +15,13 @@ namespace lopside {
 /// Opens a capture by content (not by extension alone): RIFF/RF64/W64/FLAC/… containers go to
 /// the libsndfile reader, anything else to the delimited-text reader. Applies gains, scales,
 /// units and channel roles from `options`. Throws InputError naming the file on bad input.
+///
+/// `path` may be "-" (standard input, named "standard input" in messages and in
+/// CaptureInfo::path), a FIFO or `/dev/fd/N`: the input is read strictly forward, never seeked.
+/// Text compressed with gzip, xz or zstd is decompressed on the fly, and UTF-16 text with a
+/// byte order mark is transcoded to UTF-8, both recognised by their first bytes. A sound
+/// container that arrives on a pipe is spooled to an unlinked temporary file first, since
+/// libsndfile seeks.
 std::unique_ptr<SampleSource> open_capture(const std::filesystem::path& path,
                                            const ReaderOptions& options);
 
@@ -25,6 +32,12 @@ std::unique_ptr<SampleSource> open_text_capture(std::istream& in, const std::str
 
 /// The libsndfile reader (WAV, RF64, W64, FLAC, AIFF, …).
 std::unique_ptr<SampleSource> open_sound_file(const std::filesystem::path& path,
+                                              const ReaderOptions& options);
+
+/// The libsndfile reader on an open, seekable descriptor positioned at the container's first
+/// byte (a spooled pipe). Takes the descriptor over and closes it. `display_path` names the
+/// input in messages.
+std::unique_ptr<SampleSource> open_sound_file(int fd, const std::string& display_path,
                                               const ReaderOptions& options);
 
 }  // namespace lopside

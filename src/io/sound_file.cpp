@@ -2,7 +2,10 @@
 // W64, FLAC, AIFF and the other containers libsndfile knows (open_sound_file), and writes WAV,
 // RF64, W64 and FLAC (SoundFileWriter).
 
+#include <fcntl.h>
 #include <sndfile.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <array>
@@ -47,18 +50,30 @@ struct DataExtent {
 
 class HeaderReader {
  public:
-  explicit HeaderReader(const fs::path& path) : in_(path, std::ios::binary) {}
-  bool ok() const { return static_cast<bool>(in_); }
+  explicit HeaderReader(const fs::path& path) : fd_(::open(path.c_str(), O_RDONLY | O_CLOEXEC)) {}
+  /// Reads through its own duplicate of `fd` with pread, so the descriptor's offset, which
+  /// libsndfile uses, is left alone.
+  explicit HeaderReader(int fd) : fd_(::fcntl(fd, F_DUPFD_CLOEXEC, 0)) {}
+  ~HeaderReader() {
+    if (fd_ >= 0) ::close(fd_);
+  }
+  HeaderReader(const HeaderReader&) = delete;
+  HeaderReader& operator=(const HeaderReader&) = delete;
+  bool ok() const { return fd_ >= 0; }
   /// Reads `n` bytes at `pos`; false if the file is shorter.
   bool read(std::uint64_t pos, unsigned char* out, std::size_t n) {
-    in_.clear();
-    in_.seekg(static_cast<std::streamoff>(pos));
-    in_.read(reinterpret_cast<char*>(out), static_cast<std::streamsize>(n));
-    return static_cast<std::size_t>(in_.gcount()) == n;
+    std::size_t done = 0;
+    while (fd_ >= 0 && done < n) {
+      const ssize_t got = ::pread(fd_, out + done, n - done, static_cast<off_t>(pos + done));
+      if (got < 0 && errno == EINTR) continue;
+      if (got <= 0) return false;
+      done += static_cast<std::size_t>(got);
+    }
+    return done == n;
   }
 
  private:
-  std::ifstream in_;
+  int fd_;
 };
 
 std::uint64_t le(const unsigned char* p, std::size_t n) {
@@ -163,8 +178,7 @@ std::optional<DataExtent> aiff_extent(HeaderReader& in, std::uint64_t file_size)
 
 /// The declared data extent of an uncompressed WAV-family or AIFF file; nullopt for other
 /// containers (FLAC, Ogg, …) and for headers that leave the length open.
-std::optional<DataExtent> declared_data_extent(const fs::path& path, std::uint64_t file_size) {
-  HeaderReader in(path);
+std::optional<DataExtent> declared_data_extent(HeaderReader& in, std::uint64_t file_size) {
   unsigned char h[16];
   if (!in.ok() || !in.read(0, h, 16)) return std::nullopt;
   const bool wave = tag_is(h + 8, "WAVE");
@@ -182,8 +196,7 @@ std::optional<DataExtent> declared_data_extent(const fs::path& path, std::uint64
 
 /// True if the file starts like a container libsndfile reads, so that a failed open means a
 /// damaged header rather than a file of another kind.
-bool has_sound_magic(const fs::path& path) {
-  HeaderReader in(path);
+bool has_sound_magic(HeaderReader& in) {
   unsigned char h[16];
   if (!in.ok() || !in.read(0, h, 4)) return false;
   for (const char* tag : {"RIFF", "RIFX", "RF64", "BW64", "FORM", "fLaC", "OggS", "caff", ".snd"}) {
@@ -412,16 +425,17 @@ std::string channel_label(const ChannelInfo& c) {
 
 }  // namespace
 
-std::unique_ptr<SampleSource> open_sound_file(const std::filesystem::path& path,
-                                              const ReaderOptions& options) {
-  const std::string shown = path.string();
-  check_readable(path, shown);
+namespace {
 
-  SF_INFO sf_info{};
-  SndfileHandle file(sf_open(shown.c_str(), SFM_READ, &sf_info));
+// What open_sound_file needs besides libsndfile's handle: the header, read by us, and the size.
+std::unique_ptr<SampleSource> open_opened_sound_file(SndfileHandle file, const SF_INFO& sf_info,
+                                                     HeaderReader& header,
+                                                     std::optional<std::uint64_t> size,
+                                                     const std::string& shown,
+                                                     const ReaderOptions& options) {
   if (!file) {
     const std::string why = sf_strerror(nullptr);
-    if (has_sound_magic(path)) {
+    if (has_sound_magic(header)) {
       throw InputError(shown, InputLocation::at_byte(0),
                        "damaged or unsupported sound file header (libsndfile: " + why + ")");
     }
@@ -443,9 +457,8 @@ std::unique_ptr<SampleSource> open_sound_file(const std::filesystem::path& path,
                          std::to_string(sf_info.samplerate) + " Hz");
   }
 
-  std::error_code ec;
-  const std::uint64_t file_size = fs::file_size(path, ec);
-  const auto extent = ec ? std::nullopt : declared_data_extent(path, file_size);
+  const std::uint64_t file_size = size.value_or(0);
+  const auto extent = size ? declared_data_extent(header, file_size) : std::nullopt;
   if (extent && extent->offset + extent->bytes > file_size) {
     const std::uint64_t present = file_size > extent->offset ? file_size - extent->offset : 0;
     throw InputError(shown, InputLocation::at_byte(file_size),
@@ -516,6 +529,37 @@ std::unique_ptr<SampleSource> open_sound_file(const std::filesystem::path& path,
   const std::uint64_t bytes_per_frame = bytes_per_sample(sf_info.format) * channel_count;
   return std::make_unique<SoundFileSource>(std::move(file), std::move(info), std::move(multipliers),
                                            std::move(warnings), extent, bytes_per_frame);
+}
+
+}  // namespace
+
+std::unique_ptr<SampleSource> open_sound_file(const std::filesystem::path& path,
+                                              const ReaderOptions& options) {
+  const std::string shown = path.string();
+  check_readable(path, shown);
+  SF_INFO sf_info{};
+  SndfileHandle file(sf_open(shown.c_str(), SFM_READ, &sf_info));
+  HeaderReader header(path);
+  std::error_code ec;
+  const std::uint64_t file_size = fs::file_size(path, ec);
+  return open_opened_sound_file(std::move(file), sf_info, header,
+                                ec ? std::nullopt : std::optional<std::uint64_t>(file_size), shown,
+                                options);
+}
+
+std::unique_ptr<SampleSource> open_sound_file(int fd, const std::string& display_path,
+                                              const ReaderOptions& options) {
+  HeaderReader header(fd);
+  struct stat st {};
+  const bool sized = ::fstat(fd, &st) == 0 && S_ISREG(st.st_mode);
+  // libsndfile takes the descriptor over (close_desc): sf_close closes it, and so does a failed
+  // open (libsndfile 1.2.0 source, sf_open_fd → psf_open_file → psf_close; from memory).
+  SF_INFO sf_info{};
+  SndfileHandle file(sf_open_fd(fd, SFM_READ, &sf_info, SF_TRUE));
+  return open_opened_sound_file(
+      std::move(file), sf_info, header,
+      sized ? std::optional<std::uint64_t>(static_cast<std::uint64_t>(st.st_size)) : std::nullopt,
+      display_path, options);
 }
 
 // ---------------------------------------------------------------------------------------------
