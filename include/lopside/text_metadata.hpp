@@ -47,6 +47,12 @@ const char* accepted_time_base_wordings();
 /// True if `key` states the vertical unit ("Vertical Units", "VUnit", "Y Unit", "Units").
 bool is_vertical_unit_key(std::string_view key);
 
+/// True if `key` states the unit of the time axis ("Horizontal Units", "HUnit", "X Unit").
+bool is_horizontal_unit_key(std::string_view key);
+
+/// True if `key` lists the channels' names ("TraceName", "Channel names", "Labels").
+bool is_channel_names_key(std::string_view key);
+
 /// True if `key` names the source channel ("Source", "Channel").
 bool is_source_key(std::string_view key);
 

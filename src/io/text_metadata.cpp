@@ -48,13 +48,22 @@ bool is_interval_key(const std::string& k) {
   for (auto c : kContains) {
     if (contains(k, c)) return true;
   }
-  static constexpr std::array<std::string_view, 14> kEquals{
+  static constexpr std::array<std::string_view, 17> kEquals{
       "increment",     "interval",          "xinc",          "dt",
       "deltat",        "timestep",          "resolution",    "timeresolution",
       "timebase",      "horizontalincrement", "hincrement",  "resolutionhorizontal",
-      "horizontalresolution", "sampletime"};
+      "horizontalresolution", "sampletime", "hresolution", "dx", "xresolution"};
   for (auto e : kEquals) {
     if (k == e) return true;
+  }
+  // Other wordings of an interval ("Horizontal interval", "Point interval"), but not the many
+  // intervals a scope states that are not the sampling's (trigger hold-off, display refresh).
+  if (contains(k, "interval")) {
+    for (std::string_view not_sampling : {"trigger", "holdoff", "refresh", "display", "save",
+                                          "record", "update", "measure", "timeout", "log"}) {
+      if (contains(k, not_sampling)) return false;
+    }
+    return true;
   }
   return false;
 }
@@ -66,12 +75,13 @@ bool is_rate_key(const std::string& k) {
   for (auto c : kContains) {
     if (contains(k, c)) return true;
   }
-  return k == "fs" || k == "srate";
+  return k == "fs" || k == "srate" || k == "rate" || contains(k, "acquisitionrate") ||
+         k == "sarate";
 }
 
 bool is_start_key(const std::string& k) {
   return k == "start" || k == "starttime" || k == "xstart" || k == "tstart" || k == "xorigin" ||
-         k == "firstpointtime" || k == "timeoffirstsample";
+         k == "firstpointtime" || k == "timeoffirstsample" || k == "hoffset" || k == "xoffset";
 }
 
 std::optional<double> rate_factor(std::string_view unit) {
@@ -263,6 +273,18 @@ bool is_vertical_unit_key(std::string_view key) {
   const std::string k = normalised_key(key);
   return k == "verticalunits" || k == "verticalunit" || k == "vunit" || k == "vunits" ||
          k == "yunit" || k == "yunits" || k == "units" || k == "unit" || k == "verticalunitstring";
+}
+
+bool is_horizontal_unit_key(std::string_view key) {
+  const std::string k = normalised_key(key);
+  return k == "horizontalunits" || k == "horizontalunit" || k == "xunit" || k == "xunits" ||
+         k == "hunit" || k == "hunits" || k == "timeunit" || k == "timeunits";
+}
+
+bool is_channel_names_key(std::string_view key) {
+  const std::string k = normalised_key(key);
+  return k == "tracename" || k == "tracenames" || k == "channelnames" || k == "channelname" ||
+         k == "labels" || k == "label" || k == "signalnames" || k == "names";
 }
 
 bool is_source_key(std::string_view key) {

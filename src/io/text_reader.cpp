@@ -266,12 +266,74 @@ void split_cells(std::string_view line, char delimiter, std::vector<std::string_
   while (!cells.empty() && trim(cells.back()).empty()) cells.pop_back();
 }
 
+// Days from 1970-01-01 to a civil date (proleptic Gregorian), after H. Hinnant's
+// days_from_civil ("chrono-Compatible Low-Level Date Algorithms").
+long long days_from_civil(long long y, unsigned m, unsigned d) {
+  y -= m <= 2 ? 1 : 0;
+  const long long era = (y >= 0 ? y : y - 399) / 400;
+  const auto yoe = static_cast<unsigned>(y - era * 400);
+  const unsigned doy = (153 * (m > 2 ? m - 3 : m + 9) + 2) / 5 + d - 1;
+  const unsigned doe = yoe * 365 + yoe / 4 - yoe / 100 + doy;
+  return era * 146097 + static_cast<long long>(doe) - 719468;
+}
+
+// A recorder's clock column: "hh:mm:ss[.fff]", optionally after a date "YYYY-MM-DD",
+// "YYYY/MM/DD" or "DD.MM.YYYY" and a blank or 'T' (ISO 8601), as seconds (since 1970 when a
+// date is given, since midnight otherwise). Only differences matter to the time base.
+std::optional<double> parse_clock(std::string_view cell, char decimal) {
+  cell = trim(cell);
+  if (!cell.empty() && cell.back() == 'Z') cell.remove_suffix(1);
+  std::size_t i = 0;
+  const auto digits = [&](std::size_t min, std::size_t max, long long& out) {
+    std::size_t n = 0;
+    out = 0;
+    while (i < cell.size() && n < max && cell[i] >= '0' && cell[i] <= '9') {
+      out = out * 10 + (cell[i] - '0');
+      ++i;
+      ++n;
+    }
+    return n >= min;
+  };
+  long long days = 0;
+  const std::size_t colon = cell.find(':');
+  if (colon == std::string_view::npos) return std::nullopt;
+  if (colon > 2) {  // a date first
+    long long a = 0, b = 0, c = 0;
+    if (!digits(1, 4, a) || i >= cell.size()) return std::nullopt;
+    const char sep = cell[i];
+    if (sep != '-' && sep != '/' && sep != '.') return std::nullopt;
+    ++i;
+    if (!digits(1, 2, b) || i >= cell.size() || cell[i] != sep) return std::nullopt;
+    ++i;
+    if (!digits(1, 4, c)) return std::nullopt;
+    long long y = a, m = b, d = c;
+    if (a < 100) {  // day first: "19.04.2024"
+      y = c;
+      d = a;
+    }
+    if (m < 1 || m > 12 || d < 1 || d > 31) return std::nullopt;
+    days = days_from_civil(y, static_cast<unsigned>(m), static_cast<unsigned>(d));
+    if (i >= cell.size() || (cell[i] != ' ' && cell[i] != 'T')) return std::nullopt;
+    while (i < cell.size() && (cell[i] == ' ' || cell[i] == 'T')) ++i;
+  }
+  long long h = 0, mi = 0;
+  if (!digits(1, 2, h) || i >= cell.size() || cell[i] != ':') return std::nullopt;
+  ++i;
+  if (!digits(2, 2, mi) || i >= cell.size() || cell[i] != ':') return std::nullopt;
+  ++i;
+  if (h > 23 || mi > 59) return std::nullopt;
+  const auto sec = parse_number(cell.substr(i), decimal);
+  if (!sec || *sec < 0 || *sec >= 61 || cell[i] == '+' || cell[i] == '-') return std::nullopt;
+  return static_cast<double>(days) * 86400.0 + static_cast<double>(h * 3600 + mi * 60) + *sec;
+}
+
 // A number as a cell holds it, including a quoted cell with thousands separators
 // ("-1,021.11" with the decimal point, "1.021,5" with the decimal comma): digit groups of
 // three after the first group, the separator being the other mark.
 std::optional<double> parse_cell(std::string_view cell, char decimal) {
   if (auto v = parse_number(cell, decimal)) return v;
   cell = trim(cell);
+  if (cell.find(':') != std::string_view::npos) return parse_clock(cell, decimal);
   const char group = decimal == '.' ? ',' : '.';
   if (cell.find(group) == std::string_view::npos) return std::nullopt;
   std::string plain;
@@ -297,11 +359,30 @@ bool numeric_cell(std::string_view c, char decimal) {
   return parse_cell(c, decimal).has_value() || is_nan_or_inf_text(c);
 }
 
-// A row that may be the first of the data: every cell a number or empty, at least one number.
+// A calendar date alone ("2026-11-30", "30.11.2026", "2026/11/30"): a recorder's date column
+// beside its clock column, a margin rather than data.
+bool date_cell(std::string_view c) {
+  c = trim(c);
+  if (c.size() < 8 || c.size() > 10) return false;
+  std::size_t digits = 0, seps = 0;
+  for (const char ch : c) {
+    if (ch >= '0' && ch <= '9') {
+      ++digits;
+    } else if (ch == '-' || ch == '/' || ch == '.') {
+      ++seps;
+    } else {
+      return false;
+    }
+  }
+  return seps == 2 && digits >= 6 && c.front() != '-' && c.back() >= '0' && c.back() <= '9';
+}
+
+// A row that may be the first of the data: every cell a number, empty or a date, at least one
+// number.
 bool pure_row(const std::vector<std::string_view>& cells, char decimal) {
   bool any = false;
   for (auto c : cells) {
-    if (trim(c).empty()) continue;
+    if (trim(c).empty() || date_cell(c)) continue;
     if (!numeric_cell(c, decimal)) return false;
     any = true;
   }
@@ -496,7 +577,7 @@ class TextReader final : public SampleSource {
     split_cells(window[at].text, d.delimiter, cells_, scratch_);
     const std::size_t columns = cells_.size();
     std::vector<bool> is_data(columns);
-    for (std::size_t i = 0; i < columns; ++i) is_data[i] = !trim(cells_[i]).empty();
+    for (std::size_t i = 0; i < columns; ++i) is_data[i] = !trim(cells_[i]).empty() && !date_cell(cells_[i]);
     // A names row right above, one name per cell, makes the row the data's first: a malformed
     // row soon after it is then reported at its own line. Without one, three in four of the
     // next rows must share the shape (a stray bad row does not move the data's start).
@@ -626,9 +707,8 @@ class TextReader final : public SampleSource {
   }
 
   // --- the header ------------------------------------------------------------------------
-  // Header cells mapped onto the data's columns: one per column (extra cells beyond them
-  // returned in `extra`), or, when the header names only the data columns of a layout with a
-  // leading margin, right-aligned onto them. Empty when the line does not fit.
+  // Header cells mapped onto the data's columns: one per column, extra cells beyond them
+  // returned in `extra`. Empty when the line has fewer cells than the data.
   std::vector<std::string> map_header(std::string_view text, std::vector<std::string>* extra) {
     std::string head_scratch;
     const std::vector<std::string_view> head = header_cells(text, dialect_, columns_, head_scratch);
@@ -639,14 +719,6 @@ class TextReader final : public SampleSource {
         for (std::size_t i = columns_; i < head.size(); ++i) extra->emplace_back(trim(head[i]));
       }
       return out;
-    }
-    const auto data_columns = static_cast<std::size_t>(std::count(is_data_.begin(), is_data_.end(), true));
-    if (head.size() == data_columns && data_columns < columns_) {
-      out.assign(columns_, std::string());
-      std::size_t h = 0;
-      for (std::size_t i = 0; i < columns_; ++i) {
-        if (is_data_[i]) out[i] = std::string(trim(head[h++]));
-      }
     }
     return out;
   }
@@ -675,8 +747,22 @@ class TextReader final : public SampleSource {
   static bool keyed_fact(std::string_view text) {
     const auto kv = split_key_value(text);
     if (!kv || kv->second.empty()) return false;
-    if (is_vertical_unit_key(kv->first)) return true;
-    return stated_time_base({*kv}).interval_s.has_value();
+    if (is_vertical_unit_key(kv->first) || is_horizontal_unit_key(kv->first) ||
+        is_channel_names_key(kv->first) || is_source_key(kv->first))
+      return true;
+    const StatedTimeBase t = stated_time_base({*kv});
+    return t.interval_s.has_value() || t.start_s.has_value();
+  }
+
+  // Names over a units row may be channel numbers ("x-axis,1,2"), never other numbers.
+  bool plausible_names(const std::vector<std::string>& cells) const {
+    for (std::size_t i = 0; i < cells.size(); ++i) {
+      if (!is_data_[i] || !numeric_cell(cells[i], dialect_.decimal)) continue;
+      for (const char c : trim(cells[i])) {
+        if (c < '0' || c > '9') return false;
+      }
+    }
+    return true;
   }
 
   struct Header {
@@ -713,7 +799,7 @@ class TextReader final : public SampleSource {
     const std::size_t h2 = first.empty() ? std::string::npos : line_above(window, h1);
     if (h2 != std::string::npos && units_row(first) && !keyed_fact(window[h2].text)) {
       std::vector<std::string> names = map_header(window[h2].text, &extra2);
-      if (!names.empty()) {
+      if (!names.empty() && plausible_names(names)) {
         h.names = std::move(names);
         h.units = std::move(first);
         h.top = h2;
@@ -969,26 +1055,38 @@ class TextReader final : public SampleSource {
 
   // A headerless column rising in even steps (nine in ten steps agree with the median to its
   // printed resolution): the time axis of an export without names.
-  bool rises_evenly(std::size_t k, std::size_t qk) const {
+  double rises_evenly(std::size_t k, std::size_t qk) const {
     const std::size_t d = data_index_.size();
     const std::size_t n = look_lines_.size();
-    if (n < 3) return false;
+    if (n < 3) return 0.0;
     std::vector<double> steps;
     double q_max = 0;
     for (std::size_t r = 1; r < n; ++r) {
       const double step = (look_values_[r * d + k] - look_values_[(r - 1) * d + k]) /
                           static_cast<double>(look_k_[r] - look_k_[r - 1]);
-      if (step < 0) return false;
+      if (step < 0) return 0.0;
       steps.push_back(step);
       q_max = std::max(q_max, look_q_[r * q_columns_.size() + qk]);
     }
     auto mid = steps.begin() + static_cast<std::ptrdiff_t>(steps.size() / 2);
     std::nth_element(steps.begin(), mid, steps.end());
     const double median = *mid;
-    if (!(median > 0)) return false;
+    if (!(median > 0)) return 0.0;
     std::size_t near = 0;
     for (double st : steps) near += std::fabs(st - median) <= 0.5 * q_max + 1e-9 * median ? 1 : 0;
-    return 10 * near >= 9 * steps.size();
+    return 10 * near >= 9 * steps.size() ? median : 0.0;
+  }
+
+  std::optional<UnitScale> horizontal_unit() const {
+    for (const auto& [key, value] : info_.metadata) {
+      if (!is_horizontal_unit_key(key)) continue;
+      if (auto unit = parse_time_unit(value)) return unit;
+    }
+    return std::nullopt;
+  }
+  double horizontal_factor() const {
+    const auto u = horizontal_unit();
+    return u ? u->factor : 1.0;
   }
 
   // Index column, headerless time, channels with their units, gains and roles.
@@ -1015,7 +1113,13 @@ class TextReader final : public SampleSource {
         const std::size_t others = d - 1 - (index_column_ >= 0 ? 1 : 0);
         const std::string name = lower(column_name_[col]);
         const bool unnamed = !h.found || name == "x";
-        if (others >= 1 && unnamed && !column_unit_stated_[col] && rises_evenly(k, qk)) {
+        // Where the file states an interval, the column must step by it (within 1 %): a
+        // rising signal is not a time axis.
+        const double step = others >= 1 && unnamed && !column_unit_stated_[col] ? rises_evenly(k, qk) : 0.0;
+        const StatedTimeBase stated = stated_time_base(info_.metadata, dialect_.decimal);
+        const bool agrees = !stated.interval_s ||
+                            std::fabs(step * horizontal_factor() / *stated.interval_s - 1.0) <= 0.01;
+        if (step > 0 && agrees) {
           time_column_ = static_cast<int>(col);
           warnings_.push_back("column " + std::to_string(col + 1) +
                               " taken as the time: it has no name and rises in even steps");
@@ -1027,18 +1131,7 @@ class TextReader final : public SampleSource {
       const auto tc = static_cast<std::size_t>(time_column_);
       if (column_unit_[tc] != "s") {
         // No unit in the header: the preamble's horizontal unit, else seconds.
-        std::optional<UnitScale> unit;
-        for (const auto& [key, value] : info_.metadata) {
-          std::string k = lower(key);
-          k.erase(std::remove_if(k.begin(), k.end(), [](char c) { return c == ' ' || c == '_'; }),
-                  k.end());
-          if (k == "horizontalunits" || k == "horizontalunit" || k == "xunit" || k == "xunits" ||
-              k == "hunit" || k == "timeunit" || k == "timeunits") {
-            unit = parse_time_unit(value);
-            if (unit) break;
-          }
-        }
-        if (unit) {
+        if (const auto unit = horizontal_unit()) {
           column_factor_[tc] = unit->factor;
         } else if (h.found) {
           warnings_.push_back("column " + std::to_string(tc + 1) + " '" + column_name_[tc] +
@@ -1057,6 +1150,7 @@ class TextReader final : public SampleSource {
     std::vector<std::string> stated_units;
     std::size_t unit_keys = 0;
     std::string source_name;
+    std::vector<std::string> stated_names;  // "TraceName,CH1,CH2" in a headerless export
     for (const auto& [key, value] : info_.metadata) {
       if (is_vertical_unit_key(key) && !value.empty()) {
         ++unit_keys;
@@ -1069,6 +1163,15 @@ class TextReader final : public SampleSource {
         for (auto t : tokens) stated_units.emplace_back(trim(t));
       }
       if (source_name.empty() && is_source_key(key) && !value.empty()) source_name = value;
+      if (stated_names.empty() && is_channel_names_key(key) && !value.empty()) {
+        std::vector<std::string_view> tokens;
+        std::string sc;
+        split_cells(value, value.find(',') != std::string::npos   ? ','
+                           : value.find(';') != std::string::npos ? ';'
+                                                                   : ' ',
+                    tokens, sc);
+        for (auto t : tokens) stated_names.emplace_back(trim(t));
+      }
     }
     std::vector<ChannelInfo> channels;
     for (std::size_t k = 0; k < d; ++k) {
@@ -1090,6 +1193,11 @@ class TextReader final : public SampleSource {
                        "samples");
     }
     if (!h.found && channels.size() == 1 && !source_name.empty()) channels[0].name = source_name;
+    if (!h.found && stated_names.size() == channels.size()) {
+      for (std::size_t c = 0; c < channels.size(); ++c) {
+        if (!stated_names[c].empty()) channels[c].name = stated_names[c];
+      }
+    }
     gains_.assign(channels.size(), 1.0);
     for (std::size_t c = 0; c < channels.size(); ++c) {
       const std::size_t col = channel_column_[c];
@@ -1246,9 +1354,11 @@ class TextReader final : public SampleSource {
     if (!info_.detail.empty()) d += ", " + info_.detail;
     info_.detail = d;
     if (!h.found) {
-      warnings_.push_back("no header row: channels named " +
-                          (info_.channels.size() == 1 ? info_.channels[0].name
-                                                      : "ch1…ch" + std::to_string(info_.channels.size())) +
+      std::string names;
+      for (std::size_t c = 0; c < info_.channels.size() && c < 4; ++c)
+        names += (c ? ", " : "") + info_.channels[c].name;
+      if (info_.channels.size() > 4) names += ", …";
+      warnings_.push_back("no header row: channels named " + names +
                           (info_.channels[0].unit.empty() ? ", without units (give --unit CH=A / --unit CH=V)"
                                                           : ""));
     }
