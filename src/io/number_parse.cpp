@@ -93,7 +93,9 @@ std::optional<double> parse_number(std::string_view cell, char decimal_mark) {
 bool is_nan_or_inf_text(std::string_view cell) {
   cell = trim(cell);
   if (!cell.empty() && (cell.front() == '+' || cell.front() == '-')) cell.remove_prefix(1);
-  return iequals(cell, "nan") || iequals(cell, "inf") || iequals(cell, "infinity") ||
+  // "∞" (U+221E) is how some scope software marks a sample beyond its range.
+  return cell == "\xE2\x88\x9E" || iequals(cell, "nan") || iequals(cell, "inf") ||
+         iequals(cell, "infinity") ||
          iequals(cell, "1.#INF") || iequals(cell, "1.#QNAN") || iequals(cell, "-1.#IND");
 }
 

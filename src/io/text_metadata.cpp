@@ -48,11 +48,11 @@ bool is_interval_key(const std::string& k) {
   for (auto c : kContains) {
     if (contains(k, c)) return true;
   }
-  static constexpr std::array<std::string_view, 17> kEquals{
+  static constexpr std::array<std::string_view, 18> kEquals{
       "increment",     "interval",          "xinc",          "dt",
       "deltat",        "timestep",          "resolution",    "timeresolution",
       "timebase",      "horizontalincrement", "hincrement",  "resolutionhorizontal",
-      "horizontalresolution", "sampletime", "hresolution", "dx", "xresolution"};
+      "horizontalresolution", "sampletime", "hresolution", "dx", "xresolution", "deltax"};
   for (auto e : kEquals) {
     if (k == e) return true;
   }
@@ -81,7 +81,8 @@ bool is_rate_key(const std::string& k) {
 
 bool is_start_key(const std::string& k) {
   return k == "start" || k == "starttime" || k == "xstart" || k == "tstart" || k == "xorigin" ||
-         k == "firstpointtime" || k == "timeoffirstsample" || k == "hoffset" || k == "xoffset";
+         k == "firstpointtime" || k == "timeoffirstsample" || k == "hoffset" || k == "xoffset" ||
+         k == "x0";
 }
 
 std::optional<double> rate_factor(std::string_view unit) {
@@ -224,6 +225,7 @@ std::optional<Quantity> parse_quantity(std::string_view text, char decimal) {
 StatedTimeBase stated_time_base(const std::vector<std::pair<std::string, std::string>>& pairs,
                                 char decimal) {
   StatedTimeBase out;
+  int interval_rank = 0;
   for (const auto& [key, value] : pairs) {
     const std::string k = normalised_key(key);
     if (k.empty()) continue;
@@ -243,7 +245,10 @@ StatedTimeBase stated_time_base(const std::vector<std::pair<std::string, std::st
       out.start_s = q->value * factor;
       continue;
     }
-    if (out.interval_s || !(q->value > 0)) continue;
+    // Words that also name a scale per division on some instruments ("Time base: 1 ms",
+    // "Resolution") rank below the unambiguous ones, whatever their order in the file.
+    const int rank = (k == "timebase" || k == "resolution" || k == "rate") ? 1 : 2;
+    if ((out.interval_s && rank <= interval_rank) || !(q->value > 0)) continue;
     if (interval) {
       double factor = 1.0;
       if (!q->unit.empty()) {
@@ -258,6 +263,7 @@ StatedTimeBase stated_time_base(const std::vector<std::pair<std::string, std::st
       out.interval_s = 1.0 / (q->value * *factor);
     }
     out.interval_key = key;
+    interval_rank = rank;
   }
   return out;
 }

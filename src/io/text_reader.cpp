@@ -422,9 +422,10 @@ std::vector<std::string_view> header_cells(std::string_view line, const Dialect&
 
 // Names a time column goes by (several languages; "x-axis" as plotting exports write it).
 bool is_time_name(const std::string& n) {
-  static constexpr std::array<std::string_view, 16> kNames{
+  static constexpr std::array<std::string_view, 19> kNames{
       "time", "t",     "zeit",      "temps",   "tiempo", "tempo",   "tijd",   "czas",
-      "x-axis", "x axis", "timestamp", "seconds", "sec",    "time axis", "horizontal", "xaxis"};
+      "x-axis", "x axis", "timestamp", "seconds", "sec",    "time axis", "horizontal", "xaxis",
+      "x_value", "x value", "second"};
   for (auto k : kNames) {
     if (n == k) return true;
   }
@@ -754,6 +755,13 @@ class TextReader final : public SampleSource {
     return t.interval_s.has_value() || t.start_s.has_value();
   }
 
+  bool all_units(const std::vector<std::string>& cells) const {
+    for (std::size_t i = 0; i < cells.size(); ++i) {
+      if (is_data_[i] && !trim(cells[i]).empty() && !parse_unit(cells[i])) return false;
+    }
+    return true;
+  }
+
   // Names over a units row may be channel numbers ("x-axis,1,2"), never other numbers.
   bool plausible_names(const std::vector<std::string>& cells) const {
     for (std::size_t i = 0; i < cells.size(); ++i) {
@@ -813,7 +821,26 @@ class TextReader final : public SampleSource {
         return h;
       }
     }
+    // A units row with no names row above it ("Second,Volt"): units only, names of our own.
+    if (!first.empty() && units_row(first) && all_units(first)) {
+      h.names.assign(columns_, std::string());
+      h.units = std::move(first);
+      h.top = h1;
+      h.line = window[h1].no;
+      h.found = true;
+      return h;
+    }
     if (!first.empty() && !any_numeric_data_cell(first)) {
+      // Names beyond the data's columns without units name columns the rows leave empty (a
+      // "Comment" column): noted; with units they promise data that is missing: an error.
+      bool extra_with_units = false;
+      for (const auto& e : extra1) extra_with_units = extra_with_units || !split_name_unit(e).unit_text.empty();
+      if (!extra1.empty() && !extra_with_units) {
+        std::string names;
+        for (const auto& e : extra1) names += (names.empty() ? "'" : ", '") + to_utf8(e) + "'";
+        warnings_.push_back("header column(s) " + names + " hold no data in the rows; ignored");
+        extra1.clear();
+      }
       if (!extra1.empty()) {
         throw InputError(path_, InputLocation::at_line(window[h1].no),
                          "the header has " + std::to_string(columns_ + extra1.size()) +
@@ -1192,10 +1219,12 @@ class TextReader final : public SampleSource {
                        "only a time or sample-index column; expected at least one channel of "
                        "samples");
     }
-    if (!h.found && channels.size() == 1 && !source_name.empty()) channels[0].name = source_name;
-    if (!h.found && stated_names.size() == channels.size()) {
+    // Channels the header leaves unnamed take the names the preamble gives.
+    const auto unnamed = [&](std::size_t c) { return column_name_[channel_column_[c]].empty(); };
+    if (channels.size() == 1 && unnamed(0) && !source_name.empty()) channels[0].name = source_name;
+    if (stated_names.size() == channels.size()) {
       for (std::size_t c = 0; c < channels.size(); ++c) {
-        if (!stated_names[c].empty()) channels[c].name = stated_names[c];
+        if (unnamed(c) && !stated_names[c].empty()) channels[c].name = stated_names[c];
       }
     }
     gains_.assign(channels.size(), 1.0);
