@@ -22,8 +22,21 @@ namespace lopside {
 /// byte order mark is transcoded to UTF-8, both recognised by their first bytes. A sound
 /// container that arrives on a pipe is spooled to an unlinked temporary file first, since
 /// libsndfile seeks.
+///
+/// With `options.with_paths`, each of those files is opened too and joined on (see
+/// lopside/joined_source.hpp): one capture whose channels are the main file's, then each
+/// companion's, with the channel options applied on that joined numbering.
 std::unique_ptr<SampleSource> open_capture(const std::filesystem::path& path,
                                            const ReaderOptions& options);
+
+/// Lets open_capture() open `path` more than once (measure's `--zero` reads the capture twice,
+/// since the stretch may lie anywhere in it). A regular file is left as it is. Standard input
+/// ("-"), a FIFO or a pipe's `/dev/fd/N` is copied once, as it comes (compressed or not), to an
+/// unlinked temporary file in $TMPDIR, from whose start every later open_capture() of the same
+/// `path` reads; memory stays at one copy buffer, but the disk must hold the whole input. The
+/// copy lives until the program ends. Throws InputError naming the input when it cannot be read
+/// or copied.
+void keep_for_rereading(const std::filesystem::path& path);
 
 /// The delimited-text reader on a stream, for tests and for pipes. `display_path` names the
 /// input in messages. The stream must outlive the returned source.

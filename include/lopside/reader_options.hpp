@@ -5,6 +5,7 @@
 #include <map>
 #include <optional>
 #include <string>
+#include <vector>
 
 namespace lopside {
 
@@ -26,6 +27,10 @@ struct ReaderOptions {
   /// `--current CH` / `--voltage CH`: explicit roles; otherwise guessed from units and names.
   std::optional<ChannelSelector> current;
   std::optional<ChannelSelector> voltage;
+  /// `--with FILE`: further files of the same acquisition (a scope that saves each channel to
+  /// its own file); their channels follow the main file's, numbered on, and every channel
+  /// option above refers to that joined numbering. See lopside/joined_source.hpp.
+  std::vector<std::string> with_paths;
 };
 
 }  // namespace lopside

@@ -130,7 +130,14 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
   std::optional<std::pair<double, double>> zero_stretch;
   if (!o.zero.empty()) zero_stretch = parse_zero(o.zero);
   Zero zero;
-  if (zero_stretch) zero = measure_zero(o, zero_stretch->first, zero_stretch->second);
+  if (zero_stretch) {
+    // The stretch may lie anywhere in the record, so the capture is read twice: once for the
+    // offset, once to measure. Standard input or a pipe can be read only once, so it is copied
+    // to a temporary file first (bounded memory; the disk holds the copy).
+    keep_for_rereading(o.capture_path);
+    for (const std::string& with : o.reader.with_paths) keep_for_rereading(with);
+    zero = measure_zero(o, zero_stretch->first, zero_stretch->second);
+  }
 
   const std::unique_ptr<SampleSource> source = open_capture(o.capture_path, o.reader);
   const CaptureInfo& info = source->info();

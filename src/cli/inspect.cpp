@@ -5,6 +5,7 @@
 #include <optional>
 #include <stdexcept>
 #include <string>
+#include <vector>
 
 #include "commands.hpp"
 #include "lopside/atomic_file.hpp"
@@ -48,7 +49,9 @@ void setup_inspect(CLI::App& app) {
 }
 
 void run_inspect(const InspectOptions& options) {
-  check_output_paths({options.capture_path}, {{"--json", options.json_path, true}});
+  std::vector<std::string> inputs{options.capture_path};
+  inputs.insert(inputs.end(), options.reader.with_paths.begin(), options.reader.with_paths.end());
+  check_output_paths(inputs, {{"--json", options.json_path, true}});
   // Opened first so an unwritable target fails before a long read, not after it.
   std::optional<AtomicOutput> json_out;
   if (!options.json_path.empty()) json_out.emplace(options.json_path);

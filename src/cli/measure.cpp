@@ -4,6 +4,8 @@
 #include <memory>
 #include <optional>
 #include <stdexcept>
+#include <string>
+#include <vector>
 
 #include "commands.hpp"
 #include "lopside/atomic_file.hpp"
@@ -45,9 +47,12 @@ void setup_measure(CLI::App& app) {
 }
 
 void run_measure(const MeasureOptions& o) {
-  check_output_paths({o.analysis.capture_path}, {{"--json", o.json_path, true},
-                                                 {"--cycles", o.cycles_path},
-                                                 {"--spectrum", o.spectrum_path}});
+  std::vector<std::string> inputs{o.analysis.capture_path};
+  inputs.insert(inputs.end(), o.analysis.reader.with_paths.begin(),
+                o.analysis.reader.with_paths.end());
+  check_output_paths(inputs, {{"--json", o.json_path, true},
+                              {"--cycles", o.cycles_path},
+                              {"--spectrum", o.spectrum_path}});
   // Outputs are opened first so that an unwritable target fails before a long read.
   std::optional<AtomicOutput> json_out, cycles_out, spectrum_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);

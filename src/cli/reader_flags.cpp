@@ -128,6 +128,13 @@ void add_reader_flags(CLI::App& app, ReaderOptions& options) {
          "Sample rate in Hz, for text captures with neither a time column nor a stated rate")
       ->type_name("HZ")
       ->group(kGroup);
+  app.add_option("--with", options.with_paths,
+                 "Another file of the same acquisition (same start, sample interval and length), "
+                 "e.g. the voltage saved apart from the current; its channels are numbered on "
+                 "after the capture's (repeatable)")
+      ->type_name("FILE")
+      ->allow_extra_args(false)  // one FILE per occurrence: never swallow the capture path
+      ->group(kGroup);
   app.add_flag("--skip-bad-rows", options.skip_bad_rows,
                "Skip malformed data rows (they are counted and reported) instead of stopping")
       ->group(kGroup);

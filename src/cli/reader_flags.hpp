@@ -14,7 +14,7 @@ namespace lopside::cli {
 inline constexpr std::size_t kBlockFrames = std::size_t{1} << 16;
 
 /// Adds --current, --voltage, --scale, --gain, --unit (the last three repeatable, as CH=VALUE),
-/// --rate and --skip-bad-rows to `app`, filling `options` as they are parsed. `options` must
+/// --rate, --with (repeatable) and --skip-bad-rows to `app`, filling `options` as they are parsed. `options` must
 /// outlive the parse. A malformed value is a CLI::ValidationError (a usage error, exit 2).
 void add_reader_flags(CLI::App& app, ReaderOptions& options);
 

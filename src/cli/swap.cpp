@@ -5,6 +5,7 @@
 #include <memory>
 #include <optional>
 #include <stdexcept>
+#include <string>
 
 #include "commands.hpp"
 #include "lopside/atomic_file.hpp"
@@ -62,6 +63,21 @@ void setup_swap(CLI::App& app) {
   // The harmonic settings do nothing here: no flag that is silently ignored.
   sub->remove_option(sub->get_option("--block-cycles"));
   sub->remove_option(sub->get_option("--max-order"));
+  // One --with would be joined to both captures, which are two acquisitions: refused with a
+  // word on what to do instead, rather than left unknown or applied wrongly.
+  sub->remove_option(sub->get_option("--with"));
+  sub->add_option_function<std::string>(
+         "--with",
+         [](const std::string&) {
+           throw CLI::ValidationError(
+               "--with",
+               "swap reads two acquisitions, and one --with FILE cannot belong to both; "
+               "expected NORMAL and SWAPPED each holding current and voltage in one "
+               "file, or measure each with `lopside measure CAPTURE --with FILE`");
+         },
+         "Not available here: see `lopside measure --with`")
+      ->type_name("FILE")
+      ->group("Reading the capture");
   sub->callback([options]() { run_swap(*options); });
 }
 

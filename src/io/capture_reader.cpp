@@ -16,6 +16,8 @@
 #include <cstdlib>
 #include <cstring>
 #include <istream>
+#include <map>
+#include <mutex>
 #include <optional>
 #include <string_view>
 #include <utility>
@@ -23,6 +25,7 @@
 
 #include "lopside/error.hpp"
 #include "lopside/input_stream.hpp"
+#include "lopside/joined_source.hpp"
 
 namespace lopside {
 namespace {
@@ -119,7 +122,9 @@ class StreamTextSource final : public SampleSource {
 // libsndfile seeks, a pipe cannot: the container is copied to a temporary file that is unlinked
 // at once (O_TMPFILE, open(2); mkstemp + unlink where the file system lacks it), so it vanishes
 // with its descriptor whatever happens. Memory stays at one copy buffer.
-int spool_to_temporary_file(std::streambuf& in, const std::string& shown) {
+// `what` names the copied input in messages.
+int spool_to_temporary_file(std::streambuf& in, const std::string& shown,
+                            const std::string& what = "the sound file read from a pipe") {
   const char* env = std::getenv("TMPDIR");
   const std::string dir = env != nullptr && *env != '\0' ? env : "/tmp";
   int fd = ::open(dir.c_str(), O_TMPFILE | O_RDWR | O_CLOEXEC, 0600);
@@ -129,8 +134,7 @@ int spool_to_temporary_file(std::streambuf& in, const std::string& shown) {
     if (fd >= 0) ::unlink(name.c_str());
   }
   if (fd < 0) {
-    throw InputError(shown, "cannot create a temporary file in " + dir +
-                                " to hold the sound file read from a pipe (" +
+    throw InputError(shown, "cannot create a temporary file in " + dir + " to hold " + what + " (" +
                                 std::strerror(errno) + "); expected a writable TMPDIR");
   }
   UniqueFd spool(fd, true);
@@ -146,12 +150,10 @@ int spool_to_temporary_file(std::streambuf& in, const std::string& shown) {
           ::write(spool.get(), buffer.data() + done, static_cast<std::size_t>(got) - done);
       if (put < 0 && errno == EINTR) continue;
       if (put < 0) {
-        throw InputError(shown,
-                         "cannot copy the sound file read from a pipe to a temporary file "
-                         "in " +
-                             dir + " after " + std::to_string(total + done) + " bytes (" +
-                             std::strerror(errno) +
-                             "); expected room in TMPDIR for the whole file");
+        throw InputError(shown, "cannot copy " + what + " to a temporary file in " + dir +
+                                    " after " + std::to_string(total + done) + " bytes (" +
+                                    std::strerror(errno) +
+                                    "); expected room in TMPDIR for the whole file");
       }
       done += static_cast<std::size_t>(put);
     }
@@ -161,15 +163,97 @@ int spool_to_temporary_file(std::streambuf& in, const std::string& shown) {
   return spool.release();
 }
 
+// Inputs copied by keep_for_rereading(), by the path as given: descriptors of unlinked
+// temporary files, open until the program ends (the file vanishes with them).
+class Rereadable {
+ public:
+  static Rereadable& instance() {
+    static Rereadable r;
+    return r;
+  }
+  int find(const std::string& path) {
+    const std::lock_guard<std::mutex> lock(mutex_);
+    const auto it = fds_.find(path);
+    return it == fds_.end() ? -1 : it->second.get();
+  }
+  void add(const std::string& path, UniqueFd fd) {
+    const std::lock_guard<std::mutex> lock(mutex_);
+    fds_.emplace(path, std::move(fd));
+  }
+
+ private:
+  std::mutex mutex_;
+  std::map<std::string, UniqueFd> fds_;
+};
+
+// A descriptor of its own on a kept copy, at its start: through /proc/self/fd, which opens the
+// file anew (proc(5): the magic links), so two sources never share one offset; dup + lseek
+// where /proc is not mounted.
+int reopen_kept(int kept) {
+  int fd = ::open(("/proc/self/fd/" + std::to_string(kept)).c_str(), O_RDONLY | O_CLOEXEC);
+  if (fd < 0) {
+    fd = ::fcntl(kept, F_DUPFD_CLOEXEC, 0);
+    if (fd >= 0 && ::lseek(fd, 0, SEEK_SET) != 0) {
+      ::close(fd);
+      fd = -1;
+    }
+  }
+  return fd;
+}
+
 }  // namespace
+
+void keep_for_rereading(const std::filesystem::path& path) {
+  const bool from_stdin = path == "-";
+  const std::string shown = from_stdin ? kStdinName : path.string();
+  if (Rereadable::instance().find(path.string()) >= 0) return;
+  struct stat st {};
+  // Standard input is copied even when it is a regular file: it may have been opened part-way,
+  // and open_capture() reads it once only.
+  if (!from_stdin && ::stat(path.c_str(), &st) == 0 && S_ISREG(st.st_mode)) return;
+  UniqueFd in;
+  if (from_stdin) {
+    in = UniqueFd(STDIN_FILENO, false);
+  } else {
+    const int fd = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
+    if (fd < 0) {
+      throw InputError(shown, std::string("cannot open the capture: ") + std::strerror(errno));
+    }
+    in = UniqueFd(fd, true);
+  }
+  if (::fstat(in.get(), &st) == 0 && S_ISDIR(st.st_mode)) {
+    throw InputError(shown, "is a directory; expected a capture file (CSV/TSV text or WAV)");
+  }
+  FdInputBuf raw(in.get(), shown);
+  UniqueFd copy(spool_to_temporary_file(raw, shown, "the input"), true);
+  Rereadable::instance().add(path.string(), std::move(copy));
+}
 
 std::unique_ptr<SampleSource> open_capture(const std::filesystem::path& path,
                                            const ReaderOptions& options) {
   const bool from_stdin = path == "-";
   const std::string shown = from_stdin ? kStdinName : path.string();
 
+  if (!options.with_paths.empty()) {
+    check_joinable(options, shown);
+    const ReaderOptions part = part_reader_options(options);
+    std::unique_ptr<SampleSource> main = open_capture(path, part);
+    std::vector<std::unique_ptr<SampleSource>> companions;
+    for (const std::string& with : options.with_paths)
+      companions.push_back(open_capture(with, part));
+    return join_captures(std::move(main), std::move(companions), options);
+  }
+
   InputChain chain;
-  if (from_stdin) {
+  const int kept = Rereadable::instance().find(path.string());
+  if (kept >= 0) {
+    const int fd = reopen_kept(kept);
+    if (fd < 0) {
+      throw InputError(shown, std::string("cannot reopen the temporary copy of the input: ") +
+                                  std::strerror(errno));
+    }
+    chain.fd = UniqueFd(fd, true);
+  } else if (from_stdin) {
     // Standard input can be read once: a second open (an option that reads the capture twice,
     // such as measure's --zero) would find it spent and call it empty.
     static std::atomic<bool> stdin_taken{false};
@@ -228,7 +312,7 @@ std::unique_ptr<SampleSource> open_capture(const std::filesystem::path& path,
     }
     top = chain.decoded.get();
   } else if (looks_like_sound_file(head)) {
-    if (!from_stdin && regular) {
+    if (!from_stdin && regular && kept < 0) {
       // A file on disk: libsndfile opens it by name, as before, and checks it against its size.
       chain = InputChain{};
       return open_sound_file(path, options);

@@ -53,7 +53,8 @@ constexpr std::size_t kLookaheadValues = std::size_t{1} << 22;
 constexpr std::size_t kWindowLines = 4096;
 // Lines after a candidate first data row that must share its shape.
 constexpr std::size_t kConfirmLines = 8;
-constexpr std::size_t kMaxMetadata = 4096;
+constexpr std::size_t kMaxMetadata = 65536;
+constexpr std::size_t kMaxMetadataBytes = std::size_t{4} << 20;
 constexpr std::size_t kChunkBytes = 1 << 20;
 constexpr std::size_t kMaxLineBytes = 1 << 20;
 
@@ -537,8 +538,21 @@ class TextReader final : public SampleSource {
 
  private:
   // --- finding the data ------------------------------------------------------------------
+  // Key/values are kept up to a bound on their count and size (a preamble may be huge); past
+  // it, the ones that set the time base, units or names are still kept, so reading never
+  // depends on where in the preamble a fact stands.
   void keep_metadata(std::string key, std::string value) {
-    if (info_.metadata.size() >= kMaxMetadata) return;
+    if (info_.metadata.size() >= kMaxMetadata || metadata_bytes_ >= kMaxMetadataBytes) {
+      const bool fact = is_vertical_unit_key(key) || is_horizontal_unit_key(key) ||
+                        is_channel_names_key(key) || is_source_key(key) ||
+                        stated_time_base({{key, value}}).interval_s.has_value() ||
+                        stated_time_base({{key, value}}).start_s.has_value();
+      if (!fact) {
+        ++metadata_dropped_;
+        return;
+      }
+    }
+    metadata_bytes_ += key.size() + value.size();
     info_.metadata.emplace_back(std::move(key), std::move(value));
   }
 
@@ -602,6 +616,14 @@ class TextReader final : public SampleSource {
       ++checked;
     }
     if (!named && 4 * matched < 3 * checked) return false;
+    // A last row with nothing after it to confirm it is the data only if nothing but comments
+    // stands before it either (a file of one row).
+    if (!named && checked == 0) {
+      for (std::size_t j = 0; j < at; ++j) {
+        if (!window[j].comment) return false;
+      }
+      if (preamble_lines_ > 0) return false;
+    }
     dialect_ = d;
     columns_ = columns;
     is_data_ = std::move(is_data);
@@ -687,12 +709,21 @@ class TextReader final : public SampleSource {
     std::size_t numeric_lines = 0, first_numeric = 0;
     for (const auto& l : window) {
       if (l.comment) continue;
-      std::vector<std::string_view> cells;
-      std::string scratch;
-      split_cells(l.text, ',', cells, scratch);
-      std::size_t numbers = 0;
-      for (auto c : cells) numbers += numeric_cell(c, '.') ? 1u : 0u;
-      if (numbers > 0 && 2 * numbers >= cells.size()) {
+      // Split at anything that may separate numbers, whatever the delimiter.
+      std::size_t numbers = 0, tokens = 0;
+      std::size_t i = 0;
+      const std::string_view t = l.text;
+      while (i < t.size()) {
+        while (i < t.size() && std::strchr(",;\t| ", t[i]) != nullptr) ++i;
+        std::size_t j = i;
+        while (j < t.size() && std::strchr(",;\t| ", t[j]) == nullptr) ++j;
+        if (j > i) {
+          ++tokens;
+          numbers += numeric_cell(t.substr(i, j - i), '.') ? 1u : 0u;
+        }
+        i = j;
+      }
+      if (numbers > 0 && 2 * numbers >= tokens) {
         if (numeric_lines++ == 0) first_numeric = static_cast<std::size_t>(l.no);
       }
     }
@@ -779,6 +810,7 @@ class TextReader final : public SampleSource {
     std::size_t top = 0;             // window index of the header's first line
     std::uint64_t line = 0;          // its line number
     bool found = false;
+    std::vector<std::pair<std::string, std::string>> extras;  // keyed cells beyond the data
   };
 
   Header read_header(std::deque<WindowLine>& window, std::size_t data_at) {
@@ -816,7 +848,8 @@ class TextReader final : public SampleSource {
         // Cells beyond the data's columns: keys over their values ("Start" over "-1.06e-05").
         for (std::size_t i = 0; i < extra2.size(); ++i) {
           if (extra2[i].empty()) continue;
-          keep_metadata(to_utf8(extra2[i]), i < extra1.size() ? to_utf8(extra1[i]) : std::string());
+          h.extras.emplace_back(to_utf8(extra2[i]),
+                                i < extra1.size() ? to_utf8(extra1[i]) : std::string());
         }
         return h;
       }
@@ -886,6 +919,7 @@ class TextReader final : public SampleSource {
     for (std::size_t i = header.top; i < data_at; ++i) {
       if (window[i].comment) retire(window[i]);
     }
+    for (auto& [key, value] : header.extras) keep_metadata(std::move(key), std::move(value));
     window.erase(window.begin(), window.begin() + static_cast<std::ptrdiff_t>(data_at));
 
     setup_columns(header);
@@ -1695,6 +1729,12 @@ class TextReader final : public SampleSource {
                           format_g(max_jitter_s_ / dt_s_ * 100.0, 3) + " % of the sample interval");
     }
     for (auto& n : role_notes_) warnings_.push_back(n);
+    if (metadata_dropped_ > 0) {
+      warnings_.push_back(std::to_string(metadata_dropped_) +
+                          " preamble key/value(s) not kept in the metadata (more than " +
+                          std::to_string(kMaxMetadata) + " or 4 MiB); the time base and units "
+                          "were still read from every line");
+    }
   }
 
   struct PendingTime {
@@ -1713,6 +1753,8 @@ class TextReader final : public SampleSource {
   // preamble
   std::uint64_t preamble_lines_ = 0, comment_lines_ = 0, preamble_first_ = 0, preamble_last_ = 0;
   std::vector<std::string> preamble_keys_;
+  std::size_t metadata_bytes_ = 0;
+  std::uint64_t metadata_dropped_ = 0;
   // layout
   Dialect dialect_;
   std::size_t columns_ = 0;
