@@ -9,42 +9,21 @@
 
 #include "lopside/capture_reader.hpp"
 #include "lopside/error.hpp"
+#include "text_support.hpp"
 
 namespace lopside {
 namespace {
 
-struct Read {
-  CaptureInfo info;
-  std::vector<std::vector<double>> columns;  // per channel
-  std::vector<std::string> warnings;
-};
+using test::Read;
 
 Read read_all(const std::string& text, const ReaderOptions& options = {},
               std::size_t block_frames = 4096) {
-  std::istringstream in(text);
-  auto source = open_text_capture(in, "capture.csv", options);
-  Read r;
-  r.columns.resize(source->info().channels.size());
-  SampleBlock block;
-  while (const std::size_t n = source->read(block, block_frames)) {
-    for (std::size_t f = 0; f < n; ++f) {
-      for (std::size_t c = 0; c < block.channels; ++c) r.columns[c].push_back(block.value(f, c));
-    }
-  }
-  r.info = source->info();
-  r.warnings = source->warnings();
-  return r;
+  return test::read_text(text, options, block_frames, "capture.csv");
 }
 
 // Runs the reader and returns the InputError it must raise.
 InputError error_of(const std::string& text, const ReaderOptions& options = {}) {
-  try {
-    read_all(text, options);
-  } catch (const InputError& e) {
-    return e;
-  }
-  ADD_FAILURE() << "no InputError for:\n" << text.substr(0, 200);
-  return InputError("", "none");
+  return test::text_error(text, options, "capture.csv");
 }
 
 TEST(TextReader, CommaWithTimeColumnAndUnitsInBrackets) {

@@ -421,6 +421,20 @@ std::vector<std::string_view> header_cells(std::string_view line, const Dialect&
   return head;
 }
 
+// A list in one preamble value ("V,A,V", "CH1;CH2", "CH1 CH2"), split at its first kind of
+// separator.
+std::vector<std::string> split_list(std::string_view value) {
+  std::vector<std::string_view> tokens;
+  std::string scratch;
+  const char sep = value.find(',') != std::string_view::npos   ? ','
+                   : value.find(';') != std::string_view::npos ? ';'
+                                                               : ' ';
+  split_cells(value, sep, tokens, scratch);
+  std::vector<std::string> out;
+  for (auto t : tokens) out.emplace_back(trim(t));
+  return out;
+}
+
 // Names a time column goes by (several languages; "x-axis" as plotting exports write it).
 bool is_time_name(const std::string& n) {
   static constexpr std::array<std::string_view, 19> kNames{
@@ -1215,23 +1229,11 @@ class TextReader final : public SampleSource {
     for (const auto& [key, value] : info_.metadata) {
       if (is_vertical_unit_key(key) && !value.empty()) {
         ++unit_keys;
-        std::vector<std::string_view> tokens;
-        std::string sc;
-        split_cells(value, value.find(',') != std::string::npos   ? ','
-                           : value.find(';') != std::string::npos ? ';'
-                                                                   : ' ',
-                    tokens, sc);
-        for (auto t : tokens) stated_units.emplace_back(trim(t));
+        for (auto& t : split_list(value)) stated_units.push_back(std::move(t));
       }
       if (source_name.empty() && is_source_key(key) && !value.empty()) source_name = value;
       if (stated_names.empty() && is_channel_names_key(key) && !value.empty()) {
-        std::vector<std::string_view> tokens;
-        std::string sc;
-        split_cells(value, value.find(',') != std::string::npos   ? ','
-                           : value.find(';') != std::string::npos ? ';'
-                                                                   : ' ',
-                    tokens, sc);
-        for (auto t : tokens) stated_names.emplace_back(trim(t));
+        stated_names = split_list(value);
       }
     }
     std::vector<ChannelInfo> channels;
