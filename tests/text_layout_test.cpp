@@ -717,5 +717,116 @@ TEST(TextLayout, UnevenRowsUpToTheEndAreNotPreamble) {
   EXPECT_EQ(with_rate.where().line.value_or(0), 1u) << with_rate.what();
 }
 
+// --- features beyond the list that real recorders need ---------------------------
+
+// A recorder's clock column beside a date column: the clock is the time (1 ms steps, the
+// printed value exact), the date is a margin, and a time base across midnight stays uniform
+// when the date is part of the cell (ISO 8601 date and time).
+TEST(TextLayout, ClockColumnsGiveTheTime) {
+  std::string text = "Date,Time,current (A)\n";
+  for (std::size_t k = 0; k < 50; ++k) {
+    text += "2026-11-30,12:30:" + fmt("%06.3f", 10.0 + 0.001 * static_cast<double>(k)) + "," +
+            fmt("%.3f", printed_value(0, k)) + "\n";
+  }
+  const Read r = read_all(text);
+  EXPECT_NEAR(r.info.sample_rate_hz, 1000.0, 1000.0 * kRel);
+  ASSERT_EQ(r.info.channels.size(), 1u);
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  expect_values(r, {1}, 50);
+
+  std::string iso = "timestamp;I (mA)\n";
+  for (std::size_t k = 0; k < 40; ++k) {
+    const double s = 86399.99 + 0.0005 * static_cast<double>(k);  // crosses midnight
+    const int day = s < 86400 ? 30 : 1, month = s < 86400 ? 11 : 12;
+    const double d = s < 86400 ? s : s - 86400;
+    const int h = static_cast<int>(d / 3600), m = static_cast<int>((d - h * 3600) / 60);
+    char cell[64];
+    std::snprintf(cell, sizeof cell, "2026-%02d-%02dT%02d:%02d:%07.4f", month, day, h, m,
+                  d - h * 3600 - m * 60);
+    iso += std::string(cell) + ";" + fmt("%.3f", printed_value(0, k)) + "\n";
+  }
+  for (char& c : iso) {
+    if (c == '.') c = ',';  // the decimal comma that goes with ';'
+  }
+  const Read z = read_all(iso);
+  // Seconds since 1970 are about 1.8e9 s, where a double resolves 2.4e-7 s (IEEE 754 binary64:
+  // 2^-52 · 2^30): each time is off by up to 1.2e-7 s, so the slope over a 0.0195 s span may
+  // be off by about 2 · 1.2e-7 / 0.0195 = 1.2e-5 relative; 2e-5 allows that.
+  EXPECT_NEAR(z.info.sample_rate_hz, 2000.0, 2000.0 * 2e-5);
+  expect_values(z, {1e-3}, 40);
+}
+
+// A units row alone ("Second,Volt" with no names above it, after a keyed preamble that names
+// the source): units applied, the channel named from the preamble.
+TEST(TextLayout, UnitsRowWithoutNames) {
+  const std::string text = "Record Length,Analog:8,\nSample Interval,Analog:1.0E-06,\n"
+                           "Source,CH3,\nSecond,Volt,\n" +
+                           rows(8, 1, 1e-6, ",", ",\n");
+  const Read r = read_all(text);
+  EXPECT_NEAR(r.info.sample_rate_hz, 1e6, 1e6 * kRel);
+  ASSERT_EQ(r.info.channels.size(), 1u);
+  EXPECT_EQ(r.info.channels[0].name, "CH3");
+  EXPECT_EQ(r.info.channels[0].unit, "V");
+  expect_values(r, {1}, 8);
+}
+
+// Headerless channels named by a "TraceName" list and a per-channel "VUnit" list, data rows
+// with an empty first cell, the interval from "HResolution" and the start from "HOffset".
+TEST(TextLayout, TraceNamesAndHorizontalKeys) {
+  const std::string text = "Model,BT-REC8\nTraceName,,I1,U1\nVUnit,,A,V\nHResolution,2.0E-05\n"
+                           "HOffset,-1.0E-03\nHUnit,s\n\n" +
+                           rows(12, 2, 0, ",", "\n", {""});
+  const Read r = read_all(text);
+  EXPECT_NEAR(r.info.sample_rate_hz, 5e4, 5e4 * kRel);
+  EXPECT_NEAR(r.info.start_time_s, -1e-3, 1e-15);
+  ASSERT_EQ(r.info.channels.size(), 2u);
+  EXPECT_EQ(r.info.channels[0].name, "I1");
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  EXPECT_EQ(r.info.channels[1].name, "U1");
+  EXPECT_EQ(r.info.channels[1].unit, "V");
+  expect_values(r, {1, 1}, 12);
+}
+
+// A headerless first column that rises evenly is the time only when it agrees with a stated
+// interval: a ramp signal next to "Sample Interval,1e-06" stays a channel.
+TEST(TextLayout, RisingColumnAgainstAStatedInterval) {
+  std::string text = "Sample Interval,1e-06\n";
+  for (std::size_t k = 0; k < 20; ++k)
+    text += fmt("%.3f", 0.5 * static_cast<double>(k)) + "," + fmt("%.3f", printed_value(0, k)) + "\n";
+  const Read r = read_all(text);
+  EXPECT_NEAR(r.info.sample_rate_hz, 1e6, 1e6 * kRel);
+  EXPECT_EQ(r.info.channels.size(), 2u);  // the ramp is data
+}
+
+// A names row with a name over a column every row leaves empty ("Comment"): ignored and said;
+// a unit over a missing column is still an error (TextReaderErrors.HeaderCellCountMismatch…).
+TEST(TextLayout, NamedColumnWithoutDataIsIgnored) {
+  const std::string text = "X_Value\tVoltage (V)\tComment\n" + rows(10, 1, 1e-4, "\t", "\t\n");
+  const Read r = read_all(text);
+  EXPECT_NEAR(r.info.sample_rate_hz, 1e4, 1e4 * kRel);
+  ASSERT_EQ(r.info.channels.size(), 1u);
+  bool said = false;
+  for (const auto& w : r.warnings) said = said || contains(w, "'Comment'");
+  EXPECT_TRUE(said);
+}
+
+// The sample index is checked on every row, past the look-ahead too: a jump is a gap.
+TEST(TextLayout, IndexJumpIsAGap) {
+  std::string text = "Sample Interval,1e-06\nindex,current (A)\n";
+  for (std::size_t k = 0; k < 70000; ++k)
+    text += std::to_string(k < 69000 ? k : k + 1) + "," + fmt("%.3f", printed_value(0, k)) + "\n";
+  const InputError e = error_of(text);
+  EXPECT_EQ(e.where().line.value_or(0), 3u + 69000u) << e.what();
+  EXPECT_TRUE(contains(e.what(), "missing")) << e.what();
+}
+
+// "∞", as some scope software writes a sample beyond its range, is not a finite number.
+TEST(TextLayout, InfinitySignIsNotAFiniteNumber) {
+  const std::string text = "time (s),current (A)\n0,0.5\n1e-6,0.25\n2e-6,\xE2\x88\x9E\n3e-6,0.5\n";
+  const InputError e = error_of(text);
+  EXPECT_EQ(e.where().line.value_or(0), 4u) << e.what();
+  EXPECT_TRUE(contains(e.what(), "not a finite number")) << e.what();
+}
+
 }  // namespace
 }  // namespace lopside
