@@ -457,4 +457,44 @@ TEST_F(Cli, ShippedClippedSampleIsFlagged) {
   EXPECT_TRUE(flagged) << j["warnings"].dump();
 }
 
+
+// --- the current must be in amperes (issue 8, item 5) -------------------------------------
+
+// 50 whole cycles of a 1 kHz sine of 0.2 (in the file's unit) on a DC of 0.01, 100 samples a
+// cycle: the mean over whole cycles is the DC exactly (the sine's samples cancel, DFT
+// orthogonality), so the expected DC is 0.01 × the gain to printing's 1e-9.
+std::string probe_csv(const std::string& header) {
+  std::string text = header + "\n";
+  char row[96];
+  for (int k = 0; k < 5000; ++k) {
+    std::snprintf(row, sizeof row, "%.7f,%.12f\n", k * 1e-5,
+                  0.01 + 0.2 * std::sin(2 * 3.14159265358979323846 * k / 100.0));
+    text += row;
+  }
+  return text;
+}
+
+TEST_F(Cli, CurrentInVoltsIsRefusedUntilTheProbeRatioIsGiven) {
+  const fs::path volts = file("probe_v.csv", probe_csv("time (s),probe (V)"));
+  const RunResult refused = run({"measure", volts.string()});
+  EXPECT_EQ(refused.status, 2) << refused.err;
+  EXPECT_NE(refused.err.find("not amperes"), std::string::npos) << refused.err;
+  EXPECT_NE(refused.err.find("--gain 1="), std::string::npos) << refused.err;
+  // 100 mV/A: 10 A per volt.
+  const json j = run_json({"measure", volts.string(), "--gain", "1=10", "--json", "-"});
+  EXPECT_NEAR(j["dc_offset_a"]["value"].get<double>(), 0.1, 1e-8);
+  const json a = run_json({"measure", volts.string(), "--unit", "1=A", "--json", "-"});
+  EXPECT_NEAR(a["dc_offset_a"]["value"].get<double>(), 0.01, 1e-9);
+}
+
+TEST_F(Cli, CurrentWithoutAUnitIsTakenAsAmperesAndSaid) {
+  const fs::path bare = file("probe_bare.csv", probe_csv("time (s),probe"));
+  const json j = run_json({"measure", bare.string(), "--json", "-"});
+  EXPECT_NEAR(j["dc_offset_a"]["value"].get<double>(), 0.01, 1e-9);
+  bool said = false;
+  for (const auto& w : j["warnings"])
+    said = said || w.get<std::string>().find("taken as amperes") != std::string::npos;
+  EXPECT_TRUE(said) << j["warnings"].dump();
+}
+
 }  // namespace
