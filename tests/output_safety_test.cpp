@@ -69,11 +69,21 @@ class OutputSafety : public Cli {
   static bool is_root() { return ::geteuid() == 0; }
 
   /// Runs lopside as `user`; as nobody through setpriv, whose options drop every group.
+  /// nobody may not reach the build tree or the sources (a clone in a 0700 folder, as CI's may
+  /// be): the binary and the sample are copied into the test's own directory for its runs.
   RunResult run_as(User user, const std::vector<std::string>& args) {
     if (user == User::root) return run(args);
+    const fs::path bin = dir_ / "nobody-lopside";
+    const fs::path sample = dir_ / "nobody-sample.csv";
+    if (!fs::exists(bin)) {
+      fs::copy_file(LOPSIDE_BINARY, bin);
+      fs::copy_file(kSample, sample);
+      ::chmod(bin.c_str(), 0755);
+      ::chmod(sample.c_str(), 0644);
+    }
     std::vector<std::string> full{"--reuid=65534", "--regid=65534", "--clear-groups",
-                                  LOPSIDE_BINARY};
-    full.insert(full.end(), args.begin(), args.end());
+                                  bin.string()};
+    for (const std::string& a : args) full.push_back(a == kSample ? sample.string() : a);
     return run(full, "/usr/bin/setpriv");
   }
 
