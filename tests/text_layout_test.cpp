@@ -828,5 +828,19 @@ TEST(TextLayout, InfinitySignIsNotAFiniteNumber) {
   EXPECT_TRUE(contains(e.what(), "not a finite number")) << e.what();
 }
 
+// Blank-separated columns whose names hold blanks: a bracketed unit joins the word before it,
+// else two or more blanks separate the names (fixed-width exports).
+TEST(TextLayout, BlankSeparatedNamesWithBlanks) {
+  const Read r = read_all("Time (ms)  Tube current (mA)  Voltage (V)\n" + rows(6, 2, 0.001, " "));
+  EXPECT_NEAR(r.info.sample_rate_hz, 1e6, 1e6 * kRel);
+  ASSERT_EQ(r.info.channels.size(), 2u);
+  EXPECT_EQ(r.info.channels[0].name, "Tube current");
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  expect_values(r, {1e-3, 1}, 6);
+  const Read w = read_all("Time    Tube current    Lamp voltage\n" + rows(6, 2, 1e-6, " "));
+  ASSERT_EQ(w.info.channels.size(), 2u);
+  EXPECT_EQ(w.info.channels[1].name, "Lamp voltage");
+}
+
 }  // namespace
 }  // namespace lopside

@@ -413,12 +413,42 @@ std::vector<Dialect> pure_dialects(std::string_view line) {
 
 // Header cells of `line` under `d`; one column of data is named by the whole line, blanks and
 // all ("current (A)").
+// Blank-separated headers whose names hold blanks ("Time (s)  Current (A)"): a bracketed unit
+// belongs to the word before it; failing that, columns are split at runs of two or more blanks
+// or at tabs, as fixed-width exports align them.
 std::vector<std::string_view> header_cells(std::string_view line, const Dialect& d,
                                            std::size_t columns, std::string& scratch) {
   std::vector<std::string_view> head;
   split_cells(line, d.delimiter, head, scratch);
-  if (columns == 1 && head.size() > 1 && d.delimiter == ' ') head.assign(1, trim(line));
-  return head;
+  if (d.delimiter != ' ' || head.size() == columns) return head;
+  if (columns == 1) {
+    head.assign(1, trim(line));
+    return head;
+  }
+  std::vector<std::string_view> joined;
+  for (const std::string_view cell : head) {
+    const bool unit = !cell.empty() && (cell.front() == '(' || cell.front() == '[');
+    if (unit && !joined.empty()) {
+      // Views into `line`: extend the previous one over the blanks to this cell's end.
+      const char* start = joined.back().data();
+      joined.back() = std::string_view(start, static_cast<std::size_t>(cell.data() + cell.size() - start));
+    } else {
+      joined.push_back(cell);
+    }
+  }
+  if (joined.size() == columns) return joined;
+  std::vector<std::string_view> wide;
+  std::size_t i = 0;
+  const std::string_view t = trim(line);
+  while (i < t.size()) {
+    std::size_t j = i;
+    while (j < t.size() && t[j] != '\t' && !(t[j] == ' ' && j + 1 < t.size() && t[j + 1] == ' '))
+      ++j;
+    wide.push_back(trim(t.substr(i, j - i)));
+    while (j < t.size() && (t[j] == ' ' || t[j] == '\t')) ++j;
+    i = j;
+  }
+  return wide.size() == columns ? wide : head;
 }
 
 // A list in one preamble value ("V,A,V", "CH1;CH2", "CH1 CH2"), split at its first kind of
