@@ -1058,8 +1058,10 @@ class TextReader final : public SampleSource {
           fraction_seen_[data_index_[k]] = true;
         }
       }
-      for (const std::size_t c : q_columns_)
+      for (const std::size_t c : q_columns_) {
         look_q_.push_back(printed_resolution(cells_[c], dialect_.decimal));
+        if (cells_[c].find(':') != std::string_view::npos) clock_column_ = static_cast<int>(c);
+      }
       look_lines_.push_back(line_no);
       look_k_.push_back(row_index_);
       ++row_index_;
@@ -1236,7 +1238,9 @@ class TextReader final : public SampleSource {
       const auto tc = static_cast<std::size_t>(time_column_);
       if (column_unit_[tc] != "s") {
         // No unit in the header: the preamble's horizontal unit, else seconds.
-        if (const auto unit = horizontal_unit()) {
+        if (clock_column_ == time_column_) {
+          info_.detail += "clock times (hh:mm:ss)";
+        } else if (const auto unit = horizontal_unit()) {
           column_factor_[tc] = unit->factor;
         } else if (h.found) {
           warnings_.push_back("column " + std::to_string(tc + 1) + " '" + column_name_[tc] +
@@ -1799,6 +1803,7 @@ class TextReader final : public SampleSource {
   std::uint64_t first_data_line_ = 0;
   int time_column_ = -1;
   int index_column_ = -1;
+  int clock_column_ = -1;  // a column printed as a clock, hh:mm:ss
   std::size_t time_k_ = 0, time_qk_ = 0, index_k_ = 0;
   double index_origin_ = 0;
   std::vector<std::size_t> channel_column_;
