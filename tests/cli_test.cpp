@@ -457,7 +457,6 @@ TEST_F(Cli, ShippedClippedSampleIsFlagged) {
   EXPECT_TRUE(flagged) << j["warnings"].dump();
 }
 
-
 // --- the current must be in amperes (issue 8, item 5) -------------------------------------
 
 // 50 whole cycles of a 1 kHz sine of 0.2 (in the file's unit) on a DC of 0.01, 100 samples a

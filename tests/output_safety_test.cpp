@@ -81,8 +81,7 @@ class OutputSafety : public Cli {
       ::chmod(bin.c_str(), 0755);
       ::chmod(sample.c_str(), 0644);
     }
-    std::vector<std::string> full{"--reuid=65534", "--regid=65534", "--clear-groups",
-                                  bin.string()};
+    std::vector<std::string> full{"--reuid=65534", "--regid=65534", "--clear-groups", bin.string()};
     for (const std::string& a : args) full.push_back(a == kSample ? sample.string() : a);
     return run(full, "/usr/bin/setpriv");
   }

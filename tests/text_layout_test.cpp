@@ -759,9 +759,10 @@ TEST(TextLayout, ClockColumnsGiveTheTime) {
 // A units row alone ("Second,Volt" with no names above it, after a keyed preamble that names
 // the source): units applied, the channel named from the preamble.
 TEST(TextLayout, UnitsRowWithoutNames) {
-  const std::string text = "Record Length,Analog:8,\nSample Interval,Analog:1.0E-06,\n"
-                           "Source,CH3,\nSecond,Volt,\n" +
-                           rows(8, 1, 1e-6, ",", ",\n");
+  const std::string text =
+      "Record Length,Analog:8,\nSample Interval,Analog:1.0E-06,\n"
+      "Source,CH3,\nSecond,Volt,\n" +
+      rows(8, 1, 1e-6, ",", ",\n");
   const Read r = read_all(text);
   EXPECT_NEAR(r.info.sample_rate_hz, 1e6, 1e6 * kRel);
   ASSERT_EQ(r.info.channels.size(), 1u);
@@ -773,9 +774,10 @@ TEST(TextLayout, UnitsRowWithoutNames) {
 // Headerless channels named by a "TraceName" list and a per-channel "VUnit" list, data rows
 // with an empty first cell, the interval from "HResolution" and the start from "HOffset".
 TEST(TextLayout, TraceNamesAndHorizontalKeys) {
-  const std::string text = "Model,BT-REC8\nTraceName,,I1,U1\nVUnit,,A,V\nHResolution,2.0E-05\n"
-                           "HOffset,-1.0E-03\nHUnit,s\n\n" +
-                           rows(12, 2, 0, ",", "\n", {""});
+  const std::string text =
+      "Model,BT-REC8\nTraceName,,I1,U1\nVUnit,,A,V\nHResolution,2.0E-05\n"
+      "HOffset,-1.0E-03\nHUnit,s\n\n" +
+      rows(12, 2, 0, ",", "\n", {""});
   const Read r = read_all(text);
   EXPECT_NEAR(r.info.sample_rate_hz, 5e4, 5e4 * kRel);
   EXPECT_NEAR(r.info.start_time_s, -1e-3, 1e-15);
@@ -792,7 +794,8 @@ TEST(TextLayout, TraceNamesAndHorizontalKeys) {
 TEST(TextLayout, RisingColumnAgainstAStatedInterval) {
   std::string text = "Sample Interval,1e-06\n";
   for (std::size_t k = 0; k < 20; ++k)
-    text += fmt("%.3f", 0.5 * static_cast<double>(k)) + "," + fmt("%.3f", printed_value(0, k)) + "\n";
+    text +=
+        fmt("%.3f", 0.5 * static_cast<double>(k)) + "," + fmt("%.3f", printed_value(0, k)) + "\n";
   const Read r = read_all(text);
   EXPECT_NEAR(r.info.sample_rate_hz, 1e6, 1e6 * kRel);
   EXPECT_EQ(r.info.channels.size(), 2u);  // the ramp is data

@@ -59,12 +59,8 @@ std::optional<UnitScale> parse_unit_word(std::string_view text) {
                                                {"amperes", "A"},
                                                {"ampere", "A"}}};
   static constexpr std::array<Word, 2> kShort{{{"amps", "A"}, {"amp", "A"}}};
-  static constexpr std::array<Prefix, 6> kPrefixWords{{{"", 1.0},
-                                                       {"kilo", 1e3},
-                                                       {"mega", 1e6},
-                                                       {"milli", 1e-3},
-                                                       {"micro", 1e-6},
-                                                       {"nano", 1e-9}}};
+  static constexpr std::array<Prefix, 6> kPrefixWords{
+      {{"", 1.0}, {"kilo", 1e3}, {"mega", 1e6}, {"milli", 1e-3}, {"micro", 1e-6}, {"nano", 1e-9}}};
   for (const Prefix& p : kPrefixWords) {
     if (w.rfind(p.text, 0) != 0) continue;
     const std::string_view rest = std::string_view(w).substr(p.text.size());

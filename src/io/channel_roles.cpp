@@ -63,7 +63,8 @@ std::size_t find_channel(const std::vector<ChannelInfo>& channels, const Channel
   if (matches.size() == 1) return matches.front();
   if (matches.size() > 1) {
     std::string numbers;
-    for (const std::size_t m : matches) numbers += (numbers.empty() ? "" : ", ") + std::to_string(m + 1);
+    for (const std::size_t m : matches)
+      numbers += (numbers.empty() ? "" : ", ") + std::to_string(m + 1);
     throw InputError(path, "channel name '" + selector + "' is ambiguous: channels " + numbers +
                                " all have it; expected a channel number (" +
                                describe_channels(channels) + ")");
@@ -151,8 +152,8 @@ void assign_roles(std::vector<ChannelInfo>& channels, const ReaderOptions& optio
     for (const auto& [selector, unit] : options.units)
       unit_given = unit_given || find_channel(channels, selector, path) == *current;
     if (gain_given && !unit_given) {
-      const std::string was = channels[*current].unit.empty() ? channels[*current].unit_text
-                                                              : channels[*current].unit;
+      const std::string was =
+          channels[*current].unit.empty() ? channels[*current].unit_text : channels[*current].unit;
       notes.push_back("channel " + std::to_string(*current + 1) + " '" + channels[*current].name +
                       "': --gain taken as amperes per " + (was.empty() ? "unit" : was) +
                       ", so the current is in A");

@@ -95,8 +95,8 @@ bool is_nan_or_inf_text(std::string_view cell) {
   if (!cell.empty() && (cell.front() == '+' || cell.front() == '-')) cell.remove_prefix(1);
   // "∞" (U+221E) is how some scope software marks a sample beyond its range.
   return cell == "\xE2\x88\x9E" || iequals(cell, "nan") || iequals(cell, "inf") ||
-         iequals(cell, "infinity") ||
-         iequals(cell, "1.#INF") || iequals(cell, "1.#QNAN") || iequals(cell, "-1.#IND");
+         iequals(cell, "infinity") || iequals(cell, "1.#INF") || iequals(cell, "1.#QNAN") ||
+         iequals(cell, "-1.#IND");
 }
 
 double printed_resolution(std::string_view cell, char decimal_mark) {

@@ -31,7 +31,8 @@ bool contains(const std::string& s, std::string_view part) {
 std::string_view strip_quotes(std::string_view s) {
   s = trim_blanks(s);
   while (s.size() >= 1 && (s.front() == '"' || s.front() == '\'')) s = trim_blanks(s.substr(1));
-  while (s.size() >= 1 && (s.back() == '"' || s.back() == '\'')) s = trim_blanks(s.substr(0, s.size() - 1));
+  while (s.size() >= 1 && (s.back() == '"' || s.back() == '\''))
+    s = trim_blanks(s.substr(0, s.size() - 1));
   return s;
 }
 
@@ -48,11 +49,24 @@ bool is_interval_key(const std::string& k) {
   for (auto c : kContains) {
     if (contains(k, c)) return true;
   }
-  static constexpr std::array<std::string_view, 18> kEquals{
-      "increment",     "interval",          "xinc",          "dt",
-      "deltat",        "timestep",          "resolution",    "timeresolution",
-      "timebase",      "horizontalincrement", "hincrement",  "resolutionhorizontal",
-      "horizontalresolution", "sampletime", "hresolution", "dx", "xresolution", "deltax"};
+  static constexpr std::array<std::string_view, 18> kEquals{"increment",
+                                                            "interval",
+                                                            "xinc",
+                                                            "dt",
+                                                            "deltat",
+                                                            "timestep",
+                                                            "resolution",
+                                                            "timeresolution",
+                                                            "timebase",
+                                                            "horizontalincrement",
+                                                            "hincrement",
+                                                            "resolutionhorizontal",
+                                                            "horizontalresolution",
+                                                            "sampletime",
+                                                            "hresolution",
+                                                            "dx",
+                                                            "xresolution",
+                                                            "deltax"};
   for (auto e : kEquals) {
     if (k == e) return true;
   }
@@ -69,9 +83,9 @@ bool is_interval_key(const std::string& k) {
 }
 
 bool is_rate_key(const std::string& k) {
-  static constexpr std::array<std::string_view, 6> kContains{
-      "samplerate", "samplingrate", "samplingfrequency", "samplefrequency", "samplespersecond",
-      "samplingspeed"};
+  static constexpr std::array<std::string_view, 6> kContains{"samplerate",        "samplingrate",
+                                                             "samplingfrequency", "samplefrequency",
+                                                             "samplespersecond",  "samplingspeed"};
   for (auto c : kContains) {
     if (contains(k, c)) return true;
   }
@@ -95,15 +109,24 @@ std::optional<double> rate_factor(std::string_view unit) {
     std::string_view text;
     double factor;
   };
-  static constexpr std::array<R, 19> kRates{{{"", 1.0},         {"hz", 1.0},
-                                             {"khz", 1e3},      {"mhz", 1e6},
-                                             {"ghz", 1e9},      {"s/s", 1.0},
-                                             {"sa/s", 1.0},     {"ks/s", 1e3},
-                                             {"ksa/s", 1e3},    {"ms/s", 1e6},
-                                             {"msa/s", 1e6},    {"gs/s", 1e9},
-                                             {"gsa/s", 1e9},    {"samples/s", 1.0},
-                                             {"sps", 1.0},      {"ksps", 1e3},
-                                             {"msps", 1e6},     {"gsps", 1e9},
+  static constexpr std::array<R, 19> kRates{{{"", 1.0},
+                                             {"hz", 1.0},
+                                             {"khz", 1e3},
+                                             {"mhz", 1e6},
+                                             {"ghz", 1e9},
+                                             {"s/s", 1.0},
+                                             {"sa/s", 1.0},
+                                             {"ks/s", 1e3},
+                                             {"ksa/s", 1e3},
+                                             {"ms/s", 1e6},
+                                             {"msa/s", 1e6},
+                                             {"gs/s", 1e9},
+                                             {"gsa/s", 1e9},
+                                             {"samples/s", 1.0},
+                                             {"sps", 1.0},
+                                             {"ksps", 1e3},
+                                             {"msps", 1e6},
+                                             {"gsps", 1e9},
                                              {"samples/sec", 1.0}}};
   for (const R& r : kRates) {
     if (u == r.text) return r.factor;
@@ -126,9 +149,12 @@ std::string to_utf8(std::string_view text) {
     }
     // Length of a well-formed UTF-8 sequence (RFC 3629, section 4), checked byte by byte.
     std::size_t len = 0;
-    if (c >= 0xC2 && c <= 0xDF) len = 2;
-    else if (c >= 0xE0 && c <= 0xEF) len = 3;
-    else if (c >= 0xF0 && c <= 0xF4) len = 4;
+    if (c >= 0xC2 && c <= 0xDF)
+      len = 2;
+    else if (c >= 0xE0 && c <= 0xEF)
+      len = 3;
+    else if (c >= 0xF0 && c <= 0xF4)
+      len = 4;
     bool ok = len > 0 && i + len <= text.size();
     for (std::size_t j = 1; ok && j < len; ++j) {
       ok = (static_cast<unsigned char>(text[i + j]) & 0xC0) == 0x80;
@@ -161,10 +187,11 @@ std::optional<std::pair<std::string, std::string>> split_key_value(std::string_v
   if (only_delimiters) return std::nullopt;
   const auto sep = line.find_first_of(",;\t:=");
   std::string_view key = line.substr(0, sep == std::string_view::npos ? line.size() : sep);
-  std::string_view value = sep == std::string_view::npos ? std::string_view{} : line.substr(sep + 1);
+  std::string_view value =
+      sep == std::string_view::npos ? std::string_view{} : line.substr(sep + 1);
   // Padding and repeated separators between key and value ("Interval :\t 4e-8").
-  while (!value.empty() && (is_delimiter(value.front()) || value.front() == ':' ||
-                            value.front() == '=')) {
+  while (!value.empty() &&
+         (is_delimiter(value.front()) || value.front() == ':' || value.front() == '=')) {
     value.remove_prefix(1);
   }
   while (!value.empty() && is_delimiter(value.back())) value.remove_suffix(1);

@@ -98,7 +98,8 @@ class LineReader {
     for (;;) {
       const char* begin = buffer_.data() + pos_;
       const char* end = buffer_.data() + buffer_.size();
-      const void* nl = std::memchr(begin, cr_mode_ ? '\r' : '\n', static_cast<std::size_t>(end - begin));
+      const void* nl =
+          std::memchr(begin, cr_mode_ ? '\r' : '\n', static_cast<std::size_t>(end - begin));
       if (nl != nullptr || (eof_ && begin != end)) {
         const char* stop = nl ? static_cast<const char*>(nl) : end;
         std::size_t len = static_cast<std::size_t>(stop - begin);
@@ -431,7 +432,8 @@ std::vector<std::string_view> header_cells(std::string_view line, const Dialect&
     if (unit && !joined.empty()) {
       // Views into `line`: extend the previous one over the blanks to this cell's end.
       const char* start = joined.back().data();
-      joined.back() = std::string_view(start, static_cast<std::size_t>(cell.data() + cell.size() - start));
+      joined.back() =
+          std::string_view(start, static_cast<std::size_t>(cell.data() + cell.size() - start));
     } else {
       joined.push_back(cell);
     }
@@ -468,9 +470,9 @@ std::vector<std::string> split_list(std::string_view value) {
 // Names a time column goes by (several languages; "x-axis" as plotting exports write it).
 bool is_time_name(const std::string& n) {
   static constexpr std::array<std::string_view, 19> kNames{
-      "time", "t",     "zeit",      "temps",   "tiempo", "tempo",   "tijd",   "czas",
-      "x-axis", "x axis", "timestamp", "seconds", "sec",    "time axis", "horizontal", "xaxis",
-      "x_value", "x value", "second"};
+      "time",       "t",      "zeit",    "temps",     "tiempo",  "tempo", "tijd",
+      "czas",       "x-axis", "x axis",  "timestamp", "seconds", "sec",   "time axis",
+      "horizontal", "xaxis",  "x_value", "x value",   "second"};
   for (auto k : kNames) {
     if (n == k) return true;
   }
@@ -481,8 +483,8 @@ bool is_time_name(const std::string& n) {
 // Names of a sample-index column.
 bool is_index_name(const std::string& n) {
   static constexpr std::array<std::string_view, 17> kNames{
-      "",       "index", "idx",    "x",     "no",       "no.",   "nr",     "n",     "#",
-      "sample", "samples", "point", "points", "sequence", "seq",  "number", "pt"};
+      "",       "index",   "idx",   "x",      "no",       "no.", "nr",     "n", "#",
+      "sample", "samples", "point", "points", "sequence", "seq", "number", "pt"};
   for (auto k : kNames) {
     if (n == k) return true;
   }
@@ -636,7 +638,8 @@ class TextReader final : public SampleSource {
     split_cells(window[at].text, d.delimiter, cells_, scratch_);
     const std::size_t columns = cells_.size();
     std::vector<bool> is_data(columns);
-    for (std::size_t i = 0; i < columns; ++i) is_data[i] = !trim(cells_[i]).empty() && !date_cell(cells_[i]);
+    for (std::size_t i = 0; i < columns; ++i)
+      is_data[i] = !trim(cells_[i]).empty() && !date_cell(cells_[i]);
     // A names row right above, one name per cell, makes the row the data's first: a malformed
     // row soon after it is then reported at its own line. Without one, three in four of the
     // next rows must share the shape (a stray bad row does not move the data's start).
@@ -694,8 +697,8 @@ class TextReader final : public SampleSource {
       std::string_view line;
       if (lines_.next(line)) {
         if (!is_blank(line)) {
-          window.push_back({lines_.line_number(), std::string(line), is_comment(line),
-                            lines_.unterminated()});
+          window.push_back(
+              {lines_.line_number(), std::string(line), is_comment(line), lines_.unterminated()});
           if (window.size() > kWindowLines && search > 0) {
             retire(window.front());
             window.pop_front();
@@ -911,7 +914,8 @@ class TextReader final : public SampleSource {
       // Names beyond the data's columns without units name columns the rows leave empty (a
       // "Comment" column): noted; with units they promise data that is missing: an error.
       bool extra_with_units = false;
-      for (const auto& e : extra1) extra_with_units = extra_with_units || !split_name_unit(e).unit_text.empty();
+      for (const auto& e : extra1)
+        extra_with_units = extra_with_units || !split_name_unit(e).unit_text.empty();
       if (!extra1.empty() && !extra_with_units) {
         std::string names;
         for (const auto& e : extra1) names += (names.empty() ? "'" : ", '") + to_utf8(e) + "'";
@@ -1032,7 +1036,8 @@ class TextReader final : public SampleSource {
   // questions (index column, headerless time, integer codes) and the interval can be settled.
   void lookahead(const std::deque<WindowLine>& window) {
     const std::size_t d = data_index_.size();
-    const std::size_t max_rows = std::min(kLookaheadRows, std::max<std::size_t>(16, kLookaheadValues / d));
+    const std::size_t max_rows =
+        std::min(kLookaheadRows, std::max<std::size_t>(16, kLookaheadValues / d));
     fraction_seen_.assign(columns_, false);
     auto take = [&](std::string_view text, std::uint64_t line_no, bool unterminated) {
       if (unterminated && cut_short(text, line_no)) return;
@@ -1154,7 +1159,8 @@ class TextReader final : public SampleSource {
     for (std::size_t r = 0; r < n; ++r) {
       const double v = look_values_[r * d + k];
       if (v != std::floor(v)) return false;
-      if (r > 0 && v - look_values_[(r - 1) * d + k] != static_cast<double>(look_k_[r] - look_k_[r - 1]))
+      if (r > 0 &&
+          v - look_values_[(r - 1) * d + k] != static_cast<double>(look_k_[r] - look_k_[r - 1]))
         return false;
     }
     return true;
@@ -1202,8 +1208,8 @@ class TextReader final : public SampleSource {
     for (std::size_t k = 0; k < d; ++k) {
       const std::size_t col = data_index_[k];
       if (static_cast<int>(col) == time_column_ || !column_unit_[col].empty()) continue;
-      const bool named_as_index = is_index_name(lower(column_name_[col])) ||
-                                  is_index_name(lower(column_unit_text_[col]));
+      const bool named_as_index =
+          is_index_name(lower(column_name_[col])) || is_index_name(lower(column_unit_text_[col]));
       if ((k == 0 || named_as_index) && d > 1 && counts_up_by_one(k)) {
         index_column_ = static_cast<int>(col);
         index_k_ = k;
@@ -1222,10 +1228,12 @@ class TextReader final : public SampleSource {
         const bool unnamed = !h.found || name == "x";
         // Where the file states an interval, the column must step by it (within 1 %): a
         // rising signal is not a time axis.
-        const double step = others >= 1 && unnamed && !column_unit_stated_[col] ? rises_evenly(k, qk) : 0.0;
+        const double step =
+            others >= 1 && unnamed && !column_unit_stated_[col] ? rises_evenly(k, qk) : 0.0;
         const StatedTimeBase stated = stated_time_base(info_.metadata, dialect_.decimal);
-        const bool agrees = !stated.interval_s ||
-                            std::fabs(step * horizontal_factor() / *stated.interval_s - 1.0) <= 0.01;
+        const bool agrees =
+            !stated.interval_s ||
+            std::fabs(step * horizontal_factor() / *stated.interval_s - 1.0) <= 0.01;
         if (step > 0 && agrees) {
           time_column_ = static_cast<int>(col);
           warnings_.push_back("column " + std::to_string(col + 1) +
@@ -1248,10 +1256,10 @@ class TextReader final : public SampleSource {
         }
         column_unit_[tc] = "s";
       }
-      time_k_ = static_cast<std::size_t>(
-          std::find(data_index_.begin(), data_index_.end(), tc) - data_index_.begin());
-      time_qk_ = static_cast<std::size_t>(
-          std::find(q_columns_.begin(), q_columns_.end(), tc) - q_columns_.begin());
+      time_k_ = static_cast<std::size_t>(std::find(data_index_.begin(), data_index_.end(), tc) -
+                                         data_index_.begin());
+      time_qk_ = static_cast<std::size_t>(std::find(q_columns_.begin(), q_columns_.end(), tc) -
+                                          q_columns_.begin());
     }
 
     // Units the preamble states for channels whose header gives none: one for all
@@ -1273,8 +1281,7 @@ class TextReader final : public SampleSource {
     std::vector<ChannelInfo> channels;
     for (std::size_t k = 0; k < d; ++k) {
       const std::size_t col = data_index_[k];
-      if (static_cast<int>(col) == time_column_ || static_cast<int>(col) == index_column_)
-        continue;
+      if (static_cast<int>(col) == time_column_ || static_cast<int>(col) == index_column_) continue;
       ChannelInfo c;
       c.index = channels.size() + 1;
       c.name = column_name_[col].empty() ? "ch" + std::to_string(c.index) : column_name_[col];
@@ -1303,9 +1310,12 @@ class TextReader final : public SampleSource {
       gains_[c] = column_factor_[col];
       if (column_unit_stated_[col] || stated_units.empty()) continue;
       std::string text;
-      if (stated_units.size() == 1) text = stated_units[0];
-      else if (stated_units.size() >= channels.size()) text = stated_units[c];
-      else if (unit_keys == 1) text = stated_units[0];
+      if (stated_units.size() == 1)
+        text = stated_units[0];
+      else if (stated_units.size() >= channels.size())
+        text = stated_units[c];
+      else if (unit_keys == 1)
+        text = stated_units[0];
       if (text.empty()) continue;
       // Integers alone under a stated vertical unit are the digitiser's codes, not volts: a
       // scope that writes them leaves the scaling (codes per division) to its own software.
@@ -1313,7 +1323,9 @@ class TextReader final : public SampleSource {
         channels[c].unit_text = "counts";
         warnings_.push_back("channel " + std::to_string(c + 1) + " '" + channels[c].name +
                             "' holds whole numbers only: taken as raw digitiser codes (counts), "
-                            "not '" + text + "' as the preamble says; give --gain and --unit to "
+                            "not '" +
+                            text +
+                            "' as the preamble says; give --gain and --unit to "
                             "scale it");
         continue;
       }
@@ -1399,7 +1411,8 @@ class TextReader final : public SampleSource {
     if (!(info_.sample_rate_hz > 0) || !std::isfinite(info_.sample_rate_hz)) {
       throw InputError(path_, "the sample rate must be a positive number of hertz");
     }
-    if (index_column_ >= 0) index_origin_ = look_values_[index_k_] - static_cast<double>(look_k_[0]);
+    if (index_column_ >= 0)
+      index_origin_ = look_values_[index_k_] - static_cast<double>(look_k_[0]);
     // The look-ahead's channels, scaled, become the first blocks.
     pending_.reserve(look_lines_.size() * channel_k_.size());
     for (std::size_t r = 0; r < look_lines_.size(); ++r) {
@@ -1438,7 +1451,8 @@ class TextReader final : public SampleSource {
     d += h.found ? ", header at line " + std::to_string(h.line) : ", no header row";
     if (!h.units.empty()) d += " with a units row";
     d += ", data from line " + std::to_string(first_data_line_);
-    const auto margin = static_cast<std::size_t>(std::count(is_data_.begin(), is_data_.end(), false));
+    const auto margin =
+        static_cast<std::size_t>(std::count(is_data_.begin(), is_data_.end(), false));
     if (margin > 0) d += ", " + std::to_string(margin) + " margin column(s) not read as data";
     if (time_column_ >= 0) {
       const auto tc = static_cast<std::size_t>(time_column_);
@@ -1458,8 +1472,9 @@ class TextReader final : public SampleSource {
         names += (c ? ", " : "") + info_.channels[c].name;
       if (info_.channels.size() > 4) names += ", …";
       warnings_.push_back("no header row: channels named " + names +
-                          (info_.channels[0].unit.empty() ? ", without units (give --unit CH=A / --unit CH=V)"
-                                                          : ""));
+                          (info_.channels[0].unit.empty()
+                               ? ", without units (give --unit CH=A / --unit CH=V)"
+                               : ""));
     }
   }
 
@@ -1492,12 +1507,11 @@ class TextReader final : public SampleSource {
       if (!v) return bad_cell(line_no, static_cast<std::size_t>(index_column_), cell);
       const double expected = index_origin_ + static_cast<double>(row_index_);
       if (*v != expected) {
-        throw InputError(path_, InputLocation::at_line(line_no),
-                         "the sample index is " + format_g(*v, 15) + " where " +
-                             format_g(expected, 15) +
-                             " was expected; expected an index rising by one per row (" +
-                             (*v > expected ? "samples are missing" : "it repeats or steps back") +
-                             ")");
+        throw InputError(
+            path_, InputLocation::at_line(line_no),
+            "the sample index is " + format_g(*v, 15) + " where " + format_g(expected, 15) +
+                " was expected; expected an index rising by one per row (" +
+                (*v > expected ? "samples are missing" : "it repeats or steps back") + ")");
       }
     }
     if (time_column_ >= 0) {
@@ -1768,7 +1782,8 @@ class TextReader final : public SampleSource {
     if (metadata_dropped_ > 0) {
       warnings_.push_back(std::to_string(metadata_dropped_) +
                           " preamble key/value(s) not kept in the metadata (more than " +
-                          std::to_string(kMaxMetadata) + " or 4 MiB); the time base and units "
+                          std::to_string(kMaxMetadata) +
+                          " or 4 MiB); the time base and units "
                           "were still read from every line");
     }
   }

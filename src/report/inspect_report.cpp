@@ -175,8 +175,9 @@ void write_inspect_json(std::ostream& out, const InspectResult& result) {
     c["index"] = ch.index;
     c["name"] = ch.name;
     // The SI unit the values are in, else the unit as the file states it ("a.u.", "counts").
-    c["unit"] = !ch.unit.empty() ? json(ch.unit) : !ch.unit_text.empty() ? json(ch.unit_text)
-                                                                        : json(nullptr);
+    c["unit"] = !ch.unit.empty()        ? json(ch.unit)
+                : !ch.unit_text.empty() ? json(ch.unit_text)
+                                        : json(nullptr);
     c["unit_is_si"] = !ch.unit.empty();
     c["role"] = to_string(ch.role);
     const bool have = i < result.channels.size() && result.channels[i].count > 0;

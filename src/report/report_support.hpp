@@ -43,7 +43,8 @@ inline json metadata_json(const std::vector<std::pair<std::string, std::string>>
   json j = json::object();
   for (const auto& [key, value] : pairs) {
     std::string k = key.empty() ? std::string("(untitled)") : key;
-    for (int n = 2; j.contains(k); ++n) k = (key.empty() ? "(untitled)" : key) + " #" + std::to_string(n);
+    for (int n = 2; j.contains(k); ++n)
+      k = (key.empty() ? "(untitled)" : key) + " #" + std::to_string(n);
     j[k] = value;
   }
   return j;
