@@ -496,4 +496,27 @@ TEST_F(Cli, CurrentWithoutAUnitIsTakenAsAmperesAndSaid) {
   EXPECT_TRUE(said) << j["warnings"].dump();
 }
 
+// A serial number in the preamble travels with every JSON result (issue 8, item 2).
+TEST_F(Cli, PreambleKeyValuesTravelInTheJson) {
+  std::string text =
+      "Serial Number;BT-32K-0042\nProbe;100 mV/A\nSample Interval;1e-05\n"
+      "\xB5 note;latin-1\ncurrent (A)\n";
+  char row[48];
+  for (int k = 0; k < 5000; ++k) {
+    std::snprintf(row, sizeof row, "%.12f\n",
+                  0.01 + 0.2 * std::sin(2 * 3.14159265358979323846 * k / 100.0));
+    text += row;
+  }
+  const fs::path p = file("serial.csv", text);
+  const json m = run_json({"measure", p.string(), "--json", "-"});
+  EXPECT_EQ(m["input"]["metadata"]["Serial Number"], "BT-32K-0042") << m["input"].dump();
+  EXPECT_EQ(m["input"]["metadata"]["Probe"], "100 mV/A");
+  EXPECT_EQ(m["input"]["metadata"]["\xC2\xB5 note"], "latin-1");  // Latin-1 µ re-encoded
+  EXPECT_NEAR(m["input"]["sample_rate_hz"].get<double>(), 1e5, 1e-6);
+  const json i = run_json({"inspect", p.string(), "--json", "-"});
+  EXPECT_EQ(i["metadata"]["Serial Number"], "BT-32K-0042");
+  const json w = run_json({"swap", p.string(), p.string(), "--json", "-"});
+  EXPECT_EQ(w["normal"]["metadata"]["Serial Number"], "BT-32K-0042");
+}
+
 }  // namespace

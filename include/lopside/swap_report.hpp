@@ -5,6 +5,7 @@
 
 #include <iosfwd>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "lopside/cycle_engine.hpp"
@@ -20,6 +21,8 @@ struct SwapCaptureReport {
   std::string path;
   CycleSummary summary;               ///< measured with the probe tolerances set to 0
   std::vector<std::string> warnings;  ///< the reader's and the cycle engine's
+  /// The capture's key/values (preamble, comments), so a serial number travels with the result.
+  std::vector<std::pair<std::string, std::string>> metadata;
 };
 
 struct SwapReport {

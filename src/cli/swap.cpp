@@ -30,6 +30,7 @@ SwapCapture measure_one(const AnalysisOptions& shared, const std::string& path,
   report.path = path;
   report.summary = m.summary;
   report.warnings = m.warnings;
+  report.metadata = m.info.metadata;
   SwapCapture c;
   c.summary = m.summary;
   c.dc_type_a = statistical_part(m.summary.dc_offset_a);

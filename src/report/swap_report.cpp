@@ -184,6 +184,7 @@ void write_swap_json(std::ostream& out, const SwapReport& rep) {
     j["cycle_count"] = c.summary.cycles;
     j["clipped_cycles"] =
         json{{"positive", c.summary.clipped_positive}, {"negative", c.summary.clipped_negative}};
+    j["metadata"] = report_detail::metadata_json(c.metadata);
     return j;
   };
   doc["normal"] = capture(rep.normal, r.normal_dc_a, r.normal_asymmetry);
