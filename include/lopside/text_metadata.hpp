@@ -47,6 +47,10 @@ const char* accepted_time_base_wordings();
 /// True if `key` states the vertical unit ("Vertical Units", "VUnit", "Y Unit", "Units").
 bool is_vertical_unit_key(std::string_view key);
 
+/// The channel number a per-channel unit key names ("CH2 Units", "Channel 1 Unit",
+/// "CH1 vertical unit" → 2, 1, 1), or nullopt.
+std::optional<std::size_t> channel_unit_key(std::string_view key);
+
 /// True if `key` states the unit of the time axis ("Horizontal Units", "HUnit", "X Unit").
 bool is_horizontal_unit_key(std::string_view key);
 

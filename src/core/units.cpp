@@ -91,6 +91,15 @@ std::optional<UnitScale> parse_unit(std::string_view text) {
       if (p.text == prefix) return UnitScale{std::string(base), p.factor};
     }
   }
+  // Abbreviated time words of older exports: "msec", "usec", "nsec".
+  for (const auto& [word, factor] :
+       std::array<std::pair<std::string_view, double>, 5>{{{"msec", 1e-3},
+                                                           {"usec", 1e-6},
+                                                           {"\xC2\xB5sec", 1e-6},
+                                                           {"nsec", 1e-9},
+                                                           {"psec", 1e-12}}}) {
+    if (lower_ascii(text) == word) return UnitScale{"s", factor};
+  }
   return parse_unit_word(text);
 }
 

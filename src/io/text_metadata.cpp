@@ -8,6 +8,7 @@
 #include <cctype>
 #include <cmath>
 #include <cstdint>
+#include <cstring>
 
 #include "lopside/number_parse.hpp"
 #include "lopside/units.hpp"
@@ -185,7 +186,20 @@ std::optional<std::pair<std::string, std::string>> split_key_value(std::string_v
   bool only_delimiters = true;
   for (const char c : line) only_delimiters = only_delimiters && (is_delimiter(c) || c == '"');
   if (only_delimiters) return std::nullopt;
-  const auto sep = line.find_first_of(",;\t:=");
+  auto sep = line.find_first_of(",;\t:=");
+  if (sep == std::string_view::npos) {
+    // "Sample Interval 1e-6": words, then a number at the first blank before a digit or sign.
+    for (std::size_t i = 1; i + 1 < line.size(); ++i) {
+      const char next = line[i + 1];
+      if (line[i] == ' ' &&
+          (std::isdigit(static_cast<unsigned char>(next)) || next == '-' || next == '+' ||
+           next == '.') &&
+          std::isalpha(static_cast<unsigned char>(line[0]))) {
+        sep = i;
+        break;
+      }
+    }
+  }
   std::string_view key = line.substr(0, sep == std::string_view::npos ? line.size() : sep);
   std::string_view value =
       sep == std::string_view::npos ? std::string_view{} : line.substr(sep + 1);
@@ -260,7 +274,13 @@ StatedTimeBase stated_time_base(const std::vector<std::pair<std::string, std::st
     const bool rate = !interval && is_rate_key(k);
     const bool start = !interval && !rate && is_start_key(k);
     if (!interval && !rate && !start) continue;
-    const auto q = parse_quantity(value, decimal);
+    // "Sample Interval,1e-6,1e-6" states one value per channel: the first is taken.
+    auto q = parse_quantity(value, decimal);
+    const auto list_at = value.find_first_of(",;\t");
+    if (q && !q->unit.empty() && list_at != std::string::npos && !parse_time_unit(q->unit) &&
+        !rate_factor(q->unit)) {
+      q = parse_quantity(value.substr(0, list_at), decimal);
+    }
     if (!q || !std::isfinite(q->value)) continue;
     if (start && !out.start_s) {
       double factor = 1.0;
@@ -306,6 +326,27 @@ bool is_vertical_unit_key(std::string_view key) {
   const std::string k = normalised_key(key);
   return k == "verticalunits" || k == "verticalunit" || k == "vunit" || k == "vunits" ||
          k == "yunit" || k == "yunits" || k == "units" || k == "unit" || k == "verticalunitstring";
+}
+
+std::optional<std::size_t> channel_unit_key(std::string_view key) {
+  const std::string k = normalised_key(key);
+  std::size_t i = 0;
+  for (std::string_view p : {"channel", "ch", "c"}) {
+    if (k.rfind(p, 0) == 0) {
+      i = p.size();
+      break;
+    }
+  }
+  const std::size_t digits_at = i;
+  std::size_t n = 0;
+  while (i < k.size() && k[i] >= '0' && k[i] <= '9')
+    n = n * 10 + static_cast<std::size_t>(k[i++] - '0');
+  if (i == digits_at || n == 0) return std::nullopt;
+  const std::string rest = k.substr(i);
+  if (rest == "units" || rest == "unit" || rest == "verticalunit" || rest == "verticalunits" ||
+      rest == "vunit" || rest == "yunit" || rest == "yunits")
+    return n;
+  return std::nullopt;
 }
 
 bool is_horizontal_unit_key(std::string_view key) {

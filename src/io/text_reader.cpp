@@ -22,6 +22,7 @@
 // preamble lines, never by the file's size.
 #include <algorithm>
 #include <array>
+#include <cctype>
 #include <cmath>
 #include <cstdio>
 #include <cstring>
@@ -54,6 +55,9 @@ constexpr std::size_t kWindowLines = 4096;
 // Lines after a candidate first data row that must share its shape.
 constexpr std::size_t kConfirmLines = 8;
 constexpr std::size_t kMaxMetadata = 65536;
+// Instruments write 9.9E37 (or 9.91E37, the IEEE 488.2 "not a number" value) for a sample
+// beyond their range; no current or voltage comes near it.
+constexpr double kOverflowMarker = 9.9e37;
 constexpr std::size_t kMaxMetadataBytes = std::size_t{4} << 20;
 constexpr std::size_t kChunkBytes = 1 << 20;
 constexpr std::size_t kMaxLineBytes = 1 << 20;
@@ -476,8 +480,12 @@ bool is_time_name(const std::string& n) {
   for (auto k : kNames) {
     if (n == k) return true;
   }
+  const auto ends_with = [&n](std::string_view tail) {
+    return n.size() > tail.size() && n.compare(n.size() - tail.size(), tail.size(), tail) == 0;
+  };
   return n.rfind("time ", 0) == 0 || n.rfind("time_", 0) == 0 || n.rfind("time[", 0) == 0 ||
-         n.rfind("time(", 0) == 0;
+         n.rfind("time(", 0) == 0 || ends_with(" time") || ends_with("_time") || n == "elapsed" ||
+         n == "uhrzeit" || n == "zeitstempel" || n == "heure" || n == "hora";
 }
 
 // Names of a sample-index column.
@@ -540,6 +548,7 @@ struct WindowLine {
   std::string text;
   bool comment = false;
   bool unterminated = false;
+  bool after_blank = false;  ///< a blank line stands right above it
 };
 
 class TextReader final : public SampleSource {
@@ -628,6 +637,27 @@ class TextReader final : public SampleSource {
     return true;
   }
 
+  bool keyed_margin_row(std::string_view text) {
+    split_cells(text, dialect_.delimiter, cells_, scratch_);
+    std::size_t filled = 0;
+    std::string key;
+    for (std::size_t i = 0; i < cells_.size() && i < columns_; ++i) {
+      if (is_data_[i] || trim(cells_[i]).empty()) continue;
+      ++filled;
+      key = std::string(trim(cells_[i]));
+    }
+    if (filled != 1) return false;
+    const std::string value(trim(cells_[data_index_first()]));
+    return keyed_fact(key + "," + value) || is_vertical_unit_key(key);
+  }
+
+  std::size_t data_index_first() const {
+    for (std::size_t i = 0; i < columns_; ++i) {
+      if (is_data_[i]) return i;
+    }
+    return 0;
+  }
+
   bool bare_delimiters(std::string_view text) {
     split_cells(text, dialect_.delimiter, cells_, scratch_);
     return cells_.empty();
@@ -693,12 +723,16 @@ class TextReader final : public SampleSource {
     std::deque<WindowLine> window;
     std::size_t search = 0;
     bool eof = false;
+    bool blank_seen = false;
     for (;;) {
       std::string_view line;
       if (lines_.next(line)) {
-        if (!is_blank(line)) {
-          window.push_back(
-              {lines_.line_number(), std::string(line), is_comment(line), lines_.unterminated()});
+        if (is_blank(line)) {
+          blank_seen = true;
+        } else {
+          window.push_back({lines_.line_number(), std::string(line), is_comment(line),
+                            lines_.unterminated(), blank_seen});
+          blank_seen = false;
           if (window.size() > kWindowLines && search > 0) {
             retire(window.front());
             window.pop_front();
@@ -840,6 +874,14 @@ class TextReader final : public SampleSource {
     return true;
   }
 
+  // "Points,300" or "Xinc: 2e-7" above one column: a key with a number, not a name.
+  bool numeric_key_value(std::string_view text) const {
+    if (columns_ != 1) return false;
+    const auto kv = split_key_value(text);
+    return kv && !kv->second.empty() && parse_quantity(kv->second, dialect_.decimal).has_value() &&
+           text.find_first_of(",;\t:=") != std::string_view::npos;
+  }
+
   // Names over a units row may be channel numbers ("x-axis,1,2"), never other numbers.
   bool plausible_names(const std::vector<std::string>& cells) const {
     for (std::size_t i = 0; i < cells.size(); ++i) {
@@ -869,9 +911,10 @@ class TextReader final : public SampleSource {
       if (data_at > 0 && window[data_at - 1].comment) {
         std::string_view t = trim(window[data_at - 1].text);
         while (!t.empty() && t.front() == '#') t = trim(t.substr(1));
-        std::vector<std::string> names = map_header(t, nullptr);
-        if (!names.empty() && !any_numeric_data_cell(names) && !keyed_fact(t) &&
-            names.size() == columns_) {
+        std::vector<std::string> extra;
+        std::vector<std::string> names = map_header(t, &extra);
+        if (!names.empty() && extra.empty() && !any_numeric_data_cell(names) && !keyed_fact(t) &&
+            t.find_first_of(":=") == std::string_view::npos) {
           h.names = std::move(names);
           h.top = data_at - 1;
           h.line = window[data_at - 1].no;
@@ -880,7 +923,7 @@ class TextReader final : public SampleSource {
       }
       return h;
     }
-    if (keyed_fact(window[h1].text)) return h;
+    if (keyed_fact(window[h1].text) || numeric_key_value(window[h1].text)) return h;
     std::vector<std::string> extra1, extra2;
     std::vector<std::string> first = map_header(window[h1].text, &extra1);
     const std::size_t h2 = first.empty() ? std::string::npos : line_above(window, h1);
@@ -957,8 +1000,11 @@ class TextReader final : public SampleSource {
     std::size_t data_at = 0;
     std::deque<WindowLine> window = find_data(data_at);
     // Rows above the candidate that share its layout are data too (margin rows).
-    while (data_at > 0 && !window[data_at - 1].comment &&
-           data_row(window[data_at - 1].text, dialect_, columns_, is_data_)) {
+    // A blank line ends them, and so does a row whose margin holds a key alone over numbers
+    // in the data columns ("HResolution,,1.0E-06,1.0E-06": a value per channel, not a sample).
+    while (data_at > 0 && !window[data_at].after_blank && !window[data_at - 1].comment &&
+           data_row(window[data_at - 1].text, dialect_, columns_, is_data_) &&
+           !keyed_margin_row(window[data_at - 1].text)) {
       --data_at;
     }
     first_data_line_ = window[data_at].no;
@@ -987,11 +1033,17 @@ class TextReader final : public SampleSource {
     column_unit_stated_.assign(columns_, false);
     for (std::size_t i = 0; i < columns_; ++i) {
       if (!is_data_[i] || !h.found) continue;
-      NameAndUnit nu = split_name_unit(h.names[i]);
+      // Latin-1 headers ("Time (\xB5s)") are re-encoded first, so µ is read as micro.
+      NameAndUnit nu = split_name_unit(to_utf8(h.names[i]));
       std::string unit_text = nu.unit_text;
       if (!h.units.empty() && !trim(h.units[i]).empty()) {
-        unit_text = std::string(trim(h.units[i]));
-        nu.name = std::string(trim(h.names[i]));
+        unit_text = to_utf8(trim(h.units[i]));
+        nu.name = to_utf8(trim(h.names[i]));
+      }
+      // A name that is a unit word alone ("Volts", "Amps") states that unit.
+      if (unit_text.empty() && nu.name.size() > 2 && parse_unit(nu.name) &&
+          parse_unit(nu.name)->si_unit != "s") {
+        unit_text = nu.name;
       }
       column_name_[i] = to_utf8(nu.name);
       if (unit_text.empty()) continue;
@@ -1027,7 +1079,7 @@ class TextReader final : public SampleSource {
     if (time_column_ >= 0) {
       q_columns_.push_back(static_cast<std::size_t>(time_column_));
     } else {
-      for (std::size_t k = 0; k < std::min<std::size_t>(2, data_index_.size()); ++k)
+      for (std::size_t k = 0; k < std::min<std::size_t>(3, data_index_.size()); ++k)
         q_columns_.push_back(data_index_[k]);
     }
   }
@@ -1039,8 +1091,10 @@ class TextReader final : public SampleSource {
     const std::size_t max_rows =
         std::min(kLookaheadRows, std::max<std::size_t>(16, kLookaheadValues / d));
     fraction_seen_.assign(columns_, false);
+    clock_seen_.assign(columns_, false);
     auto take = [&](std::string_view text, std::uint64_t line_no, bool unterminated) {
       if (unterminated && cut_short(text, line_no)) return;
+      current_text_ = text;
       split_cells(text, dialect_.delimiter, cells_, scratch_);
       if (cells_.size() != columns_) {
         bad_row(line_no, cell_count_message());
@@ -1051,18 +1105,21 @@ class TextReader final : public SampleSource {
       for (std::size_t k = 0; k < d; ++k) {
         const std::string_view cell = cells_[data_index_[k]];
         const auto v = parse_cell(cell, dialect_.decimal);
-        if (!v) {
+        if (!v || std::fabs(*v) >= kOverflowMarker) {
           look_values_.resize(base);
           bad_cell(line_no, data_index_[k], cell);
           return;
         }
         look_values_[base + k] = *v;
+        if (!clock_seen_[data_index_[k]] && cell.find(':') != std::string_view::npos)
+          clock_seen_[data_index_[k]] = true;
         if (!fraction_seen_[data_index_[k]] &&
             (cell.find(dialect_.decimal) != std::string_view::npos ||
              cell.find_first_of("eE") != std::string_view::npos)) {
           fraction_seen_[data_index_[k]] = true;
         }
       }
+      end_of_footer(line_no);
       for (const std::size_t c : q_columns_) {
         look_q_.push_back(printed_resolution(cells_[c], dialect_.decimal));
         if (cells_[c].find(':') != std::string_view::npos) clock_column_ = static_cast<int>(c);
@@ -1110,6 +1167,11 @@ class TextReader final : public SampleSource {
   }
 
   bool bad_cell(std::uint64_t line_no, std::size_t column, std::string_view cell) {
+    if (const auto v = parse_cell(cell, dialect_.decimal); v && std::fabs(*v) >= kOverflowMarker) {
+      return bad_row(line_no, "column " + std::to_string(column + 1) + ": '" + shorten(trim(cell)) +
+                                  "' is the overflow marker instruments write for a sample "
+                                  "beyond their range (about 9.9E+37), not a sample value");
+    }
     if (is_nan_or_inf_text(cell)) {
       return bad_row(line_no, "column " + std::to_string(column + 1) + ": '" + shorten(trim(cell)) +
                                   "' is not a finite number; expected a sample value");
@@ -1216,6 +1278,15 @@ class TextReader final : public SampleSource {
         break;
       }
     }
+    // A clock column is the time when nothing else is ("Uhrzeit", "Heure", unnamed).
+    if (time_column_ < 0) {
+      for (const std::size_t col : q_columns_) {
+        if (clock_seen_[col] && static_cast<int>(col) != index_column_) {
+          time_column_ = static_cast<int>(col);
+          break;
+        }
+      }
+    }
     // A time axis without a name: headerless files, or a first column called "x".
     if (time_column_ < 0 && !options_.rate_hz) {
       for (std::size_t qk = 0; qk < q_columns_.size(); ++qk) {
@@ -1268,7 +1339,12 @@ class TextReader final : public SampleSource {
     std::size_t unit_keys = 0;
     std::string source_name;
     std::vector<std::string> stated_names;  // "TraceName,CH1,CH2" in a headerless export
+    std::vector<std::pair<std::size_t, std::string>> numbered_units;  // "CH2 Units,A"
     for (const auto& [key, value] : info_.metadata) {
+      if (const auto n = channel_unit_key(key); n && !value.empty()) {
+        numbered_units.emplace_back(*n, std::string(trim(value)));
+        continue;
+      }
       if (is_vertical_unit_key(key) && !value.empty()) {
         ++unit_keys;
         for (auto& t : split_list(value)) stated_units.push_back(std::move(t));
@@ -1282,6 +1358,12 @@ class TextReader final : public SampleSource {
     for (std::size_t k = 0; k < d; ++k) {
       const std::size_t col = data_index_[k];
       if (static_cast<int>(col) == time_column_ || static_cast<int>(col) == index_column_) continue;
+      if (clock_seen_[col]) {
+        warnings_.push_back("column " + std::to_string(col + 1) + " '" + column_name_[col] +
+                            "' holds clock times: not a channel (the time column is " +
+                            std::to_string(time_column_ + 1) + ")");
+        continue;
+      }
       ChannelInfo c;
       c.index = channels.size() + 1;
       c.name = column_name_[col].empty() ? "ch" + std::to_string(c.index) : column_name_[col];
@@ -1308,14 +1390,17 @@ class TextReader final : public SampleSource {
     for (std::size_t c = 0; c < channels.size(); ++c) {
       const std::size_t col = channel_column_[c];
       gains_[c] = column_factor_[col];
-      if (column_unit_stated_[col] || stated_units.empty()) continue;
+      if (column_unit_stated_[col] || (stated_units.empty() && numbered_units.empty())) continue;
       std::string text;
       if (stated_units.size() == 1)
         text = stated_units[0];
       else if (stated_units.size() >= channels.size())
         text = stated_units[c];
-      else if (unit_keys == 1)
+      else if (unit_keys == 1 && !stated_units.empty())
         text = stated_units[0];
+      for (const auto& [n, unit] : numbered_units) {
+        if (n == c + 1) text = unit;
+      }
       if (text.empty()) continue;
       // Integers alone under a stated vertical unit are the digitiser's codes, not volts: a
       // scope that writes them leaves the scaling (codes per division) to its own software.
@@ -1493,12 +1578,14 @@ class TextReader final : public SampleSource {
   // Parses one data line; false if it was malformed and skipped (--skip-bad-rows) or cut.
   bool parse_row(std::string_view line, std::uint64_t line_no, double* out, bool unterminated) {
     if (unterminated && cut_short(line, line_no)) return false;
+    current_text_ = line;
     split_cells(line, dialect_.delimiter, cells_, scratch_);
     if (cells_.size() != columns_) return bad_row(line_no, cell_count_message());
     for (std::size_t c = 0; c < channel_column_.size(); ++c) {
       const std::string_view cell = cells_[channel_column_[c]];
       const auto v = parse_cell(cell, dialect_.decimal);
-      if (!v) return bad_cell(line_no, channel_column_[c], cell);
+      if (!v || std::fabs(*v) >= kOverflowMarker)
+        return bad_cell(line_no, channel_column_[c], cell);
       out[c] = *v * gains_[c];
     }
     if (index_column_ >= 0) {
@@ -1521,13 +1608,45 @@ class TextReader final : public SampleSource {
       track_time(*v * column_factor_[tc],
                  printed_resolution(cells_[tc], dialect_.decimal) * column_factor_[tc], line_no);
     }
+    end_of_footer(line_no);
     last_row_line_.assign(line);
     ++rows_;
     ++row_index_;
     return true;
   }
 
+  // Lines of text after the data ("End of data", "Mean,0.001"): a footer, left out and said,
+  // as long as no row of data follows; a row of data after one makes it an error at its line.
+  bool looks_like_footer(std::string_view text) const {
+    std::size_t i = 0;
+    while (i < text.size() && std::strchr(" \t,;\"", text[i]) != nullptr) ++i;
+    if (i >= text.size() || !std::isalpha(static_cast<unsigned char>(text[i]))) return false;
+    split_cells(text, dialect_.delimiter, footer_cells_, footer_scratch_);
+    return footer_cells_.empty() || !is_nan_or_inf_text(footer_cells_.front());
+  }
+
+  void end_of_footer(std::uint64_t line_no) const {
+    if (!footer_active_) return;
+    throw InputError(path_, InputLocation::at_line(footer_line_),
+                     footer_what_ +
+                         " (a line of text between rows of data, which continue at "
+                         "line " +
+                         std::to_string(line_no) + ")");
+  }
+
   bool bad_row(std::uint64_t line_no, const std::string& what) {
+    if (footer_active_ || (!options_.skip_bad_rows && looks_like_footer(current_text_))) {
+      if (!footer_active_) {
+        footer_active_ = true;
+        footer_line_ = line_no;
+        footer_what_ = what;
+        footer_text_ = shorten(trim(current_text_));
+      }
+      ++footer_lines_;
+      if (auto kv = split_key_value(current_text_))
+        keep_metadata(std::move(kv->first), std::move(kv->second));
+      return false;
+    }
     if (!options_.skip_bad_rows) throw InputError(path_, InputLocation::at_line(line_no), what);
     if (skipped_ == 0) {
       first_skipped_line_ = line_no;
@@ -1779,6 +1898,12 @@ class TextReader final : public SampleSource {
                           format_g(max_jitter_s_ / dt_s_ * 100.0, 3) + " % of the sample interval");
     }
     for (auto& n : role_notes_) warnings_.push_back(n);
+    if (footer_active_) {
+      warnings_.push_back(std::to_string(footer_lines_) +
+                          " line(s) of text after the data, from line " +
+                          std::to_string(footer_line_) + " ('" + footer_text_ +
+                          "'), are not samples: left out (their key/values are in the metadata)");
+    }
     if (metadata_dropped_ > 0) {
       warnings_.push_back(std::to_string(metadata_dropped_) +
                           " preamble key/value(s) not kept in the metadata (more than " +
@@ -1815,6 +1940,7 @@ class TextReader final : public SampleSource {
   std::vector<double> column_factor_;
   std::vector<bool> column_unit_stated_;
   std::vector<bool> fraction_seen_;
+  std::vector<bool> clock_seen_;  // printed as hh:mm:ss: a clock, never a measured channel
   std::uint64_t first_data_line_ = 0;
   int time_column_ = -1;
   int index_column_ = -1;
@@ -1832,6 +1958,12 @@ class TextReader final : public SampleSource {
   std::vector<std::uint64_t> look_lines_;
   std::vector<std::uint64_t> look_k_;
   std::string last_row_line_;
+  std::string_view current_text_;  // the line being parsed, for the footer rule
+  bool footer_active_ = false;
+  std::uint64_t footer_line_ = 0, footer_lines_ = 0;
+  std::string footer_what_, footer_text_;
+  mutable std::vector<std::string_view> footer_cells_;
+  mutable std::string footer_scratch_;
   // rows
   std::vector<std::string_view> cells_;
   std::string scratch_;
