@@ -845,5 +845,123 @@ TEST(TextLayout, BlankSeparatedNamesWithBlanks) {
   EXPECT_EQ(w.info.channels[1].name, "Lamp voltage");
 }
 
+// --- cases found by an adversarial review of the reader ---------------------------------
+
+// A key with one value per channel ("Sample Interval,1e-6,1e-6", tab too) states the interval.
+TEST(TextLayout, KeyWithOneValuePerChannel) {
+  for (const std::string sep : {",", "\t", ";"}) {
+    const std::string text =
+        "Sample Interval" + sep + "1e-6" + sep + "1e-6\n\nCH1,CH2\n" + rows(8, 2, 0);
+    const Read r = read_all(text);
+    EXPECT_NEAR(r.info.sample_rate_hz, 1e6, 1e6 * kRel) << "separator '" << sep << "'";
+    EXPECT_EQ(r.info.frames.value_or(0), 8u);
+  }
+}
+
+// Per-channel key rows above the data share its shape (empty margin cell, numbers under the
+// channels); a blank line and the key alone in the margin tell them from data.
+TEST(TextLayout, PerChannelKeyRowsAreNotData) {
+  const std::string text =
+      "Model,BT-REC8\nTraceName,,I1,U1\nVUnit,,A,V\n"
+      "HResolution,,1.0E-06,1.0E-06\nHOffset,,-1.5E-04,-1.5E-04\n\n" +
+      rows(10, 2, 0, ",", "\n", {"", ""});
+  const Read r = read_all(text);
+  EXPECT_EQ(r.info.frames.value_or(0), 10u);
+  EXPECT_NEAR(r.info.sample_rate_hz, 1e6, 1e6 * kRel);
+  EXPECT_NEAR(r.info.start_time_s, -1.5e-4, 1e-15);
+  ASSERT_EQ(r.info.channels.size(), 2u);
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  EXPECT_EQ(r.info.channels[1].unit, "V");
+  expect_values(r, {1, 1}, 10);
+}
+
+// A logger's clock column beside its relative-time column is neither the time nor a channel.
+TEST(TextLayout, ClockBesideARelativeTimeColumn) {
+  std::string text = "No.,Date,Time,Relative Time(s),CH1(V),CH2(A)\n";
+  for (std::size_t k = 0; k < 30; ++k) {
+    text += std::to_string(k + 1) +
+            ",2026/11/30,10:00:" + fmt("%06.3f", 0.01 * static_cast<double>(k)) + "," +
+            fmt("%.2f", 0.01 * static_cast<double>(k)) + "," + fmt("%.3f", printed_value(0, k)) +
+            "," + fmt("%.3f", printed_value(1, k)) + "\n";
+  }
+  const Read r = read_all(text);
+  EXPECT_NEAR(r.info.sample_rate_hz, 100.0, 100.0 * 1e-9);
+  ASSERT_EQ(r.info.channels.size(), 2u);
+  EXPECT_EQ(r.info.channels[0].unit, "V");
+  EXPECT_EQ(r.info.channels[1].unit, "A");
+  expect_values(r, {1, 1}, 30);
+}
+
+// A clock with a decimal comma, in a ';' file, after a day-first date column.
+TEST(TextLayout, ClockWithDecimalComma) {
+  std::string text = "Datum;Uhrzeit;Spannung [V];Strom [A]\n";
+  for (std::size_t k = 0; k < 30; ++k) {
+    std::string row = "30.11.2026;10:00:" + fmt("%06.3f", 0.01 * static_cast<double>(k)) + ";" +
+                      fmt("%.3f", printed_value(0, k)) + ";" + fmt("%.3f", printed_value(1, k));
+    for (std::size_t i = 10; i < row.size(); ++i) {
+      if (row[i] == '.') row[i] = ',';
+    }
+    text += row + "\n";
+  }
+  const Read r = read_all(text);
+  // Times since midnight near 36 000 s carry the printed 1 ms exactly to ~1e-12 s.
+  EXPECT_NEAR(r.info.sample_rate_hz, 100.0, 100.0 * 1e-9);
+  ASSERT_EQ(r.info.channels.size(), 2u);
+  expect_values(r, {1, 1}, 30);
+}
+
+// Units stated per channel by numbered keys, and names that are unit words.
+TEST(TextLayout, NumberedUnitKeysAndUnitWordNames) {
+  const Read r =
+      read_all("CH1 Units,A\nCH2 Units,V\nSample Interval,1e-6\n\nCH1,CH2\n" + rows(6, 2, 0));
+  ASSERT_EQ(r.info.channels.size(), 2u);
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  EXPECT_EQ(r.info.channels[1].unit, "V");
+  const Read w = read_all("Time (msec),Volts,Amps\n" + rows(6, 2, 0.01));
+  EXPECT_NEAR(w.info.sample_rate_hz, 1e5, 1e5 * kRel);  // 0.01 msec
+  ASSERT_EQ(w.info.channels.size(), 2u);
+  EXPECT_EQ(w.info.channels[0].unit, "V");
+  EXPECT_EQ(w.info.channels[1].unit, "A");
+}
+
+// A Latin-1 micro sign (0xB5) in the time column's unit means micro.
+TEST(TextLayout, Latin1MicroInTheHeader) {
+  const Read r = read_all("Time (\xB5s),CH1 (V)\r\n" + rows(6, 1, 0.5, ",", "\r\n"));
+  EXPECT_NEAR(r.info.sample_rate_hz, 2e6, 2e6 * kRel);
+  ASSERT_EQ(r.info.channels.size(), 1u);
+}
+
+// Key/value lines in a single-column file are never its header.
+TEST(TextLayout, KeyValueAboveOneColumnIsNotAName) {
+  const Read r = read_all("Sample Interval,1e-6\nVertical Units,V\nPoints,6\n\n" + rows(6, 1, 0));
+  ASSERT_EQ(r.info.channels.size(), 1u);
+  EXPECT_EQ(r.info.channels[0].name, "ch1");
+  EXPECT_EQ(r.info.channels[0].unit, "V");
+  bool kept = false;
+  for (const auto& [k, v] : r.info.metadata) kept = kept || (k == "Points" && v == "6");
+  EXPECT_TRUE(kept);
+}
+
+// Text after the data is a footer (left out, said, its key/values kept); text between rows of
+// data is an error at its line.
+TEST(TextLayout, TextAfterTheDataIsAFooter) {
+  const Read r =
+      read_all("time (s),current (A)\n" + rows(10, 1, 1e-6) + "\nMean,0.001\nEnd of data\n");
+  EXPECT_EQ(r.info.frames.value_or(0), 10u);
+  bool said = false;
+  for (const auto& w : r.warnings) said = said || contains(w, "after the data");
+  EXPECT_TRUE(said);
+  const InputError e =
+      error_of("time (s),current (A)\n" + rows(10, 1, 1e-6) + "Trigger here\n" + rows(3, 1, 1e-6));
+  EXPECT_EQ(e.where().line.value_or(0), 12u) << e.what();
+}
+
+// 9.9E37, the marker instruments write for a sample beyond their range, is not a sample.
+TEST(TextLayout, OverflowMarkerIsNotASample) {
+  const InputError e = error_of("time (s),current (A)\n0,0.5\n1e-6,9.9E+37\n2e-6,0.5\n");
+  EXPECT_EQ(e.where().line.value_or(0), 3u);
+  EXPECT_TRUE(contains(e.what(), "overflow marker")) << e.what();
+}
+
 }  // namespace
 }  // namespace lopside
