@@ -11,8 +11,9 @@
 
 namespace lopside {
 
-/// `text` as valid UTF-8: valid sequences are kept, every other byte is read as Latin-1
-/// (ISO 8859-1, what older instruments write in comments) and re-encoded.
+/// `text` as valid UTF-8: valid sequences are kept, every other byte is read as Windows-1252
+/// (Latin-1 with typographic characters at 0x80–0x9F: what older instruments and Windows
+/// software write) and re-encoded.
 std::string to_utf8(std::string_view text);
 
 /// A preamble line split into key and value: the first of `,` `;` tab `:` `=` separates them;
@@ -50,6 +51,9 @@ bool is_vertical_unit_key(std::string_view key);
 /// The channel number a per-channel unit key names ("CH2 Units", "Channel 1 Unit",
 /// "CH1 vertical unit" → 2, 1, 1), or nullopt.
 std::optional<std::size_t> channel_unit_key(std::string_view key);
+
+/// True if `key` states a record's length ("Record Length", "Points", "Samples").
+bool is_count_key(std::string_view key);
 
 /// True if `key` states the unit of the time axis ("Horizontal Units", "HUnit", "X Unit").
 bool is_horizontal_unit_key(std::string_view key);

@@ -33,6 +33,10 @@ std::optional<UnitScale> parse_unit(std::string_view text);
 /// since preambles print time units in capitals. Only units of time are returned.
 std::optional<UnitScale> parse_time_unit(std::string_view text);
 
+/// True if `text` reads as a unit, converted by lopside or not ("A", "ms", "W", "Ω", "%",
+/// "°C", "a.u.", "counts", "watts", "(mV)"): how a units row is told from a names row.
+bool looks_like_unit(std::string_view text);
+
 /// A header cell split into name and unit text: "current (mA)" → {"current", "mA"},
 /// "U [kV]" → {"U", "kV"}, "t / us" → {"t", "us"}, "current_A" → {"current", "A"}; a slash or
 /// underscore splits only where what follows is a known unit ("U_rms" stays whole).

@@ -146,9 +146,67 @@ NameAndUnit split_name_unit(std::string_view cell) {
     if (pos == std::string_view::npos || pos == 0 || pos + 1 >= cell.size()) continue;
     const std::string_view unit = trim(cell.substr(pos + 1));
     const std::string_view name = trim(cell.substr(0, pos));
-    if (!name.empty() && parse_unit(unit)) return NameAndUnit{std::string(name), std::string(unit)};
+    if (name.empty()) continue;
+    // After '/', any unit (ISO 80000-1 writes "P / W", "T / °C"); after '_', only those
+    // lopside converts, since "U_rms" or "T_C" are names more often than units.
+    if (parse_unit(unit) || (sep == '/' && looks_like_unit(unit)))
+      return NameAndUnit{std::string(name), std::string(unit)};
   }
   return NameAndUnit{std::string(cell), ""};
+}
+
+bool looks_like_unit(std::string_view text) {
+  text = trim(text);
+  if (text.size() >= 2 && ((text.front() == '(' && text.back() == ')') ||
+                           (text.front() == '[' && text.back() == ']'))) {
+    text = trim(text.substr(1, text.size() - 2));
+  }
+  if (text.empty() || text.size() > 12) return false;
+  if (parse_unit(text) || parse_time_unit(text)) return true;
+  // Symbols of other SI and accepted units (BIPM SI Brochure, 9th ed., tables 4 and 8), with
+  // an optional prefix, and what scopes print for the rest (common practice).
+  static constexpr std::array<std::string_view, 24> kSymbols{"W",
+                                                             "VA",
+                                                             "var",
+                                                             "Hz",
+                                                             "\xCE\xA9",
+                                                             "Ohm",
+                                                             "ohm",
+                                                             "J",
+                                                             "C",
+                                                             "F",
+                                                             "H",
+                                                             "S",
+                                                             "Wb",
+                                                             "T",
+                                                             "Pa",
+                                                             "K",
+                                                             "%",
+                                                             "dB",
+                                                             "dBm",
+                                                             "a.u.",
+                                                             "counts",
+                                                             "div",
+                                                             "\xC2\xB0"
+                                                             "C",
+                                                             "rpm"};
+  for (const std::string_view sym : kSymbols) {
+    if (text == sym) return true;
+    if (text.size() > sym.size() && text.substr(text.size() - sym.size()) == sym) {
+      const std::string_view prefix = text.substr(0, text.size() - sym.size());
+      for (const Prefix& p : kPrefixes) {
+        if (!p.text.empty() && p.text == prefix) return true;
+      }
+    }
+  }
+  const std::string w = lower_ascii(text);
+  static constexpr std::array<std::string_view, 16> kWords{
+      "watt",   "watts",   "ohm",   "ohms",   "hertz",   "percent", "degc",  "celsius",
+      "kelvin", "decibel", "joule", "joules", "coulomb", "farad",   "henry", "count"};
+  for (const std::string_view word : kWords) {
+    if (w == word) return true;
+  }
+  return false;
 }
 
 const std::array<SiPrefix, 9>& si_prefixes() {

@@ -171,7 +171,20 @@ std::string to_utf8(std::string_view text) {
     if (ok) {
       out.append(text.substr(i, len));
       i += len;
-    } else {  // a Latin-1 byte: U+0080…U+00FF in two bytes
+    } else if (c >= 0x80 && c <= 0x9F) {
+      // Windows-1252 puts typographic characters where Latin-1 has C1 controls (WHATWG
+      // Encoding Standard, index windows-1252); the common ones, else U+FFFD.
+      static constexpr std::array<const char*, 32> k1252{
+          "\xE2\x82\xAC", "\xEF\xBF\xBD", "\xE2\x80\x9A", "\xC6\x92",     "\xE2\x80\x9E",
+          "\xE2\x80\xA6", "\xE2\x80\xA0", "\xE2\x80\xA1", "\xCB\x86",     "\xE2\x80\xB0",
+          "\xC5\xA0",     "\xE2\x80\xB9", "\xC5\x92",     "\xEF\xBF\xBD", "\xC5\xBD",
+          "\xEF\xBF\xBD", "\xEF\xBF\xBD", "\xE2\x80\x98", "\xE2\x80\x99", "\xE2\x80\x9C",
+          "\xE2\x80\x9D", "\xE2\x80\xA2", "\xE2\x80\x93", "\xE2\x80\x94", "\xCB\x9C",
+          "\xE2\x84\xA2", "\xC5\xA1",     "\xE2\x80\xBA", "\xC5\x93",     "\xEF\xBF\xBD",
+          "\xC5\xBE",     "\xC5\xB8"};
+      out += k1252[c - 0x80];
+      ++i;
+    } else {  // a Latin-1 byte: U+00A0…U+00FF in two bytes
       out += static_cast<char>(0xC0 | (c >> 6));
       out += static_cast<char>(0x80 | (c & 0x3F));
       ++i;
@@ -347,6 +360,17 @@ std::optional<std::size_t> channel_unit_key(std::string_view key) {
       rest == "vunit" || rest == "yunit" || rest == "yunits")
     return n;
   return std::nullopt;
+}
+
+bool is_count_key(std::string_view key) {
+  const std::string k = normalised_key(key);
+  for (std::string_view c :
+       {"recordlength", "points", "numberofpoints", "samples", "numberofsamples", "memorylength",
+        "memorydepth", "length", "pointcount", "samplecount", "npoints", "waveformpoints",
+        "datapoints", "recordsize"}) {
+    if (k == c) return true;
+  }
+  return false;
 }
 
 bool is_horizontal_unit_key(std::string_view key) {

@@ -543,6 +543,19 @@ class TimeFit {
   std::optional<long double> fixed_;
 };
 
+// Typographic quotes around a header cell (“Time (s)”, as word processors and some exports
+// write them, in UTF-8 or as Windows-1252 bytes 0x93/0x94) are quotes, not part of the name.
+std::string strip_curly_quotes(std::string_view cell) {
+  std::string c = to_utf8(cell);
+  for (const std::string_view q :
+       {"\xE2\x80\x9C", "\xE2\x80\x9D", "\xE2\x80\x98", "\xE2\x80\x99"}) {
+    if (c.size() >= q.size() && c.compare(0, q.size(), q) == 0) c.erase(0, q.size());
+    if (c.size() >= q.size() && c.compare(c.size() - q.size(), q.size(), q) == 0)
+      c.erase(c.size() - q.size());
+  }
+  return std::string(trim(c));
+}
+
 struct WindowLine {
   std::uint64_t no = 0;
   std::string text;
@@ -678,7 +691,10 @@ class TextReader final : public SampleSource {
     const std::size_t above = line_above(window, at);
     dialect_ = saved;
     bool named = false;
-    if (above != std::string::npos && !window[above].comment && !keyed_fact(window[above].text)) {
+    // One column is named by a whole line, so any line of words above one would do: there the
+    // rows below must confirm, and a line with a key/value separator is never a name.
+    if (above != std::string::npos && !window[above].comment && !keyed_fact(window[above].text) &&
+        (columns > 1 || window[above].text.find_first_of(",;\t:=") == std::string::npos)) {
       std::string head_scratch;
       const auto head = header_cells(window[above].text, d, columns, head_scratch);
       named = head.size() == columns;
@@ -692,7 +708,8 @@ class TextReader final : public SampleSource {
       matched += data_row(window[j].text, d, columns, is_data) ? 1u : 0u;
       ++checked;
     }
-    if (!named && 4 * matched < 3 * checked) return false;
+    last_matched_ = matched;
+    if ((!named || columns == 1) && 4 * matched < 3 * checked) return false;
     // A last row with nothing after it to confirm it is the data only if nothing but comments
     // stands before it either (a file of one row).
     if (!named && checked == 0) {
@@ -758,9 +775,27 @@ class TextReader final : public SampleSource {
         if (after < kConfirmLines && !eof) break;  // read more lines first
         // Where the row reads more than one way, the dialect under which the line above it
         // has as many cells as the row wins; else the first that the next rows confirm.
+        // The dialect under which most of the next rows share the row's shape wins (a first
+        // row "0\t0" reads with either decimal mark; "0,0001\t0,06" below it decides).
         std::vector<Dialect> confirmed;
+        std::size_t best_matched = 0;
         for (const Dialect& d : dialects) {
-          if (confirm(window, search, d)) confirmed.push_back(d);
+          if (!confirm(window, search, d)) continue;
+          if (confirmed.empty() || last_matched_ > best_matched) {
+            if (last_matched_ > best_matched) confirmed.clear();
+            best_matched = last_matched_;
+            confirmed.push_back(d);
+          } else if (last_matched_ == best_matched) {
+            confirmed.push_back(d);
+          }
+        }
+        // Both decimal marks read the rows so far: a later row may still tell them apart.
+        decimal_open_ = false;
+        for (std::size_t i = 0; i + 1 < confirmed.size(); ++i) {
+          for (std::size_t j = i + 1; j < confirmed.size(); ++j) {
+            decimal_open_ = decimal_open_ || (confirmed[i].delimiter == confirmed[j].delimiter &&
+                                              confirmed[i].decimal != confirmed[j].decimal);
+          }
         }
         if (!confirmed.empty()) {
           Dialect chosen = confirmed.front();
@@ -826,8 +861,18 @@ class TextReader final : public SampleSource {
     std::string head_scratch;
     const std::vector<std::string_view> head = header_cells(text, dialect_, columns_, head_scratch);
     std::vector<std::string> out;
+    // "s,A," over three columns: the splitter dropped the empty last cells, which the line's
+    // delimiters show were there (a channel without a unit, or without a name).
+    if (head.size() < columns_ && dialect_.delimiter != ' ' && !head.empty() &&
+        static_cast<std::size_t>(std::count(text.begin(), text.end(), dialect_.delimiter)) + 1 >=
+            columns_) {
+      for (const auto c : head) out.emplace_back(strip_curly_quotes(trim(c)));
+      out.resize(columns_);
+      return out;
+    }
     if (head.size() >= columns_) {
-      for (std::size_t i = 0; i < columns_; ++i) out.emplace_back(trim(head[i]));
+      for (std::size_t i = 0; i < columns_; ++i)
+        out.emplace_back(strip_curly_quotes(trim(head[i])));
       if (extra) {
         for (std::size_t i = columns_; i < head.size(); ++i) extra->emplace_back(trim(head[i]));
       }
@@ -851,7 +896,7 @@ class TextReader final : public SampleSource {
       if (!is_data_[i] || trim(cells[i]).empty()) continue;
       ++filled;
       if (numeric_cell(cells[i], dialect_.decimal)) return false;
-      if (parse_unit(cells[i])) ++units;
+      if (looks_like_unit(cells[i])) ++units;
     }
     return units > 0 && 2 * units >= filled;
   }
@@ -869,7 +914,7 @@ class TextReader final : public SampleSource {
 
   bool all_units(const std::vector<std::string>& cells) const {
     for (std::size_t i = 0; i < cells.size(); ++i) {
-      if (is_data_[i] && !trim(cells[i]).empty() && !parse_unit(cells[i])) return false;
+      if (is_data_[i] && !trim(cells[i]).empty() && !looks_like_unit(cells[i])) return false;
     }
     return true;
   }
@@ -1007,6 +1052,19 @@ class TextReader final : public SampleSource {
            !keyed_margin_row(window[data_at - 1].text)) {
       --data_at;
     }
+    // "Record Length" on one line and "2000" on the next, above a single column: a key and
+    // its value, not a name and a sample.
+    if (columns_ == 1 && data_at > 0 && data_at + 1 < window.size() &&
+        !window[data_at - 1].comment && !window[data_at - 1].after_blank) {
+      const auto kv = split_key_value(window[data_at - 1].text);
+      const std::string value(trim(window[data_at].text));
+      if (kv && kv->second.empty() &&
+          (is_count_key(kv->first) || keyed_fact(kv->first + "," + value))) {
+        window[data_at - 1].text = kv->first + "," + value;
+        window.erase(window.begin() + static_cast<std::ptrdiff_t>(data_at));
+        window[data_at].after_blank = true;  // nothing above it belongs to the data now
+      }
+    }
     first_data_line_ = window[data_at].no;
     Header header = read_header(window, data_at);
     for (std::size_t i = 0; i < header.top; ++i) retire(window[i]);
@@ -1104,7 +1162,10 @@ class TextReader final : public SampleSource {
       look_values_.resize(base + d);
       for (std::size_t k = 0; k < d; ++k) {
         const std::string_view cell = cells_[data_index_[k]];
-        const auto v = parse_cell(cell, dialect_.decimal);
+        auto v = parse_cell(cell, dialect_.decimal);
+        if (!v) v = reparse_with_other_mark(cell);
+        if (decimal_open_ && !mark_seen_ && cell.find(dialect_.decimal) != std::string_view::npos)
+          mark_seen_ = true;
         if (!v || std::fabs(*v) >= kOverflowMarker) {
           look_values_.resize(base);
           bad_cell(line_no, data_index_[k], cell);
@@ -1166,6 +1227,20 @@ class TextReader final : public SampleSource {
            ", found " + std::to_string(cells_.size());
   }
 
+  // Where the rows so far read with either decimal mark (tab or blank delimited, no mark yet
+  // printed), the first cell that needs the other mark settles it: the values read so far are
+  // the same under both.
+  std::optional<double> reparse_with_other_mark(std::string_view cell) {
+    if (!decimal_open_ || mark_seen_) return std::nullopt;
+    const char other = dialect_.decimal == '.' ? ',' : '.';
+    auto v = parse_cell(cell, other);
+    if (v) {
+      dialect_.decimal = other;
+      decimal_open_ = false;
+    }
+    return v;
+  }
+
   bool bad_cell(std::uint64_t line_no, std::size_t column, std::string_view cell) {
     if (const auto v = parse_cell(cell, dialect_.decimal); v && std::fabs(*v) >= kOverflowMarker) {
       return bad_row(line_no, "column " + std::to_string(column + 1) + ": '" + shorten(trim(cell)) +
@@ -1211,6 +1286,19 @@ class TextReader final : public SampleSource {
                         "'); it was left out (was the file still being written?)");
     finished_ = true;
     return true;
+  }
+
+  // Whole numbers that vary over more than a couple of codes; a stretch of zeros (a quiet
+  // lead-in) or 0/1 levels say nothing about the scaling.
+  bool codes_like(std::size_t k) const {
+    const std::size_t d = data_index_.size();
+    double lo = 0, hi = 0;
+    for (std::size_t r = 0; r < look_lines_.size(); ++r) {
+      const double v = look_values_[r * d + k];
+      if (r == 0 || v < lo) lo = v;
+      if (r == 0 || v > hi) hi = v;
+    }
+    return hi - lo >= 3;
   }
 
   // Consecutive whole numbers stepping by one: a sample index, not a measured channel.
@@ -1404,7 +1492,7 @@ class TextReader final : public SampleSource {
       if (text.empty()) continue;
       // Integers alone under a stated vertical unit are the digitiser's codes, not volts: a
       // scope that writes them leaves the scaling (codes per division) to its own software.
-      if (!fraction_seen_[col]) {
+      if (!fraction_seen_[col] && codes_like(channel_k_[c])) {
         channels[c].unit_text = "counts";
         warnings_.push_back("channel " + std::to_string(c + 1) + " '" + channels[c].name +
                             "' holds whole numbers only: taken as raw digitiser codes (counts), "
@@ -1583,7 +1671,8 @@ class TextReader final : public SampleSource {
     if (cells_.size() != columns_) return bad_row(line_no, cell_count_message());
     for (std::size_t c = 0; c < channel_column_.size(); ++c) {
       const std::string_view cell = cells_[channel_column_[c]];
-      const auto v = parse_cell(cell, dialect_.decimal);
+      auto v = parse_cell(cell, dialect_.decimal);
+      if (!v && decimal_open_) v = reparse_with_other_mark(cell);
       if (!v || std::fabs(*v) >= kOverflowMarker)
         return bad_cell(line_no, channel_column_[c], cell);
       out[c] = *v * gains_[c];
@@ -1603,7 +1692,8 @@ class TextReader final : public SampleSource {
     }
     if (time_column_ >= 0) {
       const auto tc = static_cast<std::size_t>(time_column_);
-      const auto v = parse_cell(cells_[tc], dialect_.decimal);
+      auto v = parse_cell(cells_[tc], dialect_.decimal);
+      if (!v && decimal_open_) v = reparse_with_other_mark(cells_[tc]);
       if (!v) return bad_cell(line_no, tc, cells_[tc]);
       track_time(*v * column_factor_[tc],
                  printed_resolution(cells_[tc], dialect_.decimal) * column_factor_[tc], line_no);
@@ -1934,6 +2024,9 @@ class TextReader final : public SampleSource {
   // layout
   Dialect dialect_;
   std::size_t columns_ = 0;
+  std::size_t last_matched_ = 0;  // rows confirm() found sharing the candidate's shape
+  bool decimal_open_ = false;     // the rows so far read with either decimal mark
+  bool mark_seen_ = false;        // a cell so far held the chosen decimal mark
   std::vector<bool> is_data_;
   std::vector<std::size_t> data_index_;  // file columns holding numbers, in order
   std::vector<std::string> column_name_, column_unit_, column_unit_text_;
