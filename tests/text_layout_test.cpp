@@ -963,5 +963,103 @@ TEST(TextLayout, OverflowMarkerIsNotASample) {
   EXPECT_TRUE(contains(e.what(), "overflow marker")) << e.what();
 }
 
+// --- cases found by the second review -------------------------------------------------------
+
+// A number alone on a preamble line is not the data's first row.
+TEST(TextLayout, LoneNumberInThePreamble) {
+  const Read r = read_all("Model,BT-REC8\n2000\ntime (s),current (A)\n" + rows(12, 1, 1e-4));
+  EXPECT_EQ(r.info.frames.value_or(0), 12u);
+  EXPECT_NEAR(r.info.sample_rate_hz, 1e4, 1e4 * kRel);
+  expect_values(r, {1}, 12);
+}
+
+// "Record Length" and its value on two lines above one column: metadata, not a name and a
+// sample.
+TEST(TextLayout, KeyAndValueOnTwoLines) {
+  const Read r =
+      read_all("Sample Interval,1e-4\nVertical Units,A\nRecord Length\n12\n" + rows(12, 1, 0));
+  EXPECT_EQ(r.info.frames.value_or(0), 12u);
+  ASSERT_EQ(r.info.channels.size(), 1u);
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  bool kept = false;
+  for (const auto& [k, v] : r.info.metadata) kept = kept || (k == "Record Length" && v == "12");
+  EXPECT_TRUE(kept);
+  expect_values(r, {1}, 12);
+}
+
+// Tab-separated with a decimal comma whose first rows print no mark ("0\t0"): the rows below
+// settle the mark, even when the first comma comes after the look-ahead.
+TEST(TextLayout, DecimalCommaSettledByLaterRows) {
+  std::string text = "Zeit (s)\tStrom (A)\n0\t0\n";
+  for (std::size_t k = 1; k < 12; ++k) {
+    std::string row =
+        fmt("%.4f", 1e-4 * static_cast<double>(k)) + "\t" + fmt("%.3f", printed_value(0, k));
+    for (char& c : row) {
+      if (c == '.') c = ',';
+    }
+    text += row + "\n";
+  }
+  const Read r = read_all(text);
+  EXPECT_NEAR(r.info.sample_rate_hz, 1e4, 1e4 * 1e-9);
+  EXPECT_DOUBLE_EQ(r.columns[0][5], printed_value(0, 5));
+  std::string late = "t (us) I (A)\n";
+  for (std::size_t k = 0; k < 70000; ++k) late += std::to_string(k) + " 0\n";
+  late += "70000 0,125\n70001 0,25\n";
+  const Read l = read_all(late);
+  ASSERT_EQ(l.columns[0].size(), 70002u);
+  EXPECT_DOUBLE_EQ(l.columns[0][70001], 0.25);
+}
+
+// A units row of units lopside does not convert (W, Ω, dB, %, °C, a.u.): kept as written.
+TEST(TextLayout, UnitsRowOfOtherUnits) {
+  const Read r = read_all(
+      "Time,I,P,R,G,D,T\ns,A,W,\xCE\xA9,dB,%,\xC2\xB0"
+      "C\n" +
+      rows(6, 6, 1e-6));
+  EXPECT_NEAR(r.info.sample_rate_hz, 1e6, 1e6 * kRel);
+  ASSERT_EQ(r.info.channels.size(), 6u);
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  const std::vector<std::string> as_written{"W", "\xCE\xA9", "dB", "%",
+                                            "\xC2\xB0"
+                                            "C"};
+  for (std::size_t c = 0; c < as_written.size(); ++c)
+    EXPECT_EQ(r.info.channels[c + 1].unit_text, as_written[c]) << c;
+  const Read iso = read_all("Time / s,I / A,P / W,S / a.u.\n" + rows(6, 3, 1e-6));
+  ASSERT_EQ(iso.info.channels.size(), 3u);
+  EXPECT_EQ(iso.info.channels[1].name, "P");
+  EXPECT_EQ(iso.info.channels[1].unit_text, "W");
+  EXPECT_EQ(iso.info.channels[2].unit_text, "a.u.");
+}
+
+// A units row ending in an empty cell, and typographic quotes (UTF-8 and Windows-1252).
+TEST(TextLayout, EmptyLastUnitAndTypographicQuotes) {
+  const Read r = read_all("Time,Current,Voltage\ns,A,\n" + rows(6, 2, 1e-6));
+  ASSERT_EQ(r.info.channels.size(), 2u);
+  EXPECT_EQ(r.info.channels[0].name, "Current");
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  EXPECT_EQ(r.info.channels[1].name, "Voltage");
+  EXPECT_EQ(r.info.channels[1].unit, "");
+  for (const std::string& open_close :
+       {std::string("\xE2\x80\x9C\xE2\x80\x9D"), std::string("\x93\x94")}) {
+    const std::string o = open_close.substr(0, open_close.size() / 2);
+    const std::string c = open_close.substr(open_close.size() / 2);
+    const Read q =
+        read_all(o + "Time (s)" + c + "," + o + "Current (A)" + c + "\n" + rows(6, 1, 1e-6));
+    ASSERT_EQ(q.info.channels.size(), 1u);
+    EXPECT_EQ(q.info.channels[0].name, "Current");
+    EXPECT_EQ(q.info.channels[0].unit, "A");
+  }
+}
+
+// A quiet lead-in of zeros under a stated unit is no sign of digitiser codes.
+TEST(TextLayout, LeadingZerosAreNotCodes) {
+  std::string text = "Sample Interval,1e-4\nVertical Units,A\n";
+  for (std::size_t k = 0; k < 70000; ++k) text += "0\n";  // past the 65 536-row look-ahead
+  text += rows(10, 1, 0);
+  const Read r = read_all(text);
+  ASSERT_EQ(r.info.channels.size(), 1u);
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+}
+
 }  // namespace
 }  // namespace lopside
