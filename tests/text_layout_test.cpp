@@ -1061,5 +1061,19 @@ TEST(TextLayout, LeadingZerosAreNotCodes) {
   EXPECT_EQ(r.info.channels[0].unit, "A");
 }
 
+// A fully quoted preamble ("Unit","A","V"): each list cell unquoted.
+TEST(TextLayout, QuotedPreambleLists) {
+  const Read r = read_all(
+      "\"Model\",\"BT-REC8\"\n\"Unit\",\"A\",\"V\"\n\"Sample Rate\",\"1MS/s\"\n"
+      "\"Time\",\"I1\",\"U1\"\n" +
+      rows(6, 2, 1e-6));
+  ASSERT_EQ(r.info.channels.size(), 2u);
+  EXPECT_EQ(r.info.channels[0].unit, "A");
+  EXPECT_EQ(r.info.channels[1].unit, "V");
+  bool listed = false;
+  for (const auto& [k, v] : r.info.metadata) listed = listed || (k == "Unit" && v == "A,V");
+  EXPECT_TRUE(listed);
+}
+
 }  // namespace
 }  // namespace lopside

@@ -9,6 +9,7 @@
 #include <cmath>
 #include <cstdint>
 #include <cstring>
+#include <vector>
 
 #include "lopside/number_parse.hpp"
 #include "lopside/units.hpp"
@@ -222,6 +223,32 @@ std::optional<std::pair<std::string, std::string>> split_key_value(std::string_v
     value.remove_prefix(1);
   }
   while (!value.empty() && is_delimiter(value.back())) value.remove_suffix(1);
+  // A quoted list ("A","V"): each cell unquoted (RFC 4180), joined by the list's separator.
+  const auto list_sep = value.find_first_of(",;\t");
+  if (value.find('"') != std::string_view::npos && list_sep != std::string_view::npos) {
+    const char sep_char = value[list_sep];
+    std::vector<std::string> cells(1);
+    bool quoted = false;
+    for (std::size_t i = 0; i < value.size(); ++i) {
+      const char ch = value[i];
+      if (ch == '"') {
+        if (quoted && i + 1 < value.size() && value[i + 1] == '"') {
+          cells.back() += '"';
+          ++i;
+        } else {
+          quoted = !quoted;
+        }
+      } else if (ch == sep_char && !quoted) {
+        cells.emplace_back();
+      } else {
+        cells.back() += ch;
+      }
+    }
+    std::string joined;
+    for (std::size_t i = 0; i < cells.size(); ++i)
+      joined += (i ? "," : "") + std::string(trim_blanks(cells[i]));
+    return std::make_pair(to_utf8(strip_quotes(key)), to_utf8(joined));
+  }
   return std::make_pair(to_utf8(strip_quotes(key)), to_utf8(strip_quotes(value)));
 }
 
