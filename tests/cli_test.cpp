@@ -515,7 +515,21 @@ TEST_F(Cli, PreambleKeyValuesTravelInTheJson) {
   EXPECT_NEAR(m["input"]["sample_rate_hz"].get<double>(), 1e5, 1e-6);
   const json i = run_json({"inspect", p.string(), "--json", "-"});
   EXPECT_EQ(i["metadata"]["Serial Number"], "BT-32K-0042");
-  const json w = run_json({"swap", p.string(), p.string(), "--json", "-"});
+  // The swapped capture: the same bench file with its leads exchanged (the sine inverted).
+  std::string swapped = text;
+  const std::string head = "current (A)\n";
+  std::string body = swapped.substr(swapped.find(head) + head.size());
+  std::string flipped;
+  for (std::size_t at = 0; at < body.size();) {
+    const std::size_t end = body.find('\n', at);
+    const double v = std::stod(body.substr(at, end - at));
+    std::snprintf(row, sizeof row, "%.12f\n", -v);
+    flipped += row;
+    at = end + 1;
+  }
+  const fs::path q =
+      file("serial_swapped.csv", swapped.substr(0, swapped.find(head) + head.size()) + flipped);
+  const json w = run_json({"swap", p.string(), q.string(), "--json", "-"});
   EXPECT_EQ(w["normal"]["metadata"]["Serial Number"], "BT-32K-0042");
 }
 

@@ -286,38 +286,86 @@ TEST(LeadSwap, ConfidenceFollowsTheStatedRule) {
   EXPECT_NEAR(coarse.confidence, 0.4, 1e-9);
 }
 
-TEST(LeadSwap, DifferentFundamentalWarnsAndHalvesTheConfidence) {
+TEST(LeadSwap, DifferentFundamentalIsInconclusive) {
+  // Issue 9, item 8: fundamentals apart by more than max(2 %, combined relative u95) cannot be
+  // one unit on one load, so no cause is drawn however clear the parts.
   const double u = 0.05 * kMa / std::sqrt(2.0);
   const auto same =
       analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u), probe_on(ProbeOn::electrode));
-  // 32 against 33 kHz: |Δf| / mean = 1/32.5 = 3.1 % > 2 %.
+  EXPECT_EQ(same.verdict, Verdict::driver_imbalance);
+  EXPECT_FALSE(has_warning(same, "same unit"));
+  // 32 against 33 kHz: |Δf| / mean = 1/32.5 = 3.1 % > 2 % (u95 of 0.1 Hz each is far below).
   const auto other = analyse_lead_swap(capture(1 * kMa, u),
                                        capture(-1 * kMa, u, std::nullopt, std::nullopt, 33000),
                                        probe_on(ProbeOn::electrode));
+  EXPECT_EQ(other.verdict, Verdict::inconclusive);
+  EXPECT_DOUBLE_EQ(other.confidence, 0.0);
+  ASSERT_EQ(other.deciding.size(), 1u);
+  EXPECT_EQ(other.deciding[0], "fundamental_mismatch");
   EXPECT_TRUE(has_warning(other, "may not be the same unit on the same load"));
-  EXPECT_TRUE(has_warning(other, "fundamental"));
+  ASSERT_NE(evidence(other, "fundamental_mismatch"), nullptr);
   EXPECT_NEAR(evidence(other, "fundamental_mismatch")->value, 1000.0 / 32500.0, 1e-12);
-  EXPECT_NEAR(other.confidence, 0.5 * same.confidence, 1e-12);
-  EXPECT_FALSE(has_warning(same, "same unit"));
-  // 1.9 % is within the limit.
+  EXPECT_DOUBLE_EQ(evidence(other, "fundamental_mismatch")->threshold, 0.02);
+  EXPECT_NE(other.next_steps[0].find("same unit and load"), std::string::npos);
+  // 615/32307.5 = 1.9 % is within the limit: the cause stands, unchanged.
   const auto close = analyse_lead_swap(capture(1 * kMa, u),
                                        capture(-1 * kMa, u, std::nullopt, std::nullopt, 32615),
                                        probe_on(ProbeOn::electrode));
+  EXPECT_EQ(close.verdict, Verdict::driver_imbalance);
+  EXPECT_NEAR(close.confidence, same.confidence, 1e-12);
   EXPECT_FALSE(has_warning(close, "same unit"));
 }
 
-TEST(LeadSwap, DifferentAcRmsWarns) {
-  // 17 against 20 mA: 3/18.5 = 16.2 % > 15 %; 17 against 19.5 mA: 13.7 %, no warning.
+TEST(LeadSwap, FrequencyBarIsTheCombinedU95WhenLarger) {
+  // Fundamentals known to ±1 kHz each (u95): combined √2 kHz over a mean of 32.5 kHz is 4.35 %,
+  // larger than 2 %, so 32 against 33 kHz (3.1 %) is not shown to differ.
+  const double u = 0.05 * kMa / std::sqrt(2.0);
+  SwapCapture n = capture(1 * kMa, u);
+  SwapCapture s = capture(-1 * kMa, u, std::nullopt, std::nullopt, 33000);
+  n.summary.fundamental_hz.u95 = 1000;
+  s.summary.fundamental_hz.u95 = 1000;
+  const auto r = analyse_lead_swap(n, s, probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::driver_imbalance);
+  ASSERT_NE(evidence(r, "fundamental_mismatch"), nullptr);
+  EXPECT_NEAR(evidence(r, "fundamental_mismatch")->threshold, std::sqrt(2.0) * 1000 / 32500, 1e-12);
+}
+
+TEST(LeadSwap, DifferentAcRmsIsInconclusive) {
+  // 17 against 22 mA: 5/19.5 = 25.6 % > 20 %: no cause. 17 against 20 mA: 3/18.5 = 16.2 %,
+  // within 20 %: the cause stands with its confidence (z = 20 gives 0.95, as above).
   const double u = 0.05 * kMa / std::sqrt(2.0);
   const auto far = analyse_lead_swap(capture(1 * kMa, u),
-                                     capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.020),
+                                     capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.022),
                                      probe_on(ProbeOn::electrode));
+  EXPECT_EQ(far.verdict, Verdict::inconclusive);
+  EXPECT_DOUBLE_EQ(far.confidence, 0.0);
+  ASSERT_EQ(far.deciding.size(), 1u);
+  EXPECT_EQ(far.deciding[0], "ac_rms_mismatch");
   EXPECT_TRUE(has_warning(far, "AC RMS"));
-  EXPECT_NEAR(far.confidence, 0.5 * 0.95, 1e-9);
+  ASSERT_NE(evidence(far, "ac_rms_mismatch"), nullptr);
+  EXPECT_NEAR(evidence(far, "ac_rms_mismatch")->value, 5.0 / 19.5, 1e-12);
+  EXPECT_DOUBLE_EQ(evidence(far, "ac_rms_mismatch")->threshold, 0.20);
   const auto near = analyse_lead_swap(
-      capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.0195),
+      capture(1 * kMa, u), capture(-1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.020),
       probe_on(ProbeOn::electrode));
+  EXPECT_EQ(near.verdict, Verdict::driver_imbalance);
+  EXPECT_NEAR(near.confidence, 0.95, 1e-9);
   EXPECT_FALSE(has_warning(near, "AC RMS"));
+}
+
+TEST(LeadSwap, ClippingAndMismatchBothDecide) {
+  const double u = 0.05 * kMa / std::sqrt(2.0);
+  SwapCapture s = capture(-1 * kMa, u, std::nullopt, std::nullopt, 20000, 0.034);
+  s.summary.clipped_positive = 3;
+  const auto r = analyse_lead_swap(capture(1 * kMa, u), s, probe_on(ProbeOn::electrode));
+  EXPECT_EQ(r.verdict, Verdict::inconclusive);
+  ASSERT_EQ(r.deciding.size(), 3u);
+  EXPECT_EQ(r.deciding[0], "clipped_swapped");
+  EXPECT_EQ(r.deciding[1], "fundamental_mismatch");
+  EXPECT_EQ(r.deciding[2], "ac_rms_mismatch");
+  ASSERT_EQ(r.next_steps.size(), 2u);  // the range, then the same unit and load
+  EXPECT_NE(r.next_steps[0].find("range"), std::string::npos);
+  EXPECT_NE(r.next_steps[1].find("same unit and load"), std::string::npos);
 }
 
 TEST(LeadSwap, AsymmetryDisagreeingWithTheDcLowersTheConfidence) {

@@ -159,14 +159,104 @@ TEST_F(Swap, ClippedPairIsInconclusive) {
   EXPECT_TRUE(clipped_evidence);
 }
 
-TEST_F(Swap, DifferentFrequenciesWarn) {
-  // 32 kHz against 33 kHz: 3.1 % apart, more than the 2 % a retuned but same load allows.
+TEST_F(Swap, DifferentFrequenciesAreInconclusive) {
+  // 32 kHz against 33 kHz: 3.1 % apart, more than the 2 % (README, lead_swap.hpp) the two
+  // captures of one unit on one load may differ by; the measured fundamentals' u95 are far
+  // smaller (the 1e-4 below), so the 2 % is the bar. A clear supply part, but no cause.
   const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 13);
   const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 14, 33000);
   const json j = swap_json(n, s);
   EXPECT_TRUE(has_warning(j, "may not be the same unit on the same load")) << j["warnings"].dump();
   EXPECT_NEAR(j["normal"]["fundamental_hz"].get<double>(), 32000, 32000 * 1e-4);
   EXPECT_NEAR(j["swapped"]["fundamental_hz"].get<double>(), 33000, 33000 * 1e-4);
+  EXPECT_EQ(j["verdict"], "inconclusive");
+  EXPECT_EQ(j["confidence"].get<double>(), 0.0);
+}
+
+// The evidence entry with `code`, or null.
+json evidence_entry(const json& j, const std::string& code) {
+  for (const auto& e : j["evidence"]) {
+    if (e["code"] == code) return e;
+  }
+  return json();
+}
+
+TEST_F(Swap, FarApartFrequenciesAreInconclusiveWithTheirEvidence) {
+  // Issue 9, item 8: a 32 kHz capture against a 20 kHz one is not one unit on one load.
+  // |Δf| / mean = 12/26 = 0.4615 (analytic; the measured fundamentals are within 1e-4 of the
+  // set ones, see above, which moves the ratio by < 1e-4); the bar is the stated 2 %.
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 21, 32000);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 22, 20000);
+  const json j = swap_json(n, s);
+  EXPECT_EQ(j["verdict"], "inconclusive");
+  EXPECT_EQ(j["confidence"].get<double>(), 0.0);
+  EXPECT_EQ(j["deciding"], json::array({"fundamental_mismatch"}));
+  const json e = evidence_entry(j, "fundamental_mismatch");
+  ASSERT_TRUE(e.is_object()) << j["evidence"].dump();
+  EXPECT_NEAR(e["value"].get<double>(), 12.0 / 26.0, 1e-3);
+  EXPECT_DOUBLE_EQ(e["threshold"].get<double>(), 0.02);
+  EXPECT_NE(e["text"].get<std::string>().find("no cause"), std::string::npos);
+  // The same peak at both frequencies: the AC RMS agrees (a sine's RMS does not depend on f).
+  EXPECT_LT(evidence_entry(j, "ac_rms_mismatch")["value"].get<double>(), 0.01);
+}
+
+TEST_F(Swap, AcRmsOneToTwoIsInconclusive) {
+  // 25 mA against 12.5 mA peak at 32 kHz: the AC RMS are 1 : 2, |ΔI| / mean = 1/1.5 = 0.667
+  // (analytic; the 0.1 mA noise adds (0.1/8.8)²/2 ≈ 6e-5 relative to the smaller RMS), far over
+  // the 20 % bar.
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 23, 32000, kPeakA);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 24, 32000, kPeakA / 2);
+  const json j = swap_json(n, s);
+  EXPECT_EQ(j["verdict"], "inconclusive");
+  EXPECT_EQ(j["confidence"].get<double>(), 0.0);
+  EXPECT_EQ(j["deciding"], json::array({"ac_rms_mismatch"}));
+  const json e = evidence_entry(j, "ac_rms_mismatch");
+  ASSERT_TRUE(e.is_object()) << j["evidence"].dump();
+  EXPECT_NEAR(e["value"].get<double>(), 2.0 / 3.0, 1e-3);
+  EXPECT_DOUBLE_EQ(e["threshold"].get<double>(), 0.20);
+  EXPECT_NEAR(j["normal"]["ac_rms_a"].get<double>(), 2 * j["swapped"]["ac_rms_a"].get<double>(),
+              0.01 * j["normal"]["ac_rms_a"].get<double>());
+}
+
+TEST_F(Swap, SameFileTwiceExitsTwo) {
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 25);
+  const RunResult r = run({"swap", n.string(), n.string()});
+  EXPECT_EQ(r.status, 2);
+  EXPECT_NE(r.err.find(n.string() + ": is the same file as NORMAL (" + n.string() + ")"),
+            std::string::npos)
+      << r.err;
+  EXPECT_NE(r.err.find("two different recordings"), std::string::npos) << r.err;
+  // A symlink to it is the same file too.
+  const fs::path link = dir_ / "link.csv";
+  fs::create_symlink(n, link);
+  const RunResult l = run({"swap", n.string(), link.string()});
+  EXPECT_EQ(l.status, 2);
+  EXPECT_NE(l.err.find("is the same file as NORMAL"), std::string::npos) << l.err;
+}
+
+TEST_F(Swap, CopyUnderAnotherNameExitsTwo) {
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 26);
+  const fs::path copy = dir_ / "copy.csv";
+  fs::copy_file(n, copy);
+  const RunResult r = run({"swap", n.string(), copy.string()});
+  EXPECT_EQ(r.status, 2);
+  EXPECT_NE(r.err.find(copy.string() + ": has the same content as NORMAL (" + n.string() + ")"),
+            std::string::npos)
+      << r.err;
+  EXPECT_NE(r.err.find("two different recordings"), std::string::npos) << r.err;
+  // One byte changed at the end: a different recording as far as the check goes, read on.
+  std::string bytes = lopside::test::slurp(n);
+  ASSERT_FALSE(bytes.empty());
+  const fs::path edited = file("edited.csv", bytes.substr(0, bytes.size() - 1) + " ");
+  const RunResult e = run({"swap", n.string(), edited.string()});
+  EXPECT_EQ(e.err.find("same content"), std::string::npos) << e.err;
+}
+
+TEST_F(Swap, StandardInputTwiceExitsTwo) {
+  const RunResult r = run({"swap", "-", "-"});
+  EXPECT_EQ(r.status, 2);
+  EXPECT_NE(r.err.find("standard input can hold only one of the two captures"), std::string::npos)
+      << r.err;
 }
 
 TEST_F(Swap, JsonCarriesTheSchemaAndEveryKey) {

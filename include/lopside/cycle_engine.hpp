@@ -93,6 +93,9 @@ struct CycleSummary {
   Estimate dc_offset_a;
   bool dc_significant = false;  ///< |DC| > its u95
   Estimate rms_a, ac_rms_a;
+  /// The DC as a share of the RMS and of the AC RMS (dimensionless, signed as the DC): the
+  /// figures limits are written in. The probe's gain cancels in both ratios.
+  Estimate dc_to_rms, dc_to_ac_rms;
   Estimate charge_positive_c, charge_negative_c;  ///< means per cycle
   Estimate charge_asymmetry;
   Estimate positive_share;

@@ -1,14 +1,23 @@
 // `lopside swap`: the lead-swap test. Two captures of one unit, the supply's output leads
 // exchanged between them, split into the DC that follows the supply and the DC that stays with
 // the electrodes.
+#include <fcntl.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <cerrno>
 #include <iostream>
 #include <memory>
 #include <optional>
 #include <stdexcept>
 #include <string>
+#include <utility>
+#include <vector>
 
 #include "commands.hpp"
 #include "lopside/atomic_file.hpp"
+#include "lopside/error.hpp"
 #include "lopside/lead_swap.hpp"
 #include "lopside/swap_report.hpp"
 #include "output_paths.hpp"
@@ -36,6 +45,114 @@ SwapCapture measure_one(const AnalysisOptions& shared, const std::string& path,
   c.dc_type_a = statistical_part(m.summary.dc_offset_a);
   c.asymmetry_type_a = statistical_part(m.summary.charge_asymmetry);
   return c;
+}
+
+// The name an input goes by in messages ("-" is standard input, as the readers call it).
+std::string shown(const std::string& path) {
+  return path == "-" ? "standard input" : path;
+}
+
+// An input as it is before anything reads it: its stat and, for a regular file, a descriptor
+// for pread (standard input's own) and where its reader will start.
+struct InputFile {
+  int fd = -1;
+  bool owned = false;  // opened here, closed here; standard input is left open
+  struct stat st {};
+  off_t start = 0;
+  InputFile(const InputFile&) = delete;
+  InputFile& operator=(const InputFile&) = delete;
+  InputFile() = default;
+  ~InputFile() {
+    if (owned) ::close(fd);
+  }
+};
+
+// States the input without opening it (stat follows symlinks; standard input by its own
+// descriptor); false when it cannot be stated (the reader then reports that, naming the file).
+// Nothing is opened here: opening a FIFO, even briefly, would let its writer start and then
+// meet a closed pipe.
+bool stat_input(const std::string& path, InputFile& f) {
+  return path == "-" ? ::fstat(STDIN_FILENO, &f.st) == 0 : ::stat(path.c_str(), &f.st) == 0;
+}
+
+// Opens a regular file for pread, or takes standard input's descriptor without moving it.
+bool open_regular(const std::string& path, InputFile& f) {
+  if (path == "-") {
+    f.fd = STDIN_FILENO;
+    // Standard input from a regular file may have been opened part-way; its reader starts at
+    // the current offset, so the comparison does too.
+    const off_t at = ::lseek(f.fd, 0, SEEK_CUR);
+    f.start = at > 0 ? at : 0;
+    return true;
+  }
+  f.fd = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
+  f.owned = f.fd >= 0;
+  return f.owned;
+}
+
+// Reads `size` bytes at `offset` with pread, which leaves the descriptor's offset alone (POSIX
+// pread), so standard input is still read from where it stood.
+bool read_at(int fd, char* data, std::size_t size, off_t offset) {
+  while (size > 0) {
+    const ssize_t got = ::pread(fd, data, size, offset);
+    if (got < 0 && errno == EINTR) continue;
+    if (got <= 0) return false;
+    data += got;
+    size -= static_cast<std::size_t>(got);
+    offset += got;
+  }
+  return true;
+}
+
+// Byte-for-byte equality of two regular files of equal length, 64 KiB at a time (memory stays
+// bounded; two different recordings almost always differ in their first block). A read error
+// counts as "not shown equal": the readers then report it.
+bool same_bytes(const InputFile& a, const InputFile& b, off_t length) {
+  constexpr std::size_t kChunk = 64 * 1024;
+  std::vector<char> buf_a(kChunk), buf_b(kChunk);
+  for (off_t done = 0; done < length;) {
+    const auto n = static_cast<std::size_t>(std::min<off_t>(length - done, kChunk));
+    if (!read_at(a.fd, buf_a.data(), n, a.start + done) ||
+        !read_at(b.fd, buf_b.data(), n, b.start + done)) {
+      return false;
+    }
+    if (std::char_traits<char>::compare(buf_a.data(), buf_b.data(), n) != 0) return false;
+    done += static_cast<off_t>(n);
+  }
+  return true;
+}
+
+// Issue 9, item 8: a lead-swap needs two different recordings. The same capture given twice
+// (one path twice, a symlink or hard link to it, "-" and /dev/stdin) or a copy of it under
+// another name would be split into D = (N − S)/2 = 0 exactly and E = N, a "self-rectification"
+// drawn from no swap at all, so the pair is refused before any reading (exit 2). Identity is
+// by device and inode, as check_output_paths() compares paths; content is compared for two
+// regular files (size first, then bytes). A pipe or FIFO cannot be compared without consuming
+// it, so only its identity is checked; a compressed copy of an uncompressed capture is not
+// recognised either (its bytes differ).
+void refuse_identical_captures(const std::string& normal, const std::string& swapped) {
+  const std::string why =
+      "a lead-swap needs two different recordings, one with the supply's leads as normal and "
+      "one with them exchanged";
+  if (normal == "-" && swapped == "-") {
+    throw InputError(shown(swapped),
+                     "given as both NORMAL and SWAPPED: standard input can hold only one of the "
+                     "two captures, and " +
+                         why);
+  }
+  InputFile n, s;
+  if (!stat_input(normal, n) || !stat_input(swapped, s)) return;
+  if (n.st.st_dev == s.st.st_dev && n.st.st_ino == s.st.st_ino) {
+    throw InputError(shown(swapped), "is the same file as NORMAL (" + shown(normal) + "); " + why);
+  }
+  if (!S_ISREG(n.st.st_mode) || !S_ISREG(s.st.st_mode)) return;
+  if (!open_regular(normal, n) || !open_regular(swapped, s)) return;
+  const off_t n_length = n.st.st_size - n.start, s_length = s.st.st_size - s.start;
+  if (n_length != s_length || n_length <= 0) return;
+  if (same_bytes(n, s, n_length)) {
+    throw InputError(shown(swapped), "has the same content as NORMAL (" + shown(normal) +
+                                         "), byte for byte: a copy of one capture, but " + why);
+  }
 }
 
 }  // namespace
@@ -84,6 +201,7 @@ void setup_swap(CLI::App& app) {
 
 void run_swap(const SwapOptions& o) {
   check_output_paths({o.normal_path, o.swapped_path}, {{"--json", o.json_path, true}});
+  refuse_identical_captures(o.normal_path, o.swapped_path);
   // The output is opened first so that an unwritable target fails before two long reads.
   std::optional<AtomicOutput> json_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);

@@ -535,6 +535,51 @@ struct CycleEngine::Impl {
     return Estimate{value, u.expanded(), u.coverage_factor};
   }
 
+  // DC / RMS and DC / AC RMS, r = D/R, by first-order propagation (GUM, JCGM 100:2008, 5.1.2
+  // and 5.2.2 for correlated inputs):
+  //   u(r)² = (u_D/R)² + (D·u_R/R²)² − 2·D·u_D·u_R·ρ/R³.
+  // It is applied part by part with standard uncertainties, not to the finished Estimates:
+  //  - the probe's gain scales D and R alike and cancels in r (sensitivity 0); propagating it
+  //    through both Estimates as if independent would count it twice instead;
+  //  - the probe's offset δ (stated tolerance and `--zero` scatter, u_δ) is one input acting
+  //    on both: ∂D/∂δ = 1, ∂R/∂δ = D/R (R² = A² + D², A unmoved by an offset), hence
+  //    ∂(D/R)/∂δ = (R² − D²)/R³ and ∂(D/A)/∂δ = 1/A — fully correlated, summed before squaring;
+  //  - the type-A parts are the batch-means standard errors of the DC and of the mean square
+  //    (u_R = u(R²)/(2R), as in root()). Their correlation ρ would need cross-products of the
+  //    two batch series, which the accumulators do not keep, so ρ = 0 is used. For the usual
+  //    sources ρ has the sign of D (a DC swing moves R² = A² + D² with it; a self-rectifying
+  //    DC grows with the current), so dropping the term overstates u(r) rather than hiding
+  //    scatter; and for a DC small against the RMS the first term dominates anyway.
+  // Expansion: the larger of the two inputs' type-A coverage factors. Welch–Satterthwaite
+  // (GUM G.4.1) gives ν_eff ≥ the smallest ν_i, so the larger k (the fewer degrees of freedom)
+  // never under-covers, and for ≥ 30 degrees of freedom each (64 or more cycles) both are 2.
+  static Estimate dc_ratio(double d, double u_d, double k_d, double r, double u_r, double k_r,
+                           double offset_sensitivity, double u_offset) {
+    const double nan = std::numeric_limits<double>::quiet_NaN();
+    if (!(r > 0) || !std::isfinite(d)) return Estimate{nan, nan, 2};
+    const double a = u_d / r, b = d * u_r / (r * r), c = offset_sensitivity * u_offset;
+    const double k = std::max(k_d, k_r);
+    return Estimate{d / r, k * std::sqrt(a * a + b * b + c * c), k};
+  }
+  void dc_ratios(CycleSummary& s, const Accumulators& a, double u_offset) const {
+    // A standard error and its coverage factor, 0 and k = 2 when the series is too short for one
+    // (as estimate() leaves it out).
+    const auto type_a = [](const BatchMeans& b) {
+      const double se = b.standard_error();
+      if (!std::isfinite(se)) return std::pair<double, double>{0.0, 2.0};
+      return std::pair<double, double>{se, combine({{se, b.degrees_of_freedom()}}).coverage_factor};
+    };
+    const auto [u_d, k_d] = type_a(a.dc);
+    const auto [u_ms, k_ms] = type_a(a.ms);
+    const auto [u_ac_ms, k_ac_ms] = type_a(a.ac_ms);
+    const double d = a.dc.mean(), rms = s.rms_a.value, ac = s.ac_rms_a.value;
+    const double u_rms = rms > 0 ? u_ms / (2 * rms) : 0.0;
+    const double u_ac = ac > 0 ? u_ac_ms / (2 * ac) : 0.0;
+    const double c_rms = rms > 0 ? std::max(rms * rms - d * d, 0.0) / (rms * rms * rms) : 0.0;
+    s.dc_to_rms = dc_ratio(d, u_d, k_d, rms, u_rms, k_ms, c_rms, u_offset);
+    s.dc_to_ac_rms = dc_ratio(d, u_d, k_d, ac, u_ac, k_ac_ms, ac > 0 ? 1 / ac : 0.0, u_offset);
+  }
+
   void build_summary() {
     CycleSummary& s = summary;
     s.frames = next_index;
@@ -572,6 +617,7 @@ struct CycleEngine::Impl {
              {{u_gain_rel, 1e300},
               {rms > 0 ? std::hypot(u_off, zero.standard) * std::fabs(dc) / rms / rms : 0, 1e300}});
     s.ac_rms_a = root(a.ac_ms, {{u_gain_rel, 1e300}});
+    dc_ratios(s, a, std::hypot(u_off, zero.standard));
     const double period = span / static_cast<double>(s.cycles);
     const double share = a.share.mean();
     s.charge_positive_c =

@@ -66,6 +66,12 @@ std::string percent_text(double share) {
   return buf.data();
 }
 
+std::string hertz_text(double hz) {
+  std::array<char, 32> buf{};
+  std::snprintf(buf.data(), buf.size(), "%.6g Hz", hz);
+  return buf.data();
+}
+
 double relative_difference(double a, double b) {
   const double mean = 0.5 * (std::fabs(a) + std::fabs(b));
   return mean > 0 ? std::fabs(a - b) / mean : 0.0;
@@ -209,27 +215,51 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
                               "a clipped polarity fakes an asymmetry"
                             : "the swapped capture has no clipped cycle"});
 
-  // The test assumes one unit on one load: the two captures must agree in what the swap does
-  // not change.
+  // The test assumes one unit on one load (DOMAIN.md, lead-swap test): the exchange reverses
+  // one part of the DC and nothing else, so the fundamental and the AC RMS must repeat. A pair
+  // that differs in them may be two units, two loads or two set-ups, and its half difference
+  // and half sum mean nothing: the verdict is inconclusive, never a cause (issue 9, item 8).
+  // The frequency bar is the stated share or the difference's own relative u95, whichever is
+  // larger, so a pair is never refused on a difference its captures cannot resolve. The two
+  // captures' scatter is independent, so their u95 add in quadrature (GUM 5.1.2; exact for
+  // equal coverage factors, and each is k = 2 or close for any capture of many cycles).
+  const double f_mean =
+      0.5 * (std::fabs(ns.fundamental_hz.value) + std::fabs(ss.fundamental_hz.value));
+  const double f_u95_rel =
+      f_mean > 0 ? std::hypot(ns.fundamental_hz.u95, ss.fundamental_hz.u95) / f_mean : 0.0;
+  const double f_bar = std::max(th.frequency_mismatch, f_u95_rel);
   const double df = relative_difference(ns.fundamental_hz.value, ss.fundamental_hz.value);
   const double da = relative_difference(ns.ac_rms_a.value, ss.ac_rms_a.value);
-  const bool f_mismatch = df > th.frequency_mismatch;
-  const bool a_mismatch = da > th.ac_rms_mismatch;
-  r.evidence.push_back({"fundamental_mismatch", df, th.frequency_mismatch,
-                        f_mismatch ? "the two captures differ in fundamental frequency"
-                                   : "the two captures agree in fundamental frequency"});
+  const bool f_mismatch = !(df <= f_bar);  // a NaN (no fundamental) does not pass
+  const bool a_mismatch = !(da <= th.ac_rms_mismatch);
+  const std::string f_bar_text = f_bar > th.frequency_mismatch
+                                     ? "their combined relative u95, " + percent_text(f_bar) +
+                                           " (larger than the stated " +
+                                           percent_text(th.frequency_mismatch) + ")"
+                                     : percent_text(th.frequency_mismatch);
+  r.evidence.push_back(
+      {"fundamental_mismatch", df, f_bar,
+       f_mismatch ? "the two captures' fundamentals (" + hertz_text(ns.fundamental_hz.value) +
+                        ", " + hertz_text(ss.fundamental_hz.value) + ") differ by " +
+                        percent_text(df) + ", more than " + f_bar_text +
+                        ": they cannot be one unit on one load, so no cause is drawn"
+                  : "the two captures agree in fundamental frequency (within " + f_bar_text + ")"});
   r.evidence.push_back({"ac_rms_mismatch", da, th.ac_rms_mismatch,
-                        a_mismatch ? "the two captures differ in AC RMS current"
-                                   : "the two captures agree in AC RMS current"});
+                        a_mismatch
+                            ? "the two captures' AC RMS currents differ by " + percent_text(da) +
+                                  ", more than " + percent_text(th.ac_rms_mismatch) +
+                                  ": they cannot be one unit on one load, so no cause is drawn"
+                            : "the two captures agree in AC RMS current (within " +
+                                  percent_text(th.ac_rms_mismatch) + ")"});
   if (f_mismatch) {
     r.warnings.push_back("the two captures differ in fundamental by " + percent_text(df) +
-                         " (more than " + percent_text(th.frequency_mismatch) +
-                         "): they may not be the same unit on the same load");
+                         " (more than " + f_bar_text +
+                         "): they may not be the same unit on the same load; no cause is drawn");
   }
   if (a_mismatch) {
     r.warnings.push_back("the two captures differ in AC RMS by " + percent_text(da) +
                          " (more than " + percent_text(th.ac_rms_mismatch) +
-                         "): they may not be the same unit on the same load");
+                         "): they may not be the same unit on the same load; no cause is drawn");
   }
 
   const double ac_rms = 0.5 * (ns.ac_rms_a.value + ss.ac_rms_a.value);
@@ -250,10 +280,12 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   }
 
   // The verdict follows the DC offset's parts; the charge asymmetry's are a cross-check.
-  if (n_clipped || s_clipped) {
+  if (n_clipped || s_clipped || f_mismatch || a_mismatch) {
     r.verdict = Verdict::inconclusive;
     if (n_clipped) r.deciding.push_back("clipped_normal");
     if (s_clipped) r.deciding.push_back("clipped_swapped");
+    if (f_mismatch) r.deciding.push_back("fundamental_mismatch");
+    if (a_mismatch) r.deciding.push_back("ac_rms_mismatch");
   } else if (d_counts && e_counts) {
     r.verdict = Verdict::mixed;
     r.deciding = {"driver_bias", "electrode_bias"};
@@ -277,8 +309,8 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
   //    weakest part that counts (z = 2 gives 0.5, z = 10 gives 0.9); halved for each part that
   //    does not count but could (|value| + u95 reaches its share of |D| + |E|);
   //  - symmetric: 1 − (larger u95 of the parts)/(1 % of the AC RMS);
-  //  then halved for each mismatch between the captures (fundamental, AC RMS), and × 0.75 when
-  //  the charge asymmetry's parts disagree with the DC offset's about which part counts.
+  //  then × 0.75 when the charge asymmetry's parts disagree with the DC offset's about which
+  //  part counts. (A mismatch between the captures makes the verdict inconclusive, above.)
   double confidence = 0;
   const auto z = [](const Estimate& p) {
     return p.u95 > 0 ? std::fabs(p.value) / p.u95 : std::numeric_limits<double>::infinity();
@@ -303,8 +335,6 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
       break;
     }
   }
-  if (f_mismatch) confidence *= 0.5;
-  if (a_mismatch) confidence *= 0.5;
   if (!agree) confidence *= 0.75;
   r.confidence = std::clamp(confidence, 0.0, 1.0);
 
@@ -337,7 +367,13 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
         r.next_steps.push_back(
             "Widen the recorder's range (or choose a less sensitive probe range) until "
             "neither polarity clips, then record both captures again.");
-      } else {
+      }
+      if (f_mismatch || a_mismatch) {
+        r.next_steps.push_back(
+            "Record both captures on the same unit and load, warmed up alike, exchanging "
+            "only the supply's two output leads between them, and run the test again.");
+      }
+      if (!n_clipped && !s_clipped && !f_mismatch && !a_mismatch) {
         r.next_steps.push_back(
             "Record longer captures (more cycles); with a DC-passing probe subtract a "
             "zero stretch (--zero) or use a probe with a smaller offset tolerance, "
@@ -364,11 +400,6 @@ LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& s
       r.next_steps.push_back(driver_step);
       r.next_steps.push_back(electrode_step());
       break;
-  }
-  if (f_mismatch || a_mismatch) {
-    r.next_steps.push_back(
-        "Record both captures on the same unit and load, warmed up alike, and run "
-        "the test again.");
   }
   return r;
 }

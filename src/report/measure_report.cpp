@@ -104,6 +104,37 @@ void write_diagnosis_text(std::ostream& out, const MeasureResult& r) {
   out << "  Electrode A is the one the probed lead feeds: while i > 0, A is the anode.\n";
 }
 
+// The fundamental with as many digits as its u95 supports: u95 rounded to two significant
+// digits and the value to the same decimal place (GUM 7.2.6), in the value's SI prefix. The
+// generic formatter stops at 8 significant digits and prints a u95 below the last digit in
+// e-notation; a clean synthetic capture can give a u95 of 1e-16 of the value (rounding, not
+// measurement), so below 1e-9 of the value the u95 is only bounded, with 10 digits shown.
+std::string fundamental_text(const Estimate& f) {
+  if (!std::isfinite(f.value) || !(f.value > 0)) return "n/a";
+  SiPrefix p{1.0, ""};
+  for (const SiPrefix& q : si_prefixes()) {
+    if (f.value >= q.factor * 0.9995) {
+      p = q;
+      break;
+    }
+  }
+  const double v = f.value / p.factor;
+  const std::string unit = std::string(" ") + p.symbol + "Hz";
+  std::array<char, 96> buf{};
+  if (!std::isfinite(f.u95) || f.u95 < 1e-9 * f.value) {
+    const int d = std::clamp(9 - static_cast<int>(std::floor(std::log10(v))), 0, 12);
+    std::snprintf(buf.data(), buf.size(), "%.*f", d, v);
+    return buf.data() + unit + (std::isfinite(f.u95) ? " \xC2\xB1 < 1e-9 relative" : "");
+  }
+  const double u = f.u95 / p.factor;
+  int d = std::clamp(1 - static_cast<int>(std::floor(std::log10(u))), 0, 15);
+  // Two significant digits of u95 after rounding (9.96 rounds to 10, one place fewer).
+  if (std::round(u * std::pow(10.0, d)) >= 100 && d > 0) --d;
+  std::snprintf(buf.data(), buf.size(), "%.*f%s \xC2\xB1 %.*f%s", d, v, unit.c_str(), d, u,
+                unit.c_str());
+  return buf.data();
+}
+
 json estimate_or_null(const Estimate& e) {
   return std::isfinite(e.value) ? estimate_json(e) : json(nullptr);
 }
@@ -160,14 +191,16 @@ void write_measure_text(std::ostream& out, const MeasureResult& r) {
                               : std::string()) +
            ")");
   line(out, "fundamental",
-       format_with_uncertainty(s.fundamental_hz.value, s.fundamental_hz.u95, "Hz", false) +
-           "  (recorder clock tolerance not included)");
+       fundamental_text(s.fundamental_hz) + "  (recorder clock tolerance not included)");
   out << '\n';
   line(out, "DC offset",
        format_with_uncertainty(s.dc_offset_a.value, s.dc_offset_a.u95, "A", true) +
            (s.dc_significant ? "  significant" : "  not significant"));
   line(out, "RMS", format_with_uncertainty(s.rms_a.value, s.rms_a.u95, "A", false));
   line(out, "AC RMS", format_with_uncertainty(s.ac_rms_a.value, s.ac_rms_a.u95, "A", false));
+  line(out, "DC / RMS", format_percent_with_uncertainty(s.dc_to_rms.value, s.dc_to_rms.u95, true));
+  line(out, "DC / AC RMS",
+       format_percent_with_uncertainty(s.dc_to_ac_rms.value, s.dc_to_ac_rms.u95, true));
   line(out, "charge asymmetry",
        format_ratio_with_uncertainty(s.charge_asymmetry.value, s.charge_asymmetry.u95, true) +
            "  (Q+ \xE2\x88\x92 Q\xE2\x88\x92)/(Q+ + Q\xE2\x88\x92)");
@@ -259,6 +292,8 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   doc["dc_offset_a"] = dc;
   doc["rms_a"] = estimate_json(s.rms_a);
   doc["ac_rms_a"] = estimate_json(s.ac_rms_a);
+  doc["dc_to_rms"] = estimate_json(s.dc_to_rms);
+  doc["dc_to_ac_rms"] = estimate_json(s.dc_to_ac_rms);
   doc["charge_positive_c"] = estimate_json(s.charge_positive_c);
   doc["charge_negative_c"] = estimate_json(s.charge_negative_c);
   doc["charge_asymmetry"] = estimate_json(s.charge_asymmetry);
