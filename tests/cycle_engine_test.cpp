@@ -3,8 +3,10 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <random>
+#include <vector>
 
 #include "signals.hpp"
 
@@ -348,6 +350,132 @@ TEST(CycleEngineDcRatios, ProbeGainCancelsAndOffsetWidens) {
   // ∂(D/A)/∂δ = 1/A, so k·u ≥ 2 · 57.7 µA / 14.14 mA = 8.2e-3.
   EXPECT_GE(o.dc_to_ac_rms.u95, 2 * 0.0001 / std::sqrt(3.0) / o.ac_rms_a.value);
   EXPECT_GT(o.dc_to_rms.u95, plain.dc_to_rms.u95);
+}
+
+// --- clipping means the recorder's range was reached (issue 9, item 1) ---------------------
+
+// Feeds `x` (one current channel at `rate_hz`) through the engine in blocks of 4096 frames.
+test::EngineRun run_samples(const std::vector<double>& x, double rate_hz) {
+  CycleConfig config;
+  config.sample_rate_hz = rate_hz;
+  test::EngineRun run;
+  CycleEngine engine(config, [&run](const CycleRecord& r) { run.cycles.push_back(r); });
+  SampleBlock block;
+  block.channels = 1;
+  for (std::size_t at = 0; at < x.size(); at += 4096) {
+    const std::size_t n = std::min<std::size_t>(4096, x.size() - at);
+    block.data.assign(x.begin() + static_cast<std::ptrdiff_t>(at),
+                      x.begin() + static_cast<std::ptrdiff_t>(at + n));
+    block.frames = n;
+    engine.consume(block);
+  }
+  run.summary = engine.finish();
+  return run;
+}
+
+// An 8-bit recorder: 256 levels spread evenly over [−range, +range], step 2·range/255; each
+// sample is rounded to the nearest level (the ideal converter, any ADC text).
+double quantise_8bit(double x, double range) {
+  const double q = 2 * range / 255;
+  return -range + q * std::round((std::clamp(x, -range, range) + range) / q);
+}
+
+// A 1 A sine at `spc` samples a cycle for 60 cycles, start phase 0.3 rad, on an 8-bit range of
+// exactly ±1 A (the sine uses every level), optionally clipped at +clip_high before recording.
+std::vector<double> eight_bit_sine(double spc, double clip_high) {
+  std::vector<double> x;
+  const auto n = static_cast<std::size_t>(60 * spc);
+  for (std::size_t k = 0; k < n; ++k) {
+    const double v = std::sin(2 * M_PI * static_cast<double>(k) / spc + 0.3);
+    x.push_back(quantise_8bit(std::min(v, clip_high), 1.0));
+  }
+  return x;
+}
+
+TEST(CycleEngine, EightBitSineIsNotClipped) {
+  // Rounding keeps a 1 A sine on its top level while sin θ ≥ 1 − q/2, q = 2/255: for
+  // |θ| ≤ acos(1 − 1/255) = 0.0886 rad, about 11 samples of 400 (analytic), so the old rule
+  // (≥ 3 equal samples at the extreme) called every cycle clipped. The new rule allows
+  // 3·n_q + 2 with n_q = (400/π)·acos(1 − 2/255) = 16.0 samples, and the flank entering the
+  // top is a sine's, whose parabola peaks within a level of it: no cycle is clipped.
+  for (const double spc : {50.0, 400.0}) {
+    const auto run = run_samples(eight_bit_sine(spc, 2.0), 1e5);
+    const CycleSummary& r = run.summary;
+    EXPECT_GE(r.cycles, 57u) << spc;  // 60 periods less the partial ends (exact count aside)
+    EXPECT_EQ(r.clipped_positive, 0u) << spc;
+    EXPECT_EQ(r.clipped_negative, 0u) << spc;
+    if (spc == 400.0) {
+      std::uint64_t flat = 0;
+      for (const CycleRecord& c : run.cycles) flat += c.flat_top_positive ? 1 : 0;
+      EXPECT_EQ(flat, r.cycles);  // the plateau the old rule mistook for clipping is there
+    }
+  }
+}
+
+TEST(CycleEngine, EightBitSineClippedAtEightyPercentIsClipped) {
+  // The same sine clipped at +0.8 A before the recorder: the flat run lasts while sin θ ≥ 0.8,
+  // (π − 2·asin 0.8)/2π = 20.5 % of the cycle (elementary trigonometry), 82 of 400 samples or
+  // 10 of 50, against the allowance 3·n_q + 2 = 52 or 8.3 (n_q from q/A with A = 0.9 A, half
+  // the clipped peak-to-peak). Every whole cycle is clipped at the positive side, none at the
+  // negative one, where the sine's own crest is untouched.
+  for (const double spc : {50.0, 400.0}) {
+    const auto run = run_samples(eight_bit_sine(spc, 0.8), 1e5);
+    const CycleSummary& r = run.summary;
+    EXPECT_GE(r.cycles, 57u) << spc;
+    EXPECT_EQ(r.clipped_positive, r.cycles) << spc;
+    EXPECT_EQ(r.clipped_negative, 0u) << spc;
+    EXPECT_FALSE(r.warnings.empty()) << spc;
+  }
+}
+
+TEST(CycleEngine, NegativeClippingIsCountedOnTheNegativeSide) {
+  // The mirror image of the clipped sine: clipping shows on the polarity that was clipped.
+  std::vector<double> x = eight_bit_sine(400.0, 0.8);
+  for (double& v : x) v = -v;
+  const CycleSummary r = run_samples(x, 1e5).summary;
+  EXPECT_EQ(r.clipped_negative, r.cycles);
+  EXPECT_EQ(r.clipped_positive, 0u);
+}
+
+// A trapezoid current of ±1 A, 400 samples a cycle: ramps of `ramp` samples and flat tops of
+// 200 − ramp samples that the signal itself holds. `rounded` shapes each ramp as a half cosine
+// (a band-limited edge that bends onto the level) instead of a straight line.
+std::vector<double> trapezoid(double ramp, bool rounded, bool eight_bit) {
+  std::vector<double> x;
+  for (std::size_t k = 0; k < 60 * 400; ++k) {
+    const double t = std::fmod(static_cast<double>(k) + 17, 400.0);  // not starting on an edge
+    double v;
+    const auto edge = [&](double u) {  // −1 → +1 over u ∈ [0, 1]
+      return rounded ? -std::cos(M_PI * u) : 2 * u - 1;
+    };
+    if (t < ramp)
+      v = edge(t / ramp);
+    else if (t < 200)
+      v = 1;
+    else if (t < 200 + ramp)
+      v = -edge((t - 200) / ramp);
+    else
+      v = -1;
+    x.push_back(eight_bit ? quantise_8bit(v, 1.0) : v);
+  }
+  return x;
+}
+
+TEST(CycleEngine, TrapezoidWithGenuineFlatTopIsNotClipped) {
+  // Flat tops of 160 samples at the capture's extremes, far beyond any quantisation allowance,
+  // but the signal holds them: a straight ramp runs into the level with no bend (its second
+  // difference is within the ±2q rounding can make), and a half-cosine edge bends onto it
+  // (the parabola through the flank peaks about 1 % of A above the level, under the 2 % that
+  // would matter for the DC; cycle_engine.cpp). Neither is counted as clipped, at 8 bits or
+  // unquantised.
+  for (const bool rounded : {false, true}) {
+    for (const bool eight_bit : {false, true}) {
+      const CycleSummary r = run_samples(trapezoid(40, rounded, eight_bit), 1e5).summary;
+      EXPECT_GE(r.cycles, 58u) << rounded << eight_bit;
+      EXPECT_EQ(r.clipped_positive, 0u) << rounded << eight_bit;
+      EXPECT_EQ(r.clipped_negative, 0u) << rounded << eight_bit;
+    }
+  }
 }
 
 }  // namespace

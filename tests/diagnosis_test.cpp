@@ -82,6 +82,11 @@ TEST(Diagnosis, AsymmetryBuildingUpUnderASymmetricVoltageIsSelfRectification) {
   EXPECT_NEAR(d.course.build_up->tau_s.value, 0.5, 0.05);
   EXPECT_NEAR(d.course.build_up->plateau.value, 0.15 * 0.025 / M_PI, 0.02 * 0.15 * 0.025 / M_PI);
   EXPECT_LT(std::fabs(d.course.build_up->tau_s.value - 0.5), d.course.build_up->tau_s.u95 + 0.01);
+  // Issue 9: the amplitude (plateau − initial, ≈ εA/π from a symmetric start) is beyond its u95
+  // and far above the 0.2 % materiality bar (≈ 35 µA at 17.7 mA RMS).
+  EXPECT_NEAR(d.course.build_up->amplitude.value, 0.15 * 0.025 / M_PI, 0.1 * 0.15 * 0.025 / M_PI);
+  EXPECT_GT(std::fabs(d.course.build_up->amplitude.value), d.course.build_up->amplitude.u95);
+  EXPECT_GT(std::fabs(d.course.build_up->amplitude.value), 10 * d.course.material_dc_a);
 }
 
 TEST(Diagnosis, PolarityFlipWithCurrentOnly) {
@@ -191,6 +196,158 @@ TEST(TimeCourse, MillionsOfCyclesStayBoundedAndKeepTheFlip) {
   }
   EXPECT_EQ(flips, 1u);
   EXPECT_FALSE(r.steady);
+}
+
+}  // namespace
+}  // namespace lopside
+
+// --- issue 9, item 4: flips and build-ups only at real levels ------------------------------
+
+namespace lopside {
+namespace {
+
+// A cycle of a 50 Hz sine of RMS `rms` with DC `dc`: the charges follow from
+// Q+ − Q− = DC·T and Q+ + Q− = mean|i|·T, mean|i| = (2√2/π)·RMS for a sine (analytic).
+CycleRecord mains_cycle(std::uint64_t k, double rms, double dc) {
+  const double period = 1.0 / 50.0;
+  const double mean_abs = 2.0 * std::sqrt(2.0) / M_PI * rms;
+  CycleRecord c;
+  c.index = k;
+  c.start_s = static_cast<double>(k) * period;
+  c.period_s = period;
+  c.mean_a = dc;
+  c.ac_rms_a = rms;
+  c.rms_a = std::hypot(rms, dc);
+  c.charge_positive_c = 0.5 * (mean_abs + dc) * period;
+  c.charge_negative_c = 0.5 * (mean_abs - dc) * period;
+  c.charge_asymmetry = dc / mean_abs;
+  return c;
+}
+
+std::size_t count_flips(const TimeCourseResult& r) {
+  std::size_t flips = 0;
+  for (const Event& e : r.events) flips += e.kind == "flip" ? 1u : 0u;
+  return flips;
+}
+
+// What the rule before issue 9 counted: neighbouring segments of opposite sign, each beyond
+// its u95, whatever their size.
+std::size_t flips_by_uncertainty_alone(const TimeCourseResult& r) {
+  std::size_t flips = 0;
+  for (std::size_t k = 0; k + 1 < r.segments.size(); ++k) {
+    const Segment& p = r.segments[k];
+    const Segment& q = r.segments[k + 1];
+    if (p.mean_dc_a * q.mean_dc_a < 0 && std::fabs(p.mean_dc_a) > p.u95_a &&
+        std::fabs(q.mean_dc_a) > q.u95_a)
+      ++flips;
+  }
+  return flips;
+}
+
+TEST(TimeCourse, PpmWanderOnAQuietMainsRecordingIsSteady) {
+  // 50 Hz mains, 1 A RMS, 200 000 cycles (about 67 min): the DC wanders by ±5 ppm of the RMS
+  // (a 600 s sine about a 2 ppm offset) under 2 ppm per-cycle noise. The wander is resolved, so
+  // PELT cuts it into stretches of opposite sign beyond their u95, but every level is 400 times
+  // below the 0.2 % bar (kNegligibleDcShare): no flip, no build-up, no drift.
+  const double rms = 1.0;
+  TimeCourse course;
+  std::mt19937_64 rng(11);
+  std::normal_distribution<double> noise(0.0, 2e-6 * rms);
+  for (std::uint64_t k = 0; k < 200'000; ++k) {
+    const double t = static_cast<double>(k) / 50.0;
+    course.add(
+        mains_cycle(k, rms, rms * (2e-6 + 5e-6 * std::sin(2 * M_PI * t / 600.0)) + noise(rng)));
+  }
+  const TimeCourseResult r = course.finish();
+  EXPECT_NEAR(r.ac_rms_a, rms, 1e-12);               // every cycle has RMS 1 A
+  EXPECT_NEAR(r.material_dc_a, 0.002 * rms, 1e-12);  // 0.2 % of it
+  // The situation of issue 9: the old rule would have counted flips here.
+  EXPECT_GE(flips_by_uncertainty_alone(r), 1u);
+  EXPECT_EQ(count_flips(r), 0u);
+  for (const Segment& seg : r.segments) EXPECT_FALSE(seg.decided);
+  EXPECT_FALSE(r.build_up && r.build_up->significant);
+  EXPECT_FALSE(r.asymmetry_build_up && r.asymmetry_build_up->significant);
+  EXPECT_FALSE(r.drift_significant);
+  EXPECT_TRUE(r.steady);
+
+  // The diagnosis of such a capture: a DC of 2 ppm, shown (u95 0.5 ppm) but negligible.
+  CycleSummary s;
+  s.cycles = 200'000;
+  s.dc_offset_a = Estimate{2e-6 * rms, 0.5e-6 * rms, 2.0};
+  s.dc_significant = true;
+  s.ac_rms_a = Estimate{rms, 1e-6, 2.0};
+  s.charge_asymmetry = Estimate{2e-6 / 0.9, 0.5e-6, 2.0};
+  const Diagnosis d = diagnose(s, r);
+  EXPECT_NE(d.verdict, Verdict::self_rectification);
+  EXPECT_EQ(d.verdict, Verdict::symmetric);  // u95 ≪ 1 % of the RMS: README's rule
+  EXPECT_TRUE(has(d.deciding, "dc_negligible"));
+}
+
+TEST(Diagnosis, SymmetricMainsWithNoiseAndPpmWanderIsNotSelfRectification) {
+  // 50 Hz sine of 1 A peak at 10 kS/s for 30 s (1 500 cycles), white noise of 1 % of the peak;
+  // a wander of ±5 ppm of the RMS added to each cycle's DC (a 7 s sine about 3 ppm). Truth: no
+  // DC worth the name, so no flip, no build-up, verdict symmetric.
+  synth::CaptureSpec spec = test::sine_spec(50.0, 1.0, 10e3, 30.0);
+  spec.noise_rms_a = 0.01;
+  spec.timebase.start_phase_deg = 40;
+  CycleConfig config;
+  config.harmonics = HarmonicConfig{};
+  const auto run = test::run_engine(spec, config, 65536);
+  ASSERT_GE(run.summary.cycles, 1490u);
+  const double rms = 1.0 / std::sqrt(2.0);
+  TimeCourse course;
+  for (CycleRecord c : run.cycles) {
+    const double t = c.start_s + 0.5 * c.period_s;
+    c.mean_a += rms * (3e-6 + 5e-6 * std::sin(2 * M_PI * t / 7.0));
+    course.add(c);
+  }
+  const TimeCourseResult r = course.finish();
+  EXPECT_NEAR(r.ac_rms_a, rms, 0.01 * rms);  // the noise adds 0.01²/0.5 = 0.02 % in power
+  EXPECT_EQ(count_flips(r), 0u);
+  EXPECT_FALSE(r.build_up && r.build_up->significant);
+  EXPECT_TRUE(r.steady);
+  const Diagnosis d = diagnose(run.summary, r);
+  EXPECT_NE(d.verdict, Verdict::self_rectification);
+  // The DC's u95 is about 2·(0.01/√200)/√1500 ≈ 37 µA, far under 1 % of the RMS: symmetric.
+  EXPECT_EQ(d.verdict, Verdict::symmetric);
+  for (const Evidence& e : d.evidence) {
+    if (e.code == "polarity_flip") {
+      EXPECT_EQ(e.value, 0.0);
+    }
+  }
+}
+
+// A flip at 200 s of 20 000 cycles between ±`share` of the AC RMS, 100 ppm per-cycle noise:
+// each side's u95 is about 2 ppm, so either level is significant.
+TimeCourseResult flip_between(double share) {
+  const double rms = 1.0;
+  TimeCourse course;
+  std::mt19937_64 rng(5);
+  std::normal_distribution<double> noise(0.0, 1e-4 * rms);
+  for (std::uint64_t k = 0; k < 20'000; ++k) {
+    const double t = static_cast<double>(k) / 50.0;
+    course.add(mains_cycle(k, rms, (t < 200.0 ? share : -share) * rms + noise(rng)));
+  }
+  return course.finish();
+}
+
+TEST(TimeCourse, FlipBelowTheNegligibleBarIsNotCounted) {
+  // ±0.05 % of the RMS: significant (the old rule counts it) but a quarter of the 0.2 % bar.
+  const TimeCourseResult small = flip_between(0.0005);
+  EXPECT_GE(flips_by_uncertainty_alone(small), 1u);
+  EXPECT_EQ(count_flips(small), 0u);
+  EXPECT_TRUE(small.steady);
+  // The same flip at ±0.5 % of the RMS, above the bar, is counted, at its time (one point is
+  // 8 cycles = 0.16 s here) and with its levels within 10 ppm (u95 ≈ 2 ppm).
+  const TimeCourseResult real = flip_between(0.005);
+  ASSERT_EQ(count_flips(real), 1u);
+  for (const Event& e : real.events) {
+    if (e.kind != "flip") continue;
+    EXPECT_NEAR(e.time_s, 200.0, 0.5);
+    EXPECT_NEAR(e.level_before_a, 0.005, 1e-5);
+    EXPECT_NEAR(e.level_after_a, -0.005, 1e-5);
+  }
+  EXPECT_FALSE(real.steady);
 }
 
 }  // namespace

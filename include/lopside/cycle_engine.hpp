@@ -58,6 +58,11 @@ struct CycleRecord {
   double positive_share = 0;       ///< share of the period with i > 0
   bool flat_top_positive = false;  ///< the positive peak is held by ≥ 3 equal samples
   bool flat_top_negative = false;
+  /// The positive (negative) peak is clipped: a flat run too long for quantisation, between
+  /// flanks whose curvature says the peak would have gone further (rule in cycle_engine.cpp).
+  /// flat_top_* above stays the plain fact (≥ 3 equal samples), printed per cycle.
+  bool clipped_positive = false;
+  bool clipped_negative = false;
   bool has_voltage = false;  ///< the voltage fields below are measured
   // voltage (zero when there is no voltage channel)
   double voltage_mean_v = 0;
@@ -101,7 +106,8 @@ struct CycleSummary {
   Estimate positive_share;
   Estimate peak_positive_a, peak_negative_a;  ///< means of the per-cycle peaks
   double first_start_s = 0, last_end_s = 0;
-  std::uint64_t clipped_positive = 0;  ///< cycles whose positive peak sits on the extreme
+  /// Cycles whose positive peak is clipped (CycleRecord::clipped_positive) at the extreme.
+  std::uint64_t clipped_positive = 0;
   std::uint64_t clipped_negative = 0;
   double current_zero_a = 0;  ///< the subtracted probe offset
   bool has_voltage = false;

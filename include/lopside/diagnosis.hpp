@@ -41,8 +41,9 @@ struct Diagnosis {
 
 /// Thresholds of the evidence; the defaults are documented in README.md with their reasons.
 struct DiagnosisThresholds {
-  double voltage_dc_share = 0.005;           ///< |V_dc| / V_peak
-  double negligible_dc_share = 0.002;        ///< |DC| / AC RMS below which a DC does not matter
+  double voltage_dc_share = 0.005;  ///< |V_dc| / V_peak
+  /// |DC| / AC RMS below which a DC does not matter; the time course uses the same bar.
+  double negligible_dc_share = kNegligibleDcShare;
   double voltage_half_period_share = 0.003;  ///< |positive share − 0.5|
   double current_asymmetry = 0.01;           ///< |(Q+ − Q−)/(Q+ + Q−)|
   double burning_voltage_share = 0.03;       ///< |V+ − |V−|| / mean of the two

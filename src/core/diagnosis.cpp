@@ -168,7 +168,12 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
   }
 
   // --- the time course -------------------------------------------------------------------
-  const bool built_up = course.build_up && course.build_up->significant;
+  // A flip or a build-up must move the DC by a material amount, above the same bar that calls a
+  // DC negligible (issue 9, item 4): the time course applies its own (default) bar, and these
+  // thresholds are applied again so that a caller's negligible_dc_share holds here too.
+  const double material = th.negligible_dc_share * s.ac_rms_a.value;
+  const bool built_up = course.build_up && course.build_up->significant &&
+                        std::fabs(course.build_up->amplitude.value) > material;
   if (course.build_up) {
     add("dc_builds_up", built_up ? course.build_up->tau_s.value : 0.0, 0,
         built_up ? "The DC builds up after ignition with a time constant of " +
@@ -182,12 +187,17 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     self_codes.push_back("dc_builds_up");
   }
   std::size_t flips = 0;
-  for (const Event& e : course.events) flips += e.kind == "flip" ? 1u : 0u;
+  for (const Event& e : course.events) {
+    const bool real =
+        std::fabs(e.level_before_a) > material && std::fabs(e.level_after_a) > material;
+    flips += e.kind == "flip" && real ? 1u : 0u;
+  }
   add("polarity_flip", static_cast<double>(flips), 0,
       flips ? std::to_string(flips) +
                   " polarity flip(s): the discharge picks its cathode, so the "
                   "bias is the discharge's, not the supply's."
-            : "The DC keeps its sign throughout.");
+            : "The DC keeps its sign throughout (levels below " + pct(th.negligible_dc_share) +
+                  " of the AC current do not count).");
   if (flips) {
     self = true;
     self_codes.push_back("polarity_flip");

@@ -132,7 +132,9 @@ ExpFit fit_exp_at(const std::vector<double>& t, const std::vector<double>& y, do
   return f;
 }
 
-std::optional<BuildUp> fit_build_up(const std::vector<double>& t, const std::vector<double>& y) {
+// `bar`: the smallest |plateau − initial| that matters (the materiality bar in y's unit).
+std::optional<BuildUp> fit_build_up(const std::vector<double>& t, const std::vector<double>& y,
+                                    double bar) {
   const std::size_t n = t.size();
   if (n < 12) return std::nullopt;
   const double t0 = t.front();
@@ -185,24 +187,34 @@ std::optional<BuildUp> fit_build_up(const std::vector<double>& t, const std::vec
   out.initial = f.p + f.b;
   out.plateau.value = f.p;
   out.tau_s.value = f.tau;
+  out.amplitude.value = -f.b;  // plateau − initial = P − (P + B)
   if (std::fabs(det) > 0) {
     const double inv00 = (m[1][1] * m[2][2] - m[1][2] * m[2][1]) / det;
+    const double inv11 = (m[0][0] * m[2][2] - m[0][2] * m[2][0]) / det;
     const double inv22 = (m[0][0] * m[1][1] - m[0][1] * m[1][0]) / det;
     out.plateau.u95 = 2 * std::sqrt(std::max(0.0, s2 * inv00));
+    out.amplitude.u95 = 2 * std::sqrt(std::max(0.0, s2 * inv11));
     out.tau_s.u95 = 2 * std::sqrt(std::max(0.0, s2 * inv22));
+  } else {
+    // A singular fit resolves nothing: no amplitude can be shown.
+    out.amplitude.u95 = std::numeric_limits<double>::infinity();
   }
   // Significance: the exponential must beat a constant by an F-test at the 1 % level
   // (F(2, n − 3) ≈ 4.6 for large n; 10 is used, stricter, since neighbouring points are not
   // quite independent), τ must lie inside the record and be resolved, and the level must move
-  // away from zero: a DC that builds up, not one that decays.
+  // away from zero: a DC that builds up, not one that decays. Its amplitude must also be real
+  // (issue 9, item 4): beyond its own u95 and above the materiality bar, so that a fit to a
+  // wander of a few ppm of the AC RMS, however well resolved, is not a build-up.
   double mean = 0;
   for (double v : y) mean += v;
   mean /= static_cast<double>(n);
   double sse0 = 0;
   for (double v : y) sse0 += (v - mean) * (v - mean);
   const double fstat = ((sse0 - f.sse) / 2.0) / s2;
-  out.significant = fstat > 10.0 && f.tau > 1.5 * step && f.tau < 0.5 * span &&
-                    out.tau_s.u95 < f.tau && std::fabs(out.plateau.value) > std::fabs(out.initial);
+  out.significant =
+      fstat > 10.0 && f.tau > 1.5 * step && f.tau < 0.5 * span && out.tau_s.u95 < f.tau &&
+      std::fabs(out.plateau.value) > std::fabs(out.initial) &&
+      std::fabs(out.amplitude.value) > out.amplitude.u95 && std::fabs(out.amplitude.value) > bar;
   return out;
 }
 
@@ -215,6 +227,9 @@ void TimeCourse::add(const CycleRecord& c) {
   const double q = c.charge_positive_c + c.charge_negative_c;
   sum_asym_w_ += c.charge_asymmetry * q;
   sum_q_ += q;
+  total_ac2_t_ += c.ac_rms_a * c.ac_rms_a * c.period_s;
+  total_t_ += c.period_s;
+  total_q_ += q;
   ++open_.cycles;
   if (open_.cycles < per_point_) return;
   open_.time_s = sum_t_ / static_cast<double>(open_.cycles);
@@ -255,6 +270,15 @@ TimeCourseResult TimeCourse::finish() const {
     r.points.push_back(p);
   }
   r.cycles_per_point = per_point_;
+  // The materiality bar (kNegligibleDcShare): the AC RMS of the whole capture is the mean of
+  // the per-cycle squares weighted by duration. Without an AC RMS (records that carry none)
+  // the bar is 0 and only the uncertainty bars apply.
+  r.ac_rms_a = total_t_ > 0 ? std::sqrt(total_ac2_t_ / total_t_) : 0.0;
+  r.material_dc_a = material_share_ * r.ac_rms_a;
+  // The charge asymmetry (Q+ − Q−)/(Q+ + Q−) is exactly DC / mean|i|, since Q+ − Q− = ∫i dt:
+  // the same bar in its unit is material_dc_a / mean|i| (≈ 0.0022 for a sine at 0.2 %).
+  const double mean_abs_i = total_t_ > 0 ? total_q_ / total_t_ : 0.0;
+  const double material_asym = mean_abs_i > 0 ? r.material_dc_a / mean_abs_i : 0.0;
   const std::size_t n = r.points.size();
   std::vector<double> t(n), y(n), a(n);
   for (std::size_t i = 0; i < n; ++i) {
@@ -288,34 +312,48 @@ TimeCourseResult TimeCourse::finish() const {
   r.scatter_a = scatter;
   for (std::size_t k = 0; k < r.segments.size(); ++k) {
     const std::size_t s = starts[k], e = k + 1 < starts.size() ? starts[k + 1] : n;
-    r.segments[k].u95_a = 2.0 * std::max(scatter, sigma) / std::sqrt(static_cast<double>(e - s));
+    Segment& seg = r.segments[k];
+    seg.u95_a = 2.0 * std::max(scatter, sigma) / std::sqrt(static_cast<double>(e - s));
+    // A level the discharge "prefers" must be both shown (beyond its u95) and material (above
+    // the dc_negligible bar): PELT on a quiet capture splits a wander of a few ppm of the AC RMS
+    // into stretches whose means are beyond their tiny u95, and those are no cathode preference
+    // (issue 9, item 4).
+    seg.decided =
+        std::fabs(seg.mean_dc_a) > seg.u95_a && std::fabs(seg.mean_dc_a) > r.material_dc_a;
   }
-  // A flip: neighbouring segments of opposite sign, each significant (DOMAIN.md).
-  std::size_t first_flip_point = n;
-  for (std::size_t k = 0; k + 1 < r.segments.size(); ++k) {
-    const Segment& p = r.segments[k];
-    const Segment& q = r.segments[k + 1];
-    if (p.mean_dc_a * q.mean_dc_a < 0 && std::fabs(p.mean_dc_a) > p.u95_a &&
-        std::fabs(q.mean_dc_a) > q.u95_a) {
-      Event ev;
-      ev.kind = "flip";
-      ev.time_s = 0.5 * (p.end_s + q.start_s);
-      // The levels are those of the longest same-signed segment on either side: a point that
-      // straddles the flip forms a short segment of its own, of an in-between level.
-      const auto level = [&](std::size_t from, int dir) {
-        const Segment* best = &r.segments[from];
-        for (std::size_t j = from;; j = static_cast<std::size_t>(static_cast<long>(j) + dir)) {
-          if (r.segments[j].mean_dc_a * r.segments[from].mean_dc_a <= 0) break;
-          if (r.segments[j].points > best->points) best = &r.segments[j];
-          if ((dir < 0 && j == 0) || (dir > 0 && j + 1 == r.segments.size())) break;
-        }
-        return best->mean_dc_a;
-      };
-      ev.level_before_a = level(k, -1);
-      ev.level_after_a = level(k + 1, +1);
-      r.events.push_back(ev);
-      first_flip_point = std::min(first_flip_point, starts[k + 1]);
-    }
+  // A flip: two decided stretches of opposite sign with only undecided ones between them
+  // (DOMAIN.md: neighbouring segments differ in sign, each significant). An undecided stretch
+  // between them is the crossing itself (a point straddling the flip forms a short segment of
+  // an in-between level), so it is stepped over rather than breaking the flip.
+  std::vector<std::size_t> decided;
+  for (std::size_t k = 0; k < r.segments.size(); ++k)
+    if (r.segments[k].decided) decided.push_back(k);
+  std::size_t first_flip_point = n, last_flip_point = 0;
+  for (std::size_t d = 0; d + 1 < decided.size(); ++d) {
+    const Segment& p = r.segments[decided[d]];
+    const Segment& q = r.segments[decided[d + 1]];
+    if (p.mean_dc_a * q.mean_dc_a >= 0) continue;
+    Event ev;
+    ev.kind = "flip";
+    ev.time_s = 0.5 * (p.end_s + q.start_s);
+    // The levels are those of the longest decided stretch of the same sign on either side,
+    // not the in-between level of a stretch that straddles the flip.
+    const auto level = [&](std::size_t from, int dir) {
+      const double sign = r.segments[decided[from]].mean_dc_a;
+      const Segment* best = &r.segments[decided[from]];
+      for (std::size_t j = from;; j = static_cast<std::size_t>(static_cast<long>(j) + dir)) {
+        const Segment& sj = r.segments[decided[j]];
+        if (sj.mean_dc_a * sign <= 0) break;
+        if (sj.points > best->points) best = &sj;
+        if ((dir < 0 && j == 0) || (dir > 0 && j + 1 == decided.size())) break;
+      }
+      return best->mean_dc_a;
+    };
+    ev.level_before_a = level(d, -1);
+    ev.level_after_a = level(d + 1, +1);
+    r.events.push_back(ev);
+    first_flip_point = std::min(first_flip_point, starts[decided[d + 1]]);
+    last_flip_point = starts[decided[d + 1]];
   }
 
   // Build-up after ignition: on the stretch before any flip.
@@ -325,8 +363,8 @@ TimeCourseResult TimeCourse::finish() const {
                                y.begin() + static_cast<std::ptrdiff_t>(first_flip_point));
   const std::vector<double> ab(a.begin(),
                                a.begin() + static_cast<std::ptrdiff_t>(first_flip_point));
-  r.build_up = fit_build_up(tb, yb);
-  r.asymmetry_build_up = fit_build_up(tb, ab);
+  r.build_up = fit_build_up(tb, yb, r.material_dc_a);
+  r.asymmetry_build_up = fit_build_up(tb, ab, material_asym);
   if (r.build_up && r.build_up->significant) {
     Event ev;
     ev.kind = "build_up";
@@ -338,7 +376,7 @@ TimeCourseResult TimeCourse::finish() const {
   }
 
   // Slow drift: a straight line through the last stretch that is neither build-up nor flip.
-  std::size_t from = r.events.empty() || r.events.back().kind != "flip" ? 0 : starts.back();
+  std::size_t from = first_flip_point < n ? last_flip_point : 0;
   if (r.build_up && r.build_up->significant) {
     const double settled = r.build_up->start_s + 3.0 * r.build_up->tau_s.value;
     while (from < n && t[from] < settled) ++from;
@@ -348,7 +386,11 @@ TimeCourseResult TimeCourse::finish() const {
     const std::vector<double> yd(y.begin() + static_cast<std::ptrdiff_t>(from), y.end());
     const Line l = fit_line(td, yd);
     r.drift_a_per_s = Estimate{l.slope, 2.0 * l.u_slope, 2.0};
-    r.drift_significant = std::fabs(l.slope) > 2.0 * l.u_slope && l.u_slope > 0;
+    // Significant beyond its u95, and material: the change it makes over the stretch exceeds
+    // the dc_negligible bar (a slope of a few ppm of the AC RMS is "steady", issue 9, item 4).
+    const double change = std::fabs(l.slope) * (td.back() - td.front());
+    r.drift_significant =
+        std::fabs(l.slope) > 2.0 * l.u_slope && l.u_slope > 0 && change > r.material_dc_a;
   }
   bool flipped = false;
   for (const Event& e : r.events) flipped = flipped || e.kind == "flip";
