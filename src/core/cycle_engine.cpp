@@ -405,8 +405,7 @@ struct CycleEngine::Impl {
       if (acc.prev_sample_i == acc.min_i && b.i > acc.min_i && acc.run_min == acc.best_run_min)
         merge(acc.flank_best_min, flank(m, -1.0, false));
       acc.sample(b.i, b.v);
-    }
-    else if (!leading_partial)
+    } else if (!leading_partial)
       leading_partial = true;
   }
 
