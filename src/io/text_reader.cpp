@@ -611,11 +611,7 @@ class TextReader final : public SampleSource {
   // depends on where in the preamble a fact stands.
   void keep_metadata(std::string key, std::string value) {
     if (info_.metadata.size() >= kMaxMetadata || metadata_bytes_ >= kMaxMetadataBytes) {
-      const bool fact = is_vertical_unit_key(key) || is_horizontal_unit_key(key) ||
-                        is_channel_names_key(key) || is_source_key(key) ||
-                        stated_time_base({{key, value}}).interval_s.has_value() ||
-                        stated_time_base({{key, value}}).start_s.has_value();
-      if (!fact) {
+      if (!fact_pair(key, value)) {
         ++metadata_dropped_;
         return;
       }
@@ -901,15 +897,19 @@ class TextReader final : public SampleSource {
     return units > 0 && 2 * units >= filled;
   }
 
+  // A key/value that sets how the file is read: a unit, names, or the time base.
+  static bool fact_pair(const std::string& key, const std::string& value) {
+    if (is_vertical_unit_key(key) || is_horizontal_unit_key(key) || is_channel_names_key(key) ||
+        is_source_key(key))
+      return true;
+    const StatedTimeBase t = stated_time_base({{key, value}});
+    return t.interval_s.has_value() || t.start_s.has_value();
+  }
+
   // A line that states a time base or a unit is preamble, never a header.
   static bool keyed_fact(std::string_view text) {
     const auto kv = split_key_value(text);
-    if (!kv || kv->second.empty()) return false;
-    if (is_vertical_unit_key(kv->first) || is_horizontal_unit_key(kv->first) ||
-        is_channel_names_key(kv->first) || is_source_key(kv->first))
-      return true;
-    const StatedTimeBase t = stated_time_base({*kv});
-    return t.interval_s.has_value() || t.start_s.has_value();
+    return kv && !kv->second.empty() && fact_pair(kv->first, kv->second);
   }
 
   bool all_units(const std::vector<std::string>& cells) const {
