@@ -10,6 +10,8 @@
 //                boundaries the detector has placed.
 #include "lopside/cycle_engine.hpp"
 
+#include "lopside/clipping.hpp"
+
 #include <algorithm>
 #include <cmath>
 #include <deque>
@@ -46,13 +48,6 @@ struct Frame {
   double ref = 0, i = 0, v = 0;
 };
 
-// Three samples of a flank next to a flat run, h apart, p2 nearest the run, turned so that the
-// run is at the top; the mean of the entering and the leaving flank once the run has ended.
-struct Flank {
-  bool valid = false;
-  double p0 = 0, p1 = 0, p2 = 0;
-};
-
 // Integrals over the current cycle of the piecewise-linear signal between samples.
 struct CycleAccumulator {
   double duration = 0;
@@ -68,7 +63,7 @@ struct CycleAccumulator {
   // Clipping evidence for the current and the longest run at each peak: three samples of the
   // flank around the run, turned so the peak points up (see CycleEngine::Impl::flank); set by
   // the engine as each run starts and ends.
-  Flank flank_run_max, flank_best_max, flank_run_min, flank_best_min;
+  CrestFlank flank_run_max, flank_best_max, flank_run_min, flank_best_min;
   double prev_sample_i = std::numeric_limits<double>::quiet_NaN();
   std::uint64_t samples = 0;
   // Burning voltage: the voltage while |i| exceeds these thresholds (set from the previous
@@ -401,9 +396,9 @@ struct CycleEngine::Impl {
       if (b.i >= acc.max_i && acc.prev_sample_i != b.i) acc.flank_run_max = flank(m, +1.0, true);
       if (b.i <= acc.min_i && acc.prev_sample_i != b.i) acc.flank_run_min = flank(m, -1.0, true);
       if (acc.prev_sample_i == acc.max_i && b.i < acc.max_i && acc.run_max == acc.best_run_max)
-        merge(acc.flank_best_max, flank(m, +1.0, false));
+        merge_flank(acc.flank_best_max, flank(m, +1.0, false));
       if (acc.prev_sample_i == acc.min_i && b.i > acc.min_i && acc.run_min == acc.best_run_min)
-        merge(acc.flank_best_min, flank(m, -1.0, false));
+        merge_flank(acc.flank_best_min, flank(m, -1.0, false));
       acc.sample(b.i, b.v);
     } else if (!leading_partial)
       leading_partial = true;
@@ -411,16 +406,13 @@ struct CycleEngine::Impl {
 
   // The flank next to a flat run, for the clipping rule at close_cycle: entering a run that
   // starts at frame m, samples m−1, m−1−h, m−1−2h; leaving one whose first sample off the run
-  // is m, samples m, m+h, m+2h. sign is +1 for a run at the maximum, −1 at the minimum. The
-  // spacing h is a twentieth of a cycle, so on a sine the curvature over 2h is large against
-  // quantisation and noise (the second difference is ≈ −A·(2πh/N)²·cos φ, −0.07·A at φ = 45°
-  // from the crest), and at most 34 samples so the leaving flank is already in the ring
-  // (kLag frames ahead of the integrator) and the entering one still is.
-  Flank flank(std::uint64_t m, double sign, bool entering) const {
-    Flank f;
-    const double spc = std::isfinite(spc_estimate) ? spc_estimate : 680.0;
-    const auto h = static_cast<std::uint64_t>(std::clamp(std::lround(spc / 20), 1L, 34L));
-    static_assert(2 * 34 <= kLag && kRing >= kLag + 2 * 34 + 2);
+  // is m, samples m, m+h, m+2h (h = flank_spacing). sign is +1 for a run at the maximum, −1 at
+  // the minimum. h ≤ kMaxFlankSpacing keeps the leaving flank already in the ring (kLag frames
+  // ahead of the integrator) and the entering one still in it.
+  CrestFlank flank(std::uint64_t m, double sign, bool entering) const {
+    CrestFlank f;
+    const std::uint64_t h = flank_spacing(std::isfinite(spc_estimate) ? spc_estimate : 680.0);
+    static_assert(2 * kMaxFlankSpacing <= kLag && kRing >= kLag + 2 * kMaxFlankSpacing + 2);
     if (entering) {
       if (m < 1 + 2 * h) return f;
       f.p2 = sign * at(m - 1).i;
@@ -434,17 +426,6 @@ struct CycleEngine::Impl {
     }
     f.valid = true;
     return f;
-  }
-
-  static void merge(Flank& into, const Flank& other) {
-    if (!other.valid) return;
-    if (!into.valid) {
-      into = other;
-      return;
-    }
-    into.p0 = 0.5 * (into.p0 + other.p0);
-    into.p1 = 0.5 * (into.p1 + other.p1);
-    into.p2 = 0.5 * (into.p2 + other.p2);
   }
 
   void add_piece(const Frame& a, const Frame& b, std::uint64_t base, double from, double to) {
@@ -496,38 +477,10 @@ struct CycleEngine::Impl {
     r.positive_share = c.t_pos / T;
     r.flat_top_positive = c.best_run_max >= 3;
     r.flat_top_negative = c.best_run_min >= 3;
-    // Clipping (issue 9): the recorder's range was reached. The longest flat run at the peak,
-    // L samples, must be (1) too long for quantisation and (2) entered by a flank whose
-    // curvature says the peak would have gone on.
-    // (1) A sine of amplitude A and period T stays within q of its crest while
-    // A·cos(2πt/T) ≥ A − q, i.e. for |t| ≤ (T/2π)·acos(1 − q/A): a time (T/π)·acos(1 − q/A),
-    // about (T/π)·√(2q/A) by the series cos x = 1 − x²/2 + …. In samples, n_q = (N/π)·acos(1 −
-    // q/A) for N samples per cycle; a quantised crest sits on its top code for at most that
-    // (rounding keeps it there for the q/2 band, less). A run longer than 3·n_q + 2 is not
-    // quantisation: the factor 3 covers a non-sine crest up to three times as blunt, and the
-    // two samples the ends of a run can add. A is half the cycle's peak-to-peak (a clipped
-    // crest makes it smaller, so n_q larger: the test errs towards "not clipped").
-    // (2) The flank next to the run (Flank: three samples p0, p1, p2 at spacing h, p2 nearest
-    // the run, the mean of both sides when both are known) is fitted exactly by a parabola
-    // (Newton's divided differences, any numerical-analysis text): its second difference is
-    // k = p2 − 2·p1 + p0 and, when k < 0, its vertex lies at p1 + (p2 − p0)²/(8·|k|): where the
-    // flank's own curvature puts the crest. A run the signal really holds (a trapezoid, a
-    // square, a converter's level) is reached by a straight or steepening flank (k ≥ −2q, the
-    // most the rounding of three samples can make a second difference), by no flank at all
-    // (p2 ≤ p1: an edge, or samples already on a level), or by one that bends onto it (the
-    // vertex at the level). A clipped crest bends (k < −2q) and its vertex lies above the
-    // level by more than 2q and 2 % of A: cutting a sine's crest by δ·A moves the cycle mean by
-    // about 0.30·δ^1.5·A (the cut area (4/3)·δ·√(2δ)·A over 2π), 0.12 % of the RMS at δ = 2 %,
-    // below the README's 0.2 % "dc_negligible" limit; smaller cuts do not matter.
-    const auto clipped = [&](std::uint32_t run, const Flank& f, double level) {
-      const double a = 0.5 * (c.max_i - c.min_i), q = min_step;
-      if (run < 3 || !(a > 0) || !std::isfinite(q) || !f.valid || !(f.p2 > f.p1)) return false;
-      const double n = static_cast<double>(c.samples);
-      const double n_q = n / M_PI * std::acos(1 - std::min(q / a, 2.0));
-      const double k = f.p2 - 2 * f.p1 + f.p0;
-      if (!(static_cast<double>(run) > 3 * n_q + 2) || !(k < -2 * q)) return false;
-      const double vertex = f.p1 + (f.p2 - f.p0) * (f.p2 - f.p0) / (8 * -k);
-      return vertex - level > 2 * q + 0.02 * a;
+    // Clipping: the rule and its reasons are in clipping.cpp.
+    const auto clipped = [&](std::uint32_t run, const CrestFlank& f, double level) {
+      return crest_clipped(Crest{run, f, level, 0.5 * (c.max_i - c.min_i), min_step,
+                                 static_cast<double>(c.samples)});
     };
     r.clipped_positive = clipped(c.best_run_max, c.flank_best_max, c.max_i);
     r.clipped_negative = clipped(c.best_run_min, c.flank_best_min, -c.min_i);
