@@ -83,7 +83,8 @@ bool contains_ci(std::string hay, std::string needle) {
 // the rate is 1/1 µs = 1 MHz and the record lasts 10 × 1 µs = 10 µs.
 // current in mA: 0 25 25 25 0 −10 −25 −25 0 5
 //   min −25 mA, max 25 mA; mean (75 − 10 − 50 + 5)/10 = 2 mA;
-//   clipped: the run of three 25s counts (3 of 10 = 0.3), the two −25s do not.
+//   clipped: nothing. The run of three 25s is a level the record holds, with no whole cycle and
+//   no flank on both sides whose curvature says the crest would have gone further (clipping.hpp).
 // voltage in V: 0 10 20 … 90: min 0, max 90, mean 45, no run at either end.
 const int kRows = 10;
 const double kCurrentMa[kRows] = {0, 25, 25, 25, 0, -10, -25, -25, 0, 5};
@@ -151,8 +152,8 @@ TEST_F(Cli, InspectJsonGivesTheReferenceValues) {
   EXPECT_NEAR(i.at("min").get<double>(), -0.025, 1e-15);
   EXPECT_NEAR(i.at("max").get<double>(), 0.025, 1e-15);
   EXPECT_NEAR(i.at("mean").get<double>(), 0.002, 1e-15);
-  EXPECT_DOUBLE_EQ(i.at("clipped_share").get<double>(), 0.3);
-  EXPECT_DOUBLE_EQ(i.at("clipped_max_share").get<double>(), 0.3);
+  EXPECT_DOUBLE_EQ(i.at("clipped_share").get<double>(), 0.0);
+  EXPECT_DOUBLE_EQ(i.at("clipped_max_share").get<double>(), 0.0);
   EXPECT_DOUBLE_EQ(i.at("clipped_min_share").get<double>(), 0.0);
 
   const json& u = j.at("channels").at(1);
@@ -169,7 +170,7 @@ TEST_F(Cli, InspectJsonGivesTheReferenceValues) {
     const std::string text = w.get<std::string>();
     if (contains_ci(text, "clipped") && contains_ci(text, "channel 1")) clip_warning = true;
   }
-  EXPECT_TRUE(clip_warning) << j.at("warnings").dump();
+  EXPECT_FALSE(clip_warning) << j.at("warnings").dump();
 }
 
 TEST_F(Cli, InspectTextSummary) {
@@ -184,7 +185,7 @@ TEST_F(Cli, InspectTextSummary) {
   EXPECT_NE(r.out.find("-25.00 mA"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("25.00 mA"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("90.00 V"), std::string::npos) << r.out;
-  EXPECT_NE(r.out.find("30.00 %"), std::string::npos) << r.out;  // 3 of 10 samples clipped
+  EXPECT_NE(r.out.find("0.00 %"), std::string::npos) << r.out;  // nothing clipped
   EXPECT_NE(r.out.find("current"), std::string::npos) << r.out;
 }
 
@@ -461,7 +462,9 @@ TEST_F(Cli, ShippedClippedSampleIsFlagged) {
 
 // 50 whole cycles of a 1 kHz sine of 0.2 (in the file's unit) on a DC of 0.01, 100 samples a
 // cycle: the mean over whole cycles is the DC exactly (the sine's samples cancel, DFT
-// orthogonality), so the expected DC is 0.01 × the gain to printing's 1e-9.
+// orthogonality), so the expected DC is 0.01 × the gain, to 1e-7 of the sine's peak: the first
+// boundary lies within 16 samples of the record's start, where the band-limited integral uses
+// its shorter kernel (edge_weights.hpp, ~2e-6 of the amplitude on that one cycle of 49).
 std::string probe_csv(const std::string& header) {
   std::string text = header + "\n";
   char row[96];
@@ -481,15 +484,15 @@ TEST_F(Cli, CurrentInVoltsIsRefusedUntilTheProbeRatioIsGiven) {
   EXPECT_NE(refused.err.find("--gain 1="), std::string::npos) << refused.err;
   // 100 mV/A: 10 A per volt.
   const json j = run_json({"measure", volts.string(), "--gain", "1=10", "--json", "-"});
-  EXPECT_NEAR(j["dc_offset_a"]["value"].get<double>(), 0.1, 1e-8);
+  EXPECT_NEAR(j["dc_offset_a"]["value"].get<double>(), 0.1, 10 * 0.2 * 1e-7);
   const json a = run_json({"measure", volts.string(), "--unit", "1=A", "--json", "-"});
-  EXPECT_NEAR(a["dc_offset_a"]["value"].get<double>(), 0.01, 1e-9);
+  EXPECT_NEAR(a["dc_offset_a"]["value"].get<double>(), 0.01, 0.2 * 1e-7);
 }
 
 TEST_F(Cli, CurrentWithoutAUnitIsTakenAsAmperesAndSaid) {
   const fs::path bare = file("probe_bare.csv", probe_csv("time (s),probe"));
   const json j = run_json({"measure", bare.string(), "--json", "-"});
-  EXPECT_NEAR(j["dc_offset_a"]["value"].get<double>(), 0.01, 1e-9);
+  EXPECT_NEAR(j["dc_offset_a"]["value"].get<double>(), 0.01, 0.2 * 1e-7);
   bool said = false;
   for (const auto& w : j["warnings"])
     said = said || w.get<std::string>().find("taken as amperes") != std::string::npos;

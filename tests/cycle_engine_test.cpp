@@ -67,7 +67,10 @@ TEST(CycleEngine, HalfWaveRectifiedSine) {
   const CycleSummary r = run_engine(s).summary;
   EXPECT_NEAR(r.dc_offset_a.value, 2.0 / M_PI, 2.0 * 3e-4);  // 0.03 % of peak
   EXPECT_NEAR(r.rms_a.value, 1.0, 1.0 * 1e-3);
-  EXPECT_NEAR(r.charge_asymmetry.value, 1.0, 1e-9);  // no negative charge at all
+  // No negative charge at all. The integral is of the band-limited reconstruction, and the kink
+  // where the lobe meets zero is not band-limited: the kernel rings there by ~1e-6 of the
+  // cycle's charge (measured 9.8e-7 at 1000 samples per cycle), so the check allows 1e-5.
+  EXPECT_NEAR(r.charge_asymmetry.value, 1.0, 1e-5);
   EXPECT_NEAR(r.positive_share.value, 0.5, 1e-3);
 }
 

@@ -378,5 +378,195 @@ TEST(LeadSwap, AsymmetryDisagreeingWithTheDcLowersTheConfidence) {
   EXPECT_NEAR(r.confidence, 0.75 * 0.95, 1e-9);
 }
 
+// --- repeat of the normal capture (N, S, N') ------------------------------------------------
+
+bool has_step(const LeadSwapResult& r, const std::string& part) {
+  for (const auto& s : r.next_steps) {
+    if (s.find(part) != std::string::npos) return true;
+  }
+  return false;
+}
+
+TEST(LeadSwapRepeat, RepeatWithinItsUncertaintyIsBiasReturnedAndTheSplitUsesTheMean) {
+  // N = +1.000 mA, S = −1.000 mA, N' = +1.002 mA, each with u = 2 µA (ν = ∞).
+  // N' − N = 2 µA; its u95 = 2·√(2² + 2²) µA = 5.66 µA (GUM 5.1.2, independent captures): within.
+  // The normal used is (N + N')/2 = 1.001 mA with u = ½·√(2² + 2²) = 1.41 µA (GUM 4.2.1, 5.1.2),
+  // so D = (1.001 + 1.000)/2 = 1.0005 mA and E = (1.001 − 1.000)/2 = 0.0005 mA, each with
+  // u = ½·√(1.41² + 2²) = ½·√6 µA (against ½·√8 µA from N alone: the mean is the better normal).
+  const double u = 2 * kUa;
+  const auto r = analyse_lead_swap(capture(1.000 * kMa, u), capture(-1.000 * kMa, u),
+                                   capture(1.002 * kMa, u), probe_on(ProbeOn::electrode));
+  ASSERT_TRUE(r.repeat.has_value());
+  EXPECT_EQ(r.repeat->outcome, RepeatOutcome::bias_returned);
+  EXPECT_STREQ(to_string(r.repeat->outcome), "bias_returned");
+  EXPECT_TRUE(r.repeat->mean_used);
+  EXPECT_NEAR(r.repeat->difference_dc_a.value, 2 * kUa, 1e-12);
+  EXPECT_NEAR(r.repeat->difference_dc_a.u95, 2 * std::sqrt(8.0) * kUa, 1e-12);
+  EXPECT_NEAR(r.repeat->normal_used_dc_a.value, 1.001 * kMa, 1e-12);
+  EXPECT_NEAR(r.repeat->normal_used_dc_a.u95, 2 * 0.5 * std::sqrt(8.0) * kUa, 1e-12);
+  EXPECT_NEAR(r.driver_bias_a.value, 1.0005 * kMa, 1e-12);
+  EXPECT_NEAR(r.electrode_bias_a.value, 0.0005 * kMa, 1e-12);
+  EXPECT_NEAR(r.driver_bias_a.u95, 2 * 0.5 * std::sqrt(6.0) * kUa, 1e-12);
+  EXPECT_NEAR(r.electrode_bias_a.u95, 2 * 0.5 * std::sqrt(6.0) * kUa, 1e-12);
+  // The pair alone would have had ½·√8 µA: the repeat narrows the parts.
+  const auto pair_only = analyse_lead_swap(capture(1.000 * kMa, u), capture(-1.000 * kMa, u),
+                                           probe_on(ProbeOn::electrode));
+  EXPECT_NEAR(pair_only.driver_bias_a.u95, 2 * 0.5 * std::sqrt(8.0) * kUa, 1e-12);
+  EXPECT_FALSE(pair_only.repeat.has_value());
+  // The cause stands; with the bias shown to come back, no step asks for a repeat.
+  EXPECT_EQ(r.verdict, Verdict::driver_imbalance);
+  EXPECT_FALSE(has_step(r, "NORMAL_AGAIN"));
+  EXPECT_TRUE(has_step(pair_only, "NORMAL_AGAIN"));
+  const Evidence* e = evidence(r, "repeat_changed");
+  ASSERT_NE(e, nullptr);
+  EXPECT_NE(e->text.find("came back"), std::string::npos) << e->text;
+  // The materiality bar: kNegligibleDcShare (0.2 %) of the 17 mA AC RMS = 34 µA.
+  EXPECT_NEAR(r.repeat->material_dc_a, 0.002 * 0.017, 1e-15);
+  EXPECT_NEAR(e->threshold, 0.002 * 0.017, 1e-15);
+  EXPECT_TRUE(r.warnings.empty()) << r.warnings.front();
+}
+
+TEST(LeadSwapRepeat, ProbeOffsetCancelsInTheRepeatDifference) {
+  // One probe took N and N': its offset (±0.3 mA, u = a/√3, GUM 4.3.7) moves both alike
+  // (GUM 5.2.2, r = +1), so N' − N carries none of it; its gain (±1 %) scales the difference.
+  const double u = 2 * kUa, g = 0.01 / std::sqrt(3.0);
+  const auto plain = analyse_lead_swap(capture(1.000 * kMa, u), capture(-1.000 * kMa, u),
+                                       capture(1.004 * kMa, u), probe_on(ProbeOn::electrode));
+  const auto probed =
+      analyse_lead_swap(capture(1.000 * kMa, u), capture(-1.000 * kMa, u), capture(1.004 * kMa, u),
+                        probe_on(ProbeOn::electrode, 0.3 * kMa, 1.0));
+  ASSERT_TRUE(plain.repeat && probed.repeat);
+  EXPECT_NEAR(probed.repeat->difference_dc_a.u95,
+              2 * std::sqrt(2 * u * u + g * g * 4 * kUa * 4 * kUa), 1e-12);
+  EXPECT_NEAR(plain.repeat->difference_dc_a.u95, 2 * std::sqrt(2.0) * u, 1e-12);
+  // The repeat alone carries the whole offset, as `measure` would state it.
+  EXPECT_NEAR(probed.repeat->again_dc_a.u95,
+              2 * std::sqrt(u * u + 0.09 * kMa * kMa / 3 + g * g * 1.004 * 1.004 * kMa * kMa),
+              1e-12);
+}
+
+TEST(LeadSwapRepeat, OppositeElectrodeBiasInTheRepeatIsInconclusive) {
+  // A self-rectifying discharge whose preferred cathode flipped after N: E = +1 mA in N, then
+  // −1 mA in S and in N'. N = +1 mA, S = −1 mA reads as a pure supply part (D = 1 mA), the
+  // trap DOMAIN.md names; N' = −1 mA shows it: N' − N = −2 mA, far beyond its u95 (5.66 µA) and
+  // the materiality bar (34 µA).
+  const double u = 2 * kUa;
+  const auto pair_only =
+      analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u), probe_on(ProbeOn::electrode));
+  EXPECT_EQ(pair_only.verdict, Verdict::driver_imbalance);
+  const auto r = analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u), capture(-1 * kMa, u),
+                                   probe_on(ProbeOn::electrode));
+  ASSERT_TRUE(r.repeat.has_value());
+  EXPECT_EQ(r.repeat->outcome, RepeatOutcome::bias_changed);
+  EXPECT_FALSE(r.repeat->mean_used);
+  EXPECT_EQ(r.verdict, Verdict::inconclusive);
+  EXPECT_DOUBLE_EQ(r.confidence, 0.0);
+  ASSERT_EQ(r.deciding.size(), 1u);
+  EXPECT_EQ(r.deciding[0], "repeat_changed");
+  const Evidence* e = evidence(r, "repeat_changed");
+  ASSERT_NE(e, nullptr);
+  EXPECT_NEAR(e->value, -2 * kMa, 1e-12);
+  EXPECT_NEAR(e->threshold, 0.002 * 0.017, 1e-15);  // the bar, larger than the u95 here
+  EXPECT_NE(e->text.find("did not come back"), std::string::npos) << e->text;
+  EXPECT_NE(e->text.find("cannot be trusted"), std::string::npos) << e->text;
+  EXPECT_TRUE(has_warning(r, "cannot be trusted"));
+  EXPECT_TRUE(has_step(r, "settles"));
+  // Without the mean, the split is the pair's own: shown, not trusted.
+  EXPECT_NEAR(r.driver_bias_a.value, 1 * kMa, 1e-12);
+  // The asymmetry follows the DC here (capture() derives it from the DC): it changed too.
+  const Evidence* a = evidence(r, "repeat_asymmetry_changed");
+  ASSERT_NE(a, nullptr);
+  EXPECT_NE(a->text.find("did not come back"), std::string::npos) << a->text;
+  EXPECT_FALSE(has_warning(r, "disagree about whether"));
+}
+
+TEST(LeadSwapRepeat, TheMaterialityBarSeparatesDriftFromChange) {
+  // u = 2 µA: u95 of N' − N = 5.66 µA; the bar is 0.2 % of 17 mA = 34 µA (kNegligibleDcShare).
+  const double u = 2 * kUa;
+  const auto run = [&](double again_a) {
+    return analyse_lead_swap(capture(1 * kMa, u), capture(-1 * kMa, u),
+                             capture(1 * kMa + again_a, u), probe_on(ProbeOn::electrode));
+  };
+  // 30 µA: significant, under the bar: drifted. The normal used is the mean, its u widened by
+  // the rectangular half-width 15 µA (u = 15/√3 µA, GUM 4.3.7): u(N̄) = √(1² + 1² + 75) µA.
+  const auto drift = run(30 * kUa);
+  ASSERT_TRUE(drift.repeat.has_value());
+  EXPECT_EQ(drift.repeat->outcome, RepeatOutcome::bias_drifted);
+  EXPECT_TRUE(drift.repeat->mean_used);
+  EXPECT_NEAR(drift.repeat->normal_used_dc_a.value, 1.015 * kMa, 1e-12);
+  EXPECT_NEAR(drift.repeat->normal_used_dc_a.u95, 2 * std::sqrt(2.0 + 75.0) * kUa, 1e-12);
+  // D = (N̄ − S)/2 with u = ½·√(u(N̄)² + u(S)²) = ½·√(77 + 4) µA.
+  EXPECT_NEAR(drift.driver_bias_a.value, 1.0075 * kMa, 1e-12);
+  EXPECT_NEAR(drift.driver_bias_a.u95, 2 * 0.5 * std::sqrt(81.0) * kUa, 1e-12);
+  EXPECT_EQ(drift.verdict, Verdict::driver_imbalance);
+  EXPECT_TRUE(has_warning(drift, "materiality bar"));
+  // 40 µA: significant and over the bar: changed, no cause.
+  const auto change = run(40 * kUa);
+  EXPECT_EQ(change.repeat->outcome, RepeatOutcome::bias_changed);
+  EXPECT_EQ(change.verdict, Verdict::inconclusive);
+  // 5 µA: within the u95 of 5.66 µA: returned.
+  EXPECT_EQ(run(5 * kUa).repeat->outcome, RepeatOutcome::bias_returned);
+  EXPECT_EQ(run(-6 * kUa).repeat->outcome, RepeatOutcome::bias_drifted);
+}
+
+TEST(LeadSwapRepeat, ARepeatThatIsNotTheSameSetUpIsInconclusive) {
+  const double u = 2 * kUa;
+  const SwapCapture n = capture(1 * kMa, u), s = capture(-1 * kMa, u);
+  // 32 against 33 kHz: 1/32.5 = 3.1 % > 2 %, the pair's own bar.
+  const auto freq = analyse_lead_swap(n, s, capture(1 * kMa, u, std::nullopt, std::nullopt, 33000),
+                                      probe_on(ProbeOn::electrode));
+  EXPECT_EQ(freq.repeat->outcome, RepeatOutcome::inconclusive);
+  EXPECT_EQ(freq.verdict, Verdict::inconclusive);
+  ASSERT_EQ(freq.deciding.size(), 1u);
+  EXPECT_EQ(freq.deciding[0], "repeat_fundamental_mismatch");
+  EXPECT_NEAR(evidence(freq, "repeat_fundamental_mismatch")->value, 1000.0 / 32500.0, 1e-12);
+  EXPECT_TRUE(has_warning(freq, "the repeat and the first normal capture differ in fundamental"));
+  EXPECT_TRUE(has_step(freq, "same unit and load as the first normal capture"));
+  // 17 against 22 mA AC RMS: 5/19.5 = 25.6 % > 20 %.
+  const auto rms =
+      analyse_lead_swap(n, s, capture(1 * kMa, u, std::nullopt, std::nullopt, 32000, 0.022),
+                        probe_on(ProbeOn::electrode));
+  EXPECT_EQ(rms.verdict, Verdict::inconclusive);
+  ASSERT_EQ(rms.deciding.size(), 1u);
+  EXPECT_EQ(rms.deciding[0], "repeat_ac_rms_mismatch");
+  EXPECT_NEAR(evidence(rms, "repeat_ac_rms_mismatch")->value, 5.0 / 19.5, 1e-12);
+  // A clipped repeat fakes an asymmetry like any clipped capture.
+  SwapCapture clipped = capture(1 * kMa, u);
+  clipped.summary.clipped_positive = 7;
+  const auto clip = analyse_lead_swap(n, s, clipped, probe_on(ProbeOn::electrode));
+  EXPECT_EQ(clip.verdict, Verdict::inconclusive);
+  ASSERT_EQ(clip.deciding.size(), 1u);
+  EXPECT_EQ(clip.deciding[0], "clipped_repeat");
+  EXPECT_DOUBLE_EQ(evidence(clip, "clipped_repeat")->value, 7.0);
+  EXPECT_TRUE(has_step(clip, "all three captures"));
+}
+
+TEST(LeadSwapRepeat, AsymmetryDifferenceCarriesTheOffsetThroughEachSensitivity) {
+  // ∂A/∂δ = T/(Q+ + Q−) per capture: a repeat carrying 10 % less charge has c larger by 1/0.9,
+  // so the shared offset leaves (c_N' − c_N)·u(δ) in A' − A (GUM 5.2.2, r = +1).
+  const double u_a = 1e-4, offset = 0.2 * kMa;
+  SwapCapture again = capture(0, 1 * kUa, 0.05, u_a);
+  again.summary.charge_positive_c.value *= 0.9;
+  again.summary.charge_negative_c.value *= 0.9;
+  const auto r = analyse_lead_swap(capture(0, 1 * kUa, 0.05, u_a), capture(0, 1 * kUa, -0.01, u_a),
+                                   again, probe_on(ProbeOn::electrode, offset));
+  const double c_n = M_PI / (2 * 0.025), c_a = c_n / 0.9, u_off = offset / std::sqrt(3.0);
+  ASSERT_TRUE(r.repeat.has_value());
+  EXPECT_NEAR(r.repeat->difference_asymmetry.value, 0.0, 1e-15);
+  EXPECT_NEAR(r.repeat->difference_asymmetry.u95,
+              2 * std::sqrt(2 * u_a * u_a + std::pow((c_a - c_n) * u_off, 2)), 1e-9);
+}
+
+TEST(LeadSwapRepeat, ProbeOnSupplyUsesTheMeanToo) {
+  // Probe on a supply terminal: D = (N̄ + S)/2, E = (N̄ − S)/2 with N̄ = (N + N')/2.
+  // N = 3 mA, N' = 3.002 mA, S = −1 mA: N̄ = 3.001 mA, D = 1.0005 mA, E = 2.0005 mA.
+  const double u = 2 * kUa;
+  const auto r = analyse_lead_swap(capture(3 * kMa, u), capture(-1 * kMa, u),
+                                   capture(3.002 * kMa, u), probe_on(ProbeOn::supply));
+  EXPECT_EQ(r.repeat->outcome, RepeatOutcome::bias_returned);
+  EXPECT_NEAR(r.driver_bias_a.value, 1.0005 * kMa, 1e-12);
+  EXPECT_NEAR(r.electrode_bias_a.value, 2.0005 * kMa, 1e-12);
+}
+
 }  // namespace
 }  // namespace lopside

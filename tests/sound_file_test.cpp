@@ -356,6 +356,79 @@ TEST(SoundFileReader, HandMade16BitWavNormalisesByTwoToTheFifteen) {
   }
 }
 
+TEST(SoundFileReader, IntegerFormatsStateTheirFullScale) {
+  // b-bit PCM holds codes −2^(b−1) … 2^(b−1) − 1, read as code/2^(b−1) (libsndfile's
+  // normalisation, checked above): full scale is [−1, 1 − 2^−(b−1)] times --scale and --gain.
+  // The writer puts ±1 on the end codes, so those samples read back exactly on the bounds.
+  TempDir dir;
+  const std::vector<double> in{1.0, -1.0, 0.25};
+  struct Case {
+    SoundContainer container;
+    SoundSampleFormat format;
+    const char* name;
+    double top;  // 1 − 2^−(b−1)
+  };
+  for (const Case& c :
+       {Case{SoundContainer::wav, SoundSampleFormat::pcm16, "a.wav", 32767.0 / 32768},
+        Case{SoundContainer::wav, SoundSampleFormat::pcm24, "b.wav", 8388607.0 / 8388608},
+        Case{SoundContainer::wav, SoundSampleFormat::pcm32, "c.wav", 2147483647.0 / 2147483648},
+        Case{SoundContainer::flac, SoundSampleFormat::pcm16, "d.flac", 32767.0 / 32768}}) {
+    SCOPED_TRACE(c.name);
+    const fs::path path = dir / c.name;
+    lopside::SoundFileWriter w;
+    w.open(path, c.container, c.format, 1, 8000);
+    w.write(in.data(), in.size());
+    w.close();
+    ReaderOptions o;
+    o.scales["1"] = 0.08;  // 80 mA full scale
+    auto source = lopside::open_sound_file(path, o);
+    const lopside::ChannelInfo& ch = source->info().channels[0];
+    ASSERT_TRUE(ch.full_scale_high.has_value());
+    ASSERT_TRUE(ch.full_scale_low.has_value());
+    EXPECT_EQ(*ch.full_scale_high, c.top * 0.08);
+    EXPECT_EQ(*ch.full_scale_low, -0.08);
+    const std::vector<double> got = read_all(*source);
+    ASSERT_EQ(got.size(), 3u);
+    EXPECT_EQ(got[0], *ch.full_scale_high);
+    EXPECT_EQ(got[1], *ch.full_scale_low);
+  }
+  // A negative gain turns the range over: code −32768 is now the highest value.
+  {
+    ReaderOptions o;
+    o.scales["1"] = 0.08;
+    o.gains["1"] = -2;
+    auto source = lopside::open_sound_file(dir / "a.wav", o);
+    const lopside::ChannelInfo& ch = source->info().channels[0];
+    EXPECT_EQ(*ch.full_scale_high, 0.16);
+    EXPECT_EQ(*ch.full_scale_low, -32767.0 / 32768 * 0.16);
+    const std::vector<double> got = read_all(*source);
+    EXPECT_EQ(got[0], *ch.full_scale_low);
+    EXPECT_EQ(got[1], *ch.full_scale_high);
+  }
+  // Float samples have no integer full scale (they hold values beyond ±1, test above).
+  const fs::path float_path = dir / "f.wav";
+  lopside::SoundFileWriter w;
+  w.open(float_path, SoundContainer::wav, SoundSampleFormat::float32, 1, 8000);
+  w.write(in.data(), in.size());
+  w.close();
+  auto source = lopside::open_sound_file(float_path, {});
+  EXPECT_FALSE(source->info().channels[0].full_scale_high.has_value());
+  EXPECT_FALSE(source->info().channels[0].full_scale_low.has_value());
+}
+
+TEST(SoundFileReader, EightBitUnsignedWavFullScale) {
+  // 8-bit WAV bytes 0…255 read as (u − 128)/128 (the test below): full scale [−1, 127/128].
+  TempDir dir;
+  const fs::path path = dir / "u8.wav";
+  pcm_wav(1, 8, {255, 0, 128}, 3).save(path);
+  auto source = lopside::open_sound_file(path, {});
+  const lopside::ChannelInfo& ch = source->info().channels[0];
+  ASSERT_TRUE(ch.full_scale_high.has_value());
+  EXPECT_EQ(*ch.full_scale_high, 127.0 / 128);
+  EXPECT_EQ(*ch.full_scale_low, -1.0);
+  EXPECT_EQ(read_all(*source), (std::vector<double>{127.0 / 128, -1.0, 0.0}));
+}
+
 TEST(SoundFileReader, HandMade8BitWavIsUnsignedAroundOneTwentyEight) {
   TempDir dir;
   const fs::path path = dir / "hand8.wav";

@@ -259,6 +259,158 @@ TEST_F(Swap, StandardInputTwiceExitsTwo) {
       << r.err;
 }
 
+// --- the repeat of the normal capture (N, S, N') ------------------------------------------
+
+TEST_F(Swap, NormalRepeatedFromTheSameUnitBringsTheBiasBack) {
+  // One unit (supply share 0.52, lobes 1 : 0.9) recorded N, S, N' with different noise seeds:
+  // N' has the same truth as N, so N' − N is noise alone, inside its u95, and D and E drawn
+  // from (N + N')/2 keep the truth (A/π)(2s − 1)(1 + r) and (A/π)(1 − r) within 3 % of the
+  // whole, as the pair does.
+  const double share = 0.52, ratio = 0.9;
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52", "--negative-ratio", "0.9"}, 31);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48", "--negative-ratio", "0.9"}, 32);
+  const fs::path again = capture("again.csv",
+                                 {"--positive-share", "0.52", "--negative-ratio", "0.9",
+                                  "--preamble", "--meta", "Serial=U-17"},
+                                 33);
+  std::vector<std::string> args{"swap", n.string(), s.string(), again.string(), "--json", "-"};
+  const json j = run_json(args);
+  ASSERT_TRUE(j["repeat"].is_object()) << j.dump();
+  const json& rep = j["repeat"];
+  EXPECT_EQ(rep["path"], again.string());
+  // N' − N is noise alone here, so it stays inside its u95 with 95 % probability (GUM 6.2.2)
+  // and lands beyond it one time in twenty; the rule then reads a drift, never a change: a
+  // change needs the materiality bar too, 0.2 % of 16.8 mA = 34 µA, some 17 standard
+  // deviations of this noise (u95 ≈ 4 µA, k = 2). Either way the bias came back and the split
+  // uses the mean. (These seeds give 4.4 µA against a u95 of 4.0 µA: a drift.)
+  const double diff = rep["difference_dc_a"]["value"].get<double>();
+  const double diff_u95 = rep["difference_dc_a"]["u95"].get<double>();
+  EXPECT_EQ(rep["outcome"], std::fabs(diff) <= diff_u95 ? "bias_returned" : "bias_drifted");
+  EXPECT_LT(std::fabs(diff), rep["material_dc_a"].get<double>());
+  EXPECT_TRUE(rep["mean_used"].get<bool>());
+  // N' − N is the difference of the two captures' own figures (each measured alone).
+  EXPECT_NEAR(
+      diff,
+      rep["dc_offset_a"]["value"].get<double>() - j["normal"]["dc_offset_a"]["value"].get<double>(),
+      1e-12);
+  // The materiality bar: 0.2 % (kNegligibleDcShare, README `dc_negligible`) of the mean AC RMS
+  // of N and N'.
+  EXPECT_NEAR(rep["material_dc_a"].get<double>(),
+              0.002 * 0.5 * (j["normal"]["ac_rms_a"].get<double>() + rep["ac_rms_a"].get<double>()),
+              1e-15);
+  // The split uses the mean of the two normals: D = (N̄ − S)/2, E = (N̄ + S)/2 on the reported
+  // figures, and both within 3 % of |D| + |E| of the generator's truth.
+  const double mean = 0.5 * (j["normal"]["dc_offset_a"]["value"].get<double>() +
+                             rep["dc_offset_a"]["value"].get<double>());
+  EXPECT_NEAR(rep["normal_used_dc_a"]["value"].get<double>(), mean, 1e-12);
+  const double swapped = j["swapped"]["dc_offset_a"]["value"].get<double>();
+  EXPECT_NEAR(j["driver_bias_a"]["value"].get<double>(), 0.5 * (mean - swapped), 1e-12);
+  EXPECT_NEAR(j["electrode_bias_a"]["value"].get<double>(), 0.5 * (mean + swapped), 1e-12);
+  expect_parts(j, driver_truth(share, ratio), electrode_truth(ratio));
+  EXPECT_EQ(j["verdict"], "mixed");
+  EXPECT_EQ(j["formulas"]["normal"], "(N + N')/2");
+  // The third capture's metadata travels with it, as the others' do.
+  EXPECT_EQ(rep["metadata"]["Serial"], "U-17") << rep["metadata"].dump();
+  for (const char* key : {"charge_asymmetry", "difference_asymmetry", "fundamental_hz", "ac_rms_a",
+                          "cycle_count", "clipped_cycles"}) {
+    EXPECT_TRUE(rep.contains(key)) << key;
+  }
+  EXPECT_TRUE(rep["difference_dc_a"].contains("u95"));
+
+  // The text names the repeat, its outcome, and keeps the caution.
+  const RunResult t = run({"swap", n.string(), s.string(), again.string()});
+  ASSERT_EQ(t.status, 0) << t.err;
+  EXPECT_NE(t.out.find("normal again (N')"), std::string::npos) << t.out;
+  EXPECT_NE(t.out.find(rep["outcome"].get<std::string>()), std::string::npos) << t.out;
+  EXPECT_NE(t.out.find("(N + N')/2"), std::string::npos) << t.out;
+  EXPECT_NE(t.out.find("High voltage can kill"), std::string::npos);
+}
+
+TEST_F(Swap, CathodeChangeBetweenCapturesIsCaughtByTheRepeat) {
+  // A self-rectifying discharge (lobes 1 : 0.9, no supply part) whose preferred cathode flips
+  // after N: in S and in N' the electrodes' bias is reversed (positive peak r·A, negative A).
+  // The pair alone reads it as a supply part, D = (A/π)(1 − r) and E = 0, the trap DOMAIN.md
+  // names. N' shows it: N' − N = (2/π)(rA/2 − A/2) − (2A/π)(1/2 − r/2) = −(2A/π)(1 − r)
+  // = −1.59 mA, far beyond the 0.2 % materiality bar (34 µA), so the verdict is inconclusive.
+  const double ratio = 0.9;
+  const std::string mirrored = std::to_string(1 / ratio);
+  const fs::path n = capture("n.csv", {"--negative-ratio", "0.9"}, 41);
+  const fs::path s = capture("s.csv", {"--negative-ratio", mirrored}, 42, 32000, ratio * kPeakA);
+  const fs::path again =
+      capture("again.csv", {"--negative-ratio", mirrored}, 43, 32000, ratio * kPeakA);
+  const json pair = swap_json(n, s);
+  expect_parts(pair, electrode_truth(ratio), 0.0);
+  EXPECT_EQ(pair["verdict"], "driver_imbalance");
+  EXPECT_TRUE(pair["repeat"].is_null());
+
+  const json j = run_json({"swap", n.string(), s.string(), again.string(), "--json", "-"});
+  EXPECT_EQ(j["verdict"], "inconclusive");
+  EXPECT_EQ(j["confidence"].get<double>(), 0.0);
+  EXPECT_EQ(j["deciding"], json::array({"repeat_changed"}));
+  EXPECT_EQ(j["repeat"]["outcome"], "bias_changed");
+  const double truth = -2 * kPeakA / M_PI * (1 - ratio);
+  // 3 % of the change, as the parts' acceptance above (noise u95 ~4 µA, boundaries ~0.03 % of
+  // peak, DOMAIN.md).
+  EXPECT_NEAR(j["repeat"]["difference_dc_a"]["value"].get<double>(), truth,
+              0.03 * std::fabs(truth));
+  const json e = evidence_entry(j, "repeat_changed");
+  ASSERT_TRUE(e.is_object()) << j["evidence"].dump();
+  EXPECT_NEAR(e["value"].get<double>(), truth, 0.03 * std::fabs(truth));
+  EXPECT_NE(e["text"].get<std::string>().find("cannot be trusted"), std::string::npos);
+  EXPECT_TRUE(has_warning(j, "the bias of the repeat of the normal capture differs"))
+      << j["warnings"].dump();
+  ASSERT_FALSE(j["next_steps"].empty());
+  EXPECT_NE(j["next_steps"][0].get<std::string>().find("settles"), std::string::npos);
+  EXPECT_FALSE(j["repeat"]["mean_used"].get<bool>());
+
+  const RunResult t = run({"swap", n.string(), s.string(), again.string()});
+  ASSERT_EQ(t.status, 0) << t.err;
+  EXPECT_NE(t.out.find("normal again (N')   " + again.string()), std::string::npos) << t.out;
+  EXPECT_NE(t.out.find("bias_changed"), std::string::npos) << t.out;
+  EXPECT_NE(t.out.find("High voltage can kill"), std::string::npos);
+}
+
+TEST_F(Swap, RepeatAtAnotherFrequencyIsInconclusive) {
+  // N' at 33 kHz against N at 32 kHz: 3.1 % apart, over the pair's 2 % bar.
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 44);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 45);
+  const fs::path again = capture("again.csv", {"--positive-share", "0.52"}, 46, 33000);
+  const json j = run_json({"swap", n.string(), s.string(), again.string(), "--json", "-"});
+  EXPECT_EQ(j["verdict"], "inconclusive");
+  EXPECT_EQ(j["deciding"], json::array({"repeat_fundamental_mismatch"}));
+  EXPECT_EQ(j["repeat"]["outcome"], "inconclusive");
+  EXPECT_NEAR(evidence_entry(j, "repeat_fundamental_mismatch")["value"].get<double>(), 1.0 / 32.5,
+              1e-3);
+}
+
+TEST_F(Swap, RepeatThatIsNoNewRecordingExitsTwo) {
+  const fs::path n = capture("n.csv", {"--positive-share", "0.52"}, 47);
+  const fs::path s = capture("s.csv", {"--positive-share", "0.48"}, 48);
+  // NORMAL given again: it would "come back" by construction.
+  const RunResult same = run({"swap", n.string(), s.string(), n.string()});
+  EXPECT_EQ(same.status, 2);
+  EXPECT_NE(same.err.find(n.string() + ": is the same file as NORMAL (" + n.string() + ")"),
+            std::string::npos)
+      << same.err;
+  EXPECT_NE(same.err.find("must be a new recording"), std::string::npos) << same.err;
+  // A copy of SWAPPED under another name.
+  const fs::path copy = dir_ / "copy.csv";
+  fs::copy_file(s, copy);
+  const RunResult c = run({"swap", n.string(), s.string(), copy.string()});
+  EXPECT_EQ(c.status, 2);
+  EXPECT_NE(c.err.find(copy.string() + ": has the same content as SWAPPED (" + s.string() + ")"),
+            std::string::npos)
+      << c.err;
+  // Standard input as two of the three.
+  const RunResult in = run({"swap", n.string(), "-", "-"});
+  EXPECT_EQ(in.status, 2);
+  EXPECT_NE(in.err.find("given as both SWAPPED and NORMAL_AGAIN"), std::string::npos) << in.err;
+  // A fourth capture is not part of the test.
+  const fs::path extra = capture("extra.csv", {"--positive-share", "0.52"}, 49);
+  const fs::path again = capture("again.csv", {"--positive-share", "0.52"}, 50);
+  EXPECT_EQ(run({"swap", n.string(), s.string(), again.string(), extra.string()}).status, 2);
+}
+
 TEST_F(Swap, JsonCarriesTheSchemaAndEveryKey) {
   const fs::path n = capture("n.csv", {"--negative-ratio", "0.9"}, 15);
   const fs::path s = capture("s.csv", {"--negative-ratio", "0.9"}, 16);

@@ -22,6 +22,13 @@
 
 namespace lopside {
 
+/// Which channel's rising crossings set the cycles.
+enum class CycleReference {
+  automatic,  ///< the voltage when it is present and periodic, else the current
+  current,
+  voltage,  ///< needs a voltage channel
+};
+
 /// How the engine is set up; validated once by the CycleEngine constructor.
 struct CycleConfig {
   double sample_rate_hz = 0;                   ///< > 0 [Hz]
@@ -39,6 +46,19 @@ struct CycleConfig {
   std::optional<std::pair<double, double>> exclude_s;
   /// Cycle-synchronous harmonics of the current; sample_rate_hz is filled in by the engine.
   std::optional<HarmonicConfig> harmonics;
+  CycleReference reference = CycleReference::automatic;
+  /// The recorder's range for the current as the file's integer encoding states it (WAV/FLAC/
+  /// AIFF), in A before the --zero offset is taken off; a crest on it is clipped.
+  std::optional<double> current_full_scale_low_a, current_full_scale_high_a;
+};
+
+/// A stretch of the record left out of the summary, and why.
+struct Exclusion {
+  double start_s = 0, end_s = 0;
+  /// "not_finite" (a NaN or infinite sample), "glitch" (a peak beyond kGlitchFactor times the
+  /// typical swing), "irregular" (a period outside ±kPeriodTolerance of the running one: a
+  /// dropout, a missed or a doubled crossing).
+  std::string reason;
 };
 
 /// One whole cycle, integrated over its exact fractional-sample span.
@@ -91,6 +111,17 @@ struct CycleSummary {
   std::uint64_t cycles = 0;
   std::uint64_t partial_cycles = 0;   ///< incomplete cycles at the ends, left out
   std::uint64_t excluded_cycles = 0;  ///< whole cycles in the `--zero` stretch, left out
+  /// Cycles left out because a sample in or next to them is not finite, holds a glitch, or
+  /// because their period is irregular (Exclusion::reason); not in `cycles`.
+  std::uint64_t not_finite_cycles = 0, glitch_cycles = 0, irregular_cycles = 0;
+  std::uint64_t not_finite_samples = 0;  ///< NaN or infinite samples of the current or voltage
+  /// The first kMaxExclusions such stretches, in time order.
+  std::vector<Exclusion> exclusions;
+  /// False when the reference has no periodic fundamental (noise, a single transient): most of
+  /// its "cycles" are irregular. The figures are then meaningless and the caller refuses them.
+  bool periodic = true;
+  /// Why the reference is the channel it is, when not the plain default (empty otherwise).
+  std::string reference_note;
   std::uint64_t frames = 0;
   double samples_per_cycle = 0;  ///< mean period over the sampling interval
   std::string reference;         ///< "voltage" or "current": the channel whose crossings set cycles
@@ -127,6 +158,17 @@ struct CycleSummary {
 
 class CycleEngine {
  public:
+  /// A cycle whose period differs from the running period by more than this share is
+  /// irregular. Our own bench choice: a resonant inverter's frequency follows its load and the
+  /// mains ripple by a few per cent, up to ±10 % for self-oscillating drivers (common
+  /// practice), well inside ±30 %; a dropped or doubled crossing changes a period by 50 % or
+  /// more.
+  static constexpr double kPeriodTolerance = 0.3;
+  /// A cycle whose current strays from its mean by more than this many times the typical half
+  /// swing holds a glitch. Our own choice: no discharge changes its peak tenfold from one
+  /// cycle to the next, while a spark gap's or a corona's pulse heights scatter by a few times.
+  static constexpr double kGlitchFactor = 10;
+  static constexpr std::size_t kMaxExclusions = 20;
   /// Frames held to learn the reference's level and swing before the first cycle.
   static constexpr std::size_t kAcquireFrames = 1 << 20;
 

@@ -4,7 +4,11 @@
 /// to the measured cycle boundaries (M points per cycle), so harmonic n falls exactly on bin
 /// n·B of one FFT of the block (B cycles): no window, no leakage, even under frequency drift.
 /// The even harmonics are the second witness of a hidden DC: a waveform with half-wave symmetry
-/// f(t + T/2) = −f(t) has neither DC nor even orders (DOMAIN.md).
+/// f(t + T/2) = −f(t) has neither DC nor even orders (DOMAIN.md). The bins between harmonics
+/// hold what the block's cycles do not share (noise, interharmonics): they give each order a
+/// local noise floor, against which the order is tested for significance (an F-test of its
+/// power), so that an even order counts as evidence only where it stands above the capture's
+/// own noise.
 
 #include <cstddef>
 #include <cstdint>
@@ -33,6 +37,33 @@ struct HarmonicOrder {
   double phase_spread_deg = 0;        ///< circular standard deviation of the phase [°]
   std::optional<double> group_rms_a;  ///< IEC 61000-4-7 harmonic group (mains only)
   std::optional<double> subgroup_rms_a;  ///< IEC 61000-4-7 harmonic subgroup (mains only)
+  /// Expanded uncertainty (95 %) of amplitude_a [A], type A (GUM 4.2): the block-to-block
+  /// scatter over effective_blocks independent blocks, k = t95(effective_blocks − 1) (2 for
+  /// ν ≥ 30). With one block, from the noise floor instead (noise_floor_a/√2, ν = 2 per floor
+  /// bin). Orders ≥ 1 add the noise's lift of the mean amplitude, ā − √(P − noise_floor_a²)
+  /// with P the mean squared amplitude: amplitude_a is left uncorrected, as the mean over blocks.
+  double u95_a = 0;
+  /// Independent blocks the scatter is worth after the lag-1 autocorrelation r1 of the
+  /// per-block amplitudes: n(1 − r1)/(1 + r1) for r1 > 0, within [2, n]; n otherwise.
+  double effective_blocks = 0;
+  /// Local noise floor [A, peak scale like amplitude_a]: the rms amplitude one block's bin
+  /// shows from noise alone, √(mean |bin amplitude|²) over the non-harmonic bins n·B ± d,
+  /// d = 2 … ⌊B/2⌋ (the nearer half of the gap on each side; the direct neighbours, where a
+  /// wandering harmonic leaks, left out when B ≥ 4), pooled over blocks. Same bin width as the
+  /// harmonic bin, so the same noise power when the noise is white across a few orders: white
+  /// noise of standard deviation σ gives 2σ/√S, S the recorded samples per block. In rms terms
+  /// noise_floor_a/√2. 0 for order 0, and with 1-cycle blocks (no bins between orders).
+  double noise_floor_a = 0;
+  /// The amplitude at which the order's expected power reaches the significance threshold [A]
+  /// (found about half the time), or the analyser's resolution (1e-4 of the fundamental's
+  /// amplitude) if that is larger. 0 when not assessed.
+  double detection_limit_a = 0;
+  /// The order stands above the capture's own noise: its mean power over blocks exceeds the
+  /// local floor's by more than noise alone does with probability
+  /// HarmonicSummary::false_alarm_per_order (F-test), and its amplitude exceeds the resolution.
+  /// Not tied to u95_a: a drifting order is present, though its mean is uncertain.
+  /// Order 0: |DC| > u95_a.
+  bool significant = false;
 };
 
 struct HarmonicSummary {
@@ -51,6 +82,24 @@ struct HarmonicSummary {
   double even_harmonic_share = 0;
   /// DC over the fundamental's rms value, I0/I1.
   double dc_to_fundamental = 0;
+  /// Typical noise floor [A, peak scale]: the median of the orders' noise_floor_a over orders
+  /// 2 … max_usable_order (the median ignores the few orders next to a strong component).
+  double noise_floor_a = 0;
+  bool noise_floor_known = false;  ///< the blocks had bins between orders (≥ 2 cycles a block)
+  /// Probability that an order carrying noise only is flagged significant (per order, per
+  /// capture), for Gaussian noise that is locally white: the F-test's size.
+  double false_alarm_per_order = 0;
+  /// Even-harmonic evidence can be judged: at least one block, a noise floor, order 2 resolved.
+  /// When false, the even_significant_* figures below say nothing (not "no even harmonics").
+  bool even_evidence_available = false;
+  std::vector<std::size_t> even_significant_orders;  ///< even orders n ≥ 2 flagged significant
+  /// √(Σ over even_significant_orders of (rms_a² − noise_floor_a²/2)) [A rms]: the even
+  /// harmonics' rms value with the noise's share taken out; 0 when none is significant.
+  double even_significant_rms_a = 0;
+  /// Expanded uncertainty (95 %) of even_significant_rms_a [A] (GUM 5.1.2 and G.4: block
+  /// scatter of each order's power and the floors' sampling error, Welch–Satterthwaite);
+  /// 0 when no even order is significant (then each order's detection_limit_a bounds it).
+  double even_rms_u95_a = 0;
   std::vector<std::string> warnings;
 };
 

@@ -34,8 +34,11 @@ void write_inspect_text(std::ostream& out, const InspectResult& result);
 
 /// The same as one JSON object (schema kInspectSchema), SI units throughout:
 /// schema, path, format, detail, sample_rate_hz, samples, duration_s, start_time_s,
-/// channels[{index, name, unit, role, min, max, mean, clipped_share, clipped_max_share,
-/// clipped_min_share}], warnings[]. Unknown values are null.
+/// channels[{index, name, unit, unit_is_si, role, min, max, mean, clipped_share,
+/// clipped_max_share, clipped_min_share, clipped_max_crests, clipped_min_crests,
+/// full_scale_min, full_scale_max}], metadata, warnings[]. Unknown values are null. The clipped
+/// shares count the samples in runs that ChannelSummary calls clipped (the clipping rule, or
+/// the integer full scale); full_scale_min/max are ChannelInfo's, null for float and text.
 void write_inspect_json(std::ostream& out, const InspectResult& result);
 
 }  // namespace lopside

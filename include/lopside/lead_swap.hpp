@@ -10,12 +10,18 @@
 ///                     N = D + E, S = D − E   →  D = (N + S)/2, E = (N − S)/2.
 /// D and E are both stated as seen in the normal capture: a current flowing from the probed
 /// lead into the electrode it fed there (the sign convention of `lopside measure`).
+///
+/// A repeat of the normal capture (N, S, then N' with the leads back as normal) tells whether
+/// the bias came back. A discharge whose preferred cathode changed between N and S gives
+/// N = E, S = −E, which the split reads as a pure supply part; N' then shows −E, not N.
 
+#include <optional>
 #include <string>
 #include <vector>
 
 #include "lopside/cycle_engine.hpp"
 #include "lopside/diagnosis.hpp"
+#include "lopside/time_course.hpp"
 #include "lopside/uncertainty.hpp"
 
 namespace lopside {
@@ -67,6 +73,40 @@ struct SwapThresholds {
   /// load, so the RMS should repeat; 20 % leaves room for warm-up and a re-seated probe, while a
   /// 1 : 2 pair (67 % apart) or another unit's load stands well outside it.
   double ac_rms_mismatch = 0.20;
+  /// A change between the normal capture and its repeat is material from this share of their
+  /// mean AC RMS on: the bar of materiality the time course and the diagnosis share (README.md,
+  /// `dc_negligible`), so a change the rest of lopside calls negligible is never a "change" here.
+  double repeat_material_share = kNegligibleDcShare;
+};
+
+/// What the repeat of the normal capture showed (README.md "lopside swap", repeat rule).
+enum class RepeatOutcome {
+  bias_returned,  ///< N' − N within its u95, and N' pairs with N: D and E use (N + N')/2
+  /// N' − N beyond its u95 but under the materiality bar: a slow drift. D and E use (N + N')/2
+  /// with the half-difference added as a rectangular uncertainty (the normal at the time of S
+  /// lies between N and N' when the drift is monotonic).
+  bias_drifted,
+  bias_changed,  ///< N' − N beyond its u95 and the bar: the split cannot be trusted
+  inconclusive,  ///< N' clipped, or not the same unit on the same load as N
+};
+/// "bias_returned", "bias_drifted", "bias_changed" or "inconclusive", as in the JSON.
+const char* to_string(RepeatOutcome outcome) noexcept;
+
+/// The comparison of the normal capture N with its repeat N'.
+struct RepeatCheck {
+  /// N''s DC offset and charge asymmetry with the probe's tolerances (as `lopside measure`).
+  Estimate again_dc_a, again_asymmetry;
+  /// N' − N. The same probe took both: its offset cancels in the DC difference and enters the
+  /// asymmetry difference only through the captures' different sensitivities; its gain scales
+  /// the DC difference.
+  Estimate difference_dc_a, difference_asymmetry;
+  double material_dc_a = 0;       ///< the materiality bar: share × mean AC RMS of N and N' [A]
+  double material_asymmetry = 0;  ///< the same bar over N's mean |i|, (Q+ + Q−)·f [1]
+  RepeatOutcome outcome = RepeatOutcome::inconclusive;
+  /// The normal the split used, (N + N')/2 with the probe's tolerances, when the outcome is
+  /// bias_returned or bias_drifted; otherwise N itself (the split is then not trusted).
+  Estimate normal_used_dc_a, normal_used_asymmetry;
+  bool mean_used = false;
 };
 
 struct LeadSwapResult {
@@ -84,6 +124,7 @@ struct LeadSwapResult {
   std::vector<Evidence> evidence;     ///< everything examined, deciding or not
   std::vector<std::string> warnings;
   std::vector<std::string> next_steps;
+  std::optional<RepeatCheck> repeat;  ///< present when a repeat of the normal capture was given
 };
 
 /// Splits the pair into supply and electrode parts with their expanded uncertainties and draws
@@ -91,5 +132,13 @@ struct LeadSwapResult {
 /// error: the command line checks them).
 LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& swapped,
                                  const SwapProbe& probe, const SwapThresholds& thresholds = {});
+
+/// The same with a repeat of the normal capture, recorded after the swapped one with the leads
+/// back as normal (N, S, N'). N' is compared with N (RepeatCheck); when the bias came back (or
+/// only drifted) the split uses (N + N')/2 as the normal, a better estimate of the normal at the
+/// time of S; when it changed, or N' is not comparable with N, the verdict is inconclusive.
+LeadSwapResult analyse_lead_swap(const SwapCapture& normal, const SwapCapture& swapped,
+                                 const SwapCapture& normal_again, const SwapProbe& probe,
+                                 const SwapThresholds& thresholds = {});
 
 }  // namespace lopside

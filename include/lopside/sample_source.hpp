@@ -27,6 +27,10 @@ struct ChannelInfo {
   std::string unit_text;
   ChannelRole role = ChannelRole::other;
   std::size_t index = 0;  ///< 1-based channel number, the one `--current 2` refers to
+  /// The lowest and highest value the file's integer encoding can hold, in the delivered units
+  /// (after --scale and --gain): a sample on either is the recorder's range reached. Unset for
+  /// float formats, lossy or companded encodings, and text.
+  std::optional<double> full_scale_low, full_scale_high;
 };
 
 /// Facts about a capture. Readers of formats that state them up front (WAV) fill them at open;

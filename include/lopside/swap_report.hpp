@@ -4,6 +4,7 @@
 /// JSON document.
 
 #include <iosfwd>
+#include <optional>
 #include <string>
 #include <utility>
 #include <vector>
@@ -27,6 +28,9 @@ struct SwapCaptureReport {
 
 struct SwapReport {
   SwapCaptureReport normal, swapped;
+  /// The repeat of the normal capture (N, S, N'), when one was given; result.repeat then holds
+  /// its comparison with the first normal capture.
+  std::optional<SwapCaptureReport> normal_again;
   double probe_offset_a = 0;  ///< stated ±offset tolerance used [A]
   double probe_gain_pct = 0;  ///< stated ±gain tolerance used [%]
   LeadSwapResult result;
@@ -34,10 +38,12 @@ struct SwapReport {
 
 /// Aligned lines with SI prefixes, signs shown, each figure with its u95; then the verdict,
 /// its evidence and next steps, the formulas and sign convention, the high-voltage caution,
-/// and the warnings (the pair's, then each capture's).
+/// and the warnings (the pair's, then each capture's). With a repeat of the normal capture:
+/// its figures, N' − N with its u95 and the outcome, and the normal the split used.
 void write_swap_text(std::ostream& out, const SwapReport& report);
 
 /// One JSON object, schema kSwapSchema; a figure with an uncertainty is {value, u95, k}.
+/// `repeat` is null without a repeat of the normal capture.
 void write_swap_json(std::ostream& out, const SwapReport& report);
 
 }  // namespace lopside

@@ -116,6 +116,11 @@ void add_analysis_flags(CLI::App& app, AnalysisOptions& options) {
         parse_zero(text);
         return std::string();
       });
+  app.add_option("--reference", options.reference,
+                 "The channel whose rising crossings set the cycles: auto (the voltage when it is "
+                 "present and periodic, else the current), current or voltage")
+      ->check(CLI::IsMember({"auto", "current", "voltage"}))
+      ->capture_default_str();
   app.add_option("--block-cycles", options.block_cycles,
                  "Cycles per harmonic block (50/60 Hz captures use IEC 61000-4-7's 10/12)")
       ->check(CLI::Range(1, 1000));
@@ -162,6 +167,19 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
   config.probe_offset_a = o.probe_offset_a;
   config.probe_gain_pct = o.probe_gain_pct;
   config.exclude_s = zero_stretch;
+  if (o.reference == "voltage") {
+    if (!voltage) {
+      throw InputError(o.capture_path,
+                       "--reference voltage: no channel is known to carry the "
+                       "voltage; expected --voltage CH (channels: " +
+                           describe_channels(info.channels) + ")");
+    }
+    config.reference = CycleReference::voltage;
+  } else if (o.reference == "current") {
+    config.reference = CycleReference::current;
+  }
+  config.current_full_scale_low_a = info.channels[*current].full_scale_low;
+  config.current_full_scale_high_a = info.channels[*current].full_scale_high;
   if (o.max_order > 0) {
     HarmonicConfig harmonics;
     harmonics.block_cycles = o.block_cycles;
@@ -189,8 +207,21 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
   progress.done();
   const CycleSummary& summary = engine.finish();
 
+  const ChannelInfo& ref_channel =
+      info.channels[summary.reference == "voltage" ? *voltage : *current];
+  // Issue 9, item 6: a record without a periodic fundamental is refused, never given one.
+  if (!summary.periodic) {
+    throw InputError(
+        o.capture_path,
+        "the " + summary.reference + " channel '" + ref_channel.name +
+            "' has no periodic fundamental: " + std::to_string(summary.irregular_cycles) +
+            " of its " + std::to_string(summary.irregular_cycles + summary.cycles) +
+            " cycles between rising crossings differ from the running period by "
+            "more than 30 %, as noise or a single transient do; expected a "
+            "periodic current or voltage (--reference chooses the channel)");
+  }
   if (summary.cycles < 2) {
-    const ChannelInfo& ref = info.channels[voltage ? *voltage : *current];
+    const ChannelInfo& ref = ref_channel;
     throw InputError(o.capture_path,
                      "found " + std::to_string(summary.cycles) + " whole cycle(s) from " +
                          std::to_string(summary.crossings) + " rising crossing(s) of the " +

@@ -35,9 +35,10 @@ struct AnalysisOptions {
   std::string capture_path;
   double probe_offset_a = 0;
   double probe_gain_pct = 0;
-  std::string zero;               ///< "FROM:TO" in seconds, empty for none
-  std::size_t block_cycles = 10;  ///< harmonic block length for non-mains captures
-  std::size_t max_order = 40;     ///< highest harmonic order asked for; 0: no harmonics
+  std::string zero;                ///< "FROM:TO" in seconds, empty for none
+  std::size_t block_cycles = 10;   ///< harmonic block length for non-mains captures
+  std::size_t max_order = 40;      ///< highest harmonic order asked for; 0: no harmonics
+  std::string reference = "auto";  ///< "auto", "current" or "voltage": what sets the cycles
   ReaderOptions reader;
 };
 
@@ -68,13 +69,17 @@ void setup_measure(CLI::App& app);
 /// Measures the capture and prints the summary (text, and JSON where `--json` says).
 void run_measure(const MeasureOptions& options);
 
-/// `lopside swap NORMAL SWAPPED [--probe-on electrode|supply] [--json FILE|-] [analysis flags]`
+/// `lopside swap NORMAL SWAPPED [NORMAL_AGAIN] [--probe-on electrode|supply] [--json FILE|-]
+/// [analysis flags]`
 struct SwapOptions {
-  std::string normal_path;             ///< capture with the leads as normal
-  std::string swapped_path;            ///< capture with the supply's output leads exchanged
+  std::string normal_path;   ///< capture with the leads as normal
+  std::string swapped_path;  ///< capture with the supply's output leads exchanged
+  /// repeat of the normal capture, recorded after the swapped one with the leads back as
+  /// normal; empty for none
+  std::string again_path;
   std::string probe_on = "electrode";  ///< where the probe stayed: "electrode" or "supply"
   std::string json_path;               ///< empty for none, "-" for standard output
-  AnalysisOptions analysis;            ///< shared by both captures; capture_path is set per capture
+  AnalysisOptions analysis;            ///< shared by all captures; capture_path is set per capture
 };
 
 void setup_swap(CLI::App& app);

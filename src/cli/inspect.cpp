@@ -1,4 +1,5 @@
 #include <array>
+#include <cstdint>
 #include <cstdio>
 #include <iostream>
 #include <memory>
@@ -33,6 +34,11 @@ std::string extreme_text(double v, const std::string& unit) {
   return buf.data();
 }
 
+/// "1 flat crest", "20 flat crests".
+std::string counted(std::uint64_t n, const std::string& noun) {
+  return std::to_string(n) + " " + noun + (n == 1 ? "" : "s");
+}
+
 }  // namespace
 
 void setup_inspect(CLI::App& app) {
@@ -61,6 +67,10 @@ void run_inspect(const InspectOptions& options) {
   if (n_channels == 0) throw InputError(options.capture_path, "expected at least one channel");
 
   ChannelStats stats(n_channels);
+  for (std::size_t c = 0; c < n_channels; ++c) {
+    const ChannelInfo& ch = source->info().channels[c];
+    stats.set_full_scale(c, ch.full_scale_low, ch.full_scale_high);
+  }
   SampleBlock block;
   while (source->read(block, kBlockFrames) > 0) stats.add(block);
   if (stats.frames() == 0) {
@@ -76,16 +86,30 @@ void run_inspect(const InspectOptions& options) {
     const ChannelSummary& s = result.channels[c];
     if (!s.clipping_suspected()) continue;
     const ChannelInfo& ch = result.info.channels[c];
-    // A recorder at the end of its range holds the same code for many samples; on one
-    // polarity only, that fakes a DC offset, so later results on this channel are suspect.
-    result.warnings.push_back(
-        "channel " + std::to_string(ch.index) + " '" + ch.name +
-        "' may be clipped: " + percent(s.clipped_high_share) +
-        " of its samples sit on its maximum (" + extreme_text(s.max, ch.unit) + ") and " +
-        percent(s.clipped_low_share) + " on its minimum (" + extreme_text(s.min, ch.unit) +
-        ") in runs of " + std::to_string(kClipRunMin) +
-        " or more; check the recorder's range (coarse quantisation of a slow signal looks the "
-        "same)");
+    // One clipped polarity fakes a DC offset and a charge asymmetry: say where and why, so the
+    // later results on this channel are read as suspect.
+    std::string where;
+    const auto side = [&](const char* name, double value, std::uint64_t crests,
+                          std::uint64_t samples, double share, bool full_scale) {
+      if (samples == 0) return;
+      if (!where.empty()) where += " and ";
+      where += std::string("at its ") + name + " (" + extreme_text(value, ch.unit) + "): ";
+      if (full_scale) {
+        where += counted(samples, "sample") + " (" + percent(share) +
+                 ") on the file's integer full scale";
+      } else {
+        where += counted(crests, "flat crest") + " (" + percent(share) +
+                 " of the samples) too long for quantisation, cut off where the flanks' "
+                 "curvature says the waveform would have gone further";
+      }
+    };
+    side("maximum", s.max, s.clipped_high_crests, s.clipped_high_samples, s.clipped_high_share,
+         s.full_scale_high);
+    side("minimum", s.min, s.clipped_low_crests, s.clipped_low_samples, s.clipped_low_share,
+         s.full_scale_low);
+    result.warnings.push_back("channel " + std::to_string(ch.index) + " '" + ch.name +
+                              "' is clipped (the recorder's range was reached) " + where +
+                              "; a DC offset or asymmetry measured on it is not trustworthy");
   }
 
   if (json_out) {

@@ -1,6 +1,6 @@
 // `lopside swap`: the lead-swap test. Two captures of one unit, the supply's output leads
 // exchanged between them, split into the DC that follows the supply and the DC that stays with
-// the electrodes.
+// the electrodes; optionally a third, the normal capture repeated, to show the bias came back.
 #include <fcntl.h>
 #include <sys/stat.h>
 #include <unistd.h>
@@ -26,8 +26,8 @@ namespace lopside::cli {
 namespace {
 
 // Measures one capture with the probe's tolerances set to 0: what remains in the u95 is the
-// capture's own scatter (and its --zero stretch's), independent of the other capture. The
-// probe's tolerances are added once, by analyse_lead_swap, because the same probe took both.
+// capture's own scatter (and its --zero stretch's), independent of the other captures. The
+// probe's tolerances are added once, by analyse_lead_swap, because the same probe took them all.
 SwapCapture measure_one(const AnalysisOptions& shared, const std::string& path,
                         SwapCaptureReport& report) {
   AnalysisOptions o = shared;
@@ -122,6 +122,12 @@ bool same_bytes(const InputFile& a, const InputFile& b, off_t length) {
   return true;
 }
 
+// One of the captures, by the name it has on the command line.
+struct Role {
+  const std::string& path;
+  const char* name;  // "NORMAL", "SWAPPED", "NORMAL_AGAIN"
+};
+
 // Issue 9, item 8: a lead-swap needs two different recordings. The same capture given twice
 // (one path twice, a symlink or hard link to it, "-" and /dev/stdin) or a copy of it under
 // another name would be split into D = (N − S)/2 = 0 exactly and E = N, a "self-rectification"
@@ -129,30 +135,47 @@ bool same_bytes(const InputFile& a, const InputFile& b, off_t length) {
 // by device and inode, as check_output_paths() compares paths; content is compared for two
 // regular files (size first, then bytes). A pipe or FIFO cannot be compared without consuming
 // it, so only its identity is checked; a compressed copy of an uncompressed capture is not
-// recognised either (its bytes differ).
-void refuse_identical_captures(const std::string& normal, const std::string& swapped) {
-  const std::string why =
+// recognised either (its bytes differ). The repeat of the normal capture is held to the same
+// rule against both others: a copy of N would "come back" by construction, and a copy of S is
+// no repeat at all.
+void refuse_identical_captures(const Role& first, const Role& second, const std::string& why) {
+  if (first.path == "-" && second.path == "-") {
+    throw InputError(shown(second.path), std::string("given as both ") + first.name + " and " +
+                                             second.name +
+                                             ": standard input can hold only one of the two "
+                                             "captures, and " +
+                                             why);
+  }
+  InputFile a, b;
+  if (!stat_input(first.path, a) || !stat_input(second.path, b)) return;
+  if (a.st.st_dev == b.st.st_dev && a.st.st_ino == b.st.st_ino) {
+    throw InputError(shown(second.path), std::string("is the same file as ") + first.name + " (" +
+                                             shown(first.path) + "); " + why);
+  }
+  if (!S_ISREG(a.st.st_mode) || !S_ISREG(b.st.st_mode)) return;
+  if (!open_regular(first.path, a) || !open_regular(second.path, b)) return;
+  const off_t a_length = a.st.st_size - a.start, b_length = b.st.st_size - b.start;
+  if (a_length != b_length || a_length <= 0) return;
+  if (same_bytes(a, b, a_length)) {
+    throw InputError(shown(second.path), std::string("has the same content as ") + first.name +
+                                             " (" + shown(first.path) +
+                                             "), byte for byte: a copy of one capture, but " + why);
+  }
+}
+
+void refuse_identical_captures(const SwapOptions& o) {
+  const Role normal{o.normal_path, "NORMAL"}, swapped{o.swapped_path, "SWAPPED"};
+  refuse_identical_captures(
+      normal, swapped,
       "a lead-swap needs two different recordings, one with the supply's leads as normal and "
-      "one with them exchanged";
-  if (normal == "-" && swapped == "-") {
-    throw InputError(shown(swapped),
-                     "given as both NORMAL and SWAPPED: standard input can hold only one of the "
-                     "two captures, and " +
-                         why);
-  }
-  InputFile n, s;
-  if (!stat_input(normal, n) || !stat_input(swapped, s)) return;
-  if (n.st.st_dev == s.st.st_dev && n.st.st_ino == s.st.st_ino) {
-    throw InputError(shown(swapped), "is the same file as NORMAL (" + shown(normal) + "); " + why);
-  }
-  if (!S_ISREG(n.st.st_mode) || !S_ISREG(s.st.st_mode)) return;
-  if (!open_regular(normal, n) || !open_regular(swapped, s)) return;
-  const off_t n_length = n.st.st_size - n.start, s_length = s.st.st_size - s.start;
-  if (n_length != s_length || n_length <= 0) return;
-  if (same_bytes(n, s, n_length)) {
-    throw InputError(shown(swapped), "has the same content as NORMAL (" + shown(normal) +
-                                         "), byte for byte: a copy of one capture, but " + why);
-  }
+      "one with them exchanged");
+  if (o.again_path.empty()) return;
+  const Role again{o.again_path, "NORMAL_AGAIN"};
+  const std::string why =
+      "the repeat of the normal capture must be a new recording, made after the swapped one "
+      "with the leads back as normal, or it cannot show whether the bias came back";
+  refuse_identical_captures(normal, again, why);
+  refuse_identical_captures(swapped, again, why);
 }
 
 }  // namespace
@@ -162,12 +185,20 @@ void setup_swap(CLI::App& app) {
   CLI::App* sub = app.add_subcommand(
       "swap",
       "Lead-swap test: split the DC into the supply's part (reverses with the leads) and the "
-      "electrodes' part (stays), from a capture with the leads normal and one with them exchanged");
+      "electrodes' part (stays), from a capture with the leads normal and one with them exchanged "
+      "(and optionally the normal one repeated)");
   sub->add_option("NORMAL", options->normal_path, "The capture with the leads as normal")
       ->required();
   sub->add_option("SWAPPED", options->swapped_path,
                   "The capture with the supply's two output leads exchanged")
       ->required();
+  // The repeat is a third positional rather than a flag: the three captures are given in the
+  // order they are recorded (N, S, then N again), the two-capture usage is unchanged, and no
+  // new flag name is needed for what is simply the next recording of the procedure.
+  sub->add_option("NORMAL_AGAIN", options->again_path,
+                  "Optional: the normal capture recorded again after SWAPPED, leads back as "
+                  "normal; shows whether the bias came back, which catches a preferred cathode "
+                  "that changed between the captures");
   sub->add_option("--probe-on", options->probe_on,
                   "Where the current probe stayed: on the same electrode's lead (electrode) or on "
                   "the same supply terminal (supply)")
@@ -181,7 +212,7 @@ void setup_swap(CLI::App& app) {
   // The harmonic settings do nothing here: no flag that is silently ignored.
   sub->remove_option(sub->get_option("--block-cycles"));
   sub->remove_option(sub->get_option("--max-order"));
-  // One --with would be joined to both captures, which are two acquisitions: refused with a
+  // One --with would be joined to every capture, each its own acquisition: refused with a
   // word on what to do instead, rather than left unknown or applied wrongly.
   sub->remove_option(sub->get_option("--with"));
   sub->add_option_function<std::string>(
@@ -189,9 +220,10 @@ void setup_swap(CLI::App& app) {
          [](const std::string&) {
            throw CLI::ValidationError(
                "--with",
-               "swap reads two acquisitions, and one --with FILE cannot belong to both; "
-               "expected NORMAL and SWAPPED each holding current and voltage in one "
-               "file, or measure each with `lopside measure CAPTURE --with FILE`");
+               "swap reads separate acquisitions, and one --with FILE cannot belong to both "
+               "(or to all three); expected NORMAL and SWAPPED (and NORMAL_AGAIN) each "
+               "holding current and voltage in one file, or measure each with `lopside "
+               "measure CAPTURE --with FILE`");
          },
          "Not available here: see `lopside measure --with`")
       ->type_name("FILE")
@@ -200,22 +232,29 @@ void setup_swap(CLI::App& app) {
 }
 
 void run_swap(const SwapOptions& o) {
-  check_output_paths({o.normal_path, o.swapped_path}, {{"--json", o.json_path, true}});
-  refuse_identical_captures(o.normal_path, o.swapped_path);
-  // The output is opened first so that an unwritable target fails before two long reads.
+  std::vector<std::string> inputs{o.normal_path, o.swapped_path};
+  if (!o.again_path.empty()) inputs.push_back(o.again_path);
+  check_output_paths(inputs, {{"--json", o.json_path, true}});
+  refuse_identical_captures(o);
+  // The output is opened first so that an unwritable target fails before the long reads.
   std::optional<AtomicOutput> json_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);
 
   SwapReport report;
   const SwapCapture normal = measure_one(o.analysis, o.normal_path, report.normal);
   const SwapCapture swapped = measure_one(o.analysis, o.swapped_path, report.swapped);
+  std::optional<SwapCapture> again;
+  if (!o.again_path.empty()) {
+    again = measure_one(o.analysis, o.again_path, report.normal_again.emplace());
+  }
   SwapProbe probe;
   probe.offset_a = o.analysis.probe_offset_a;
   probe.gain_pct = o.analysis.probe_gain_pct;
   probe.on = o.probe_on == "supply" ? ProbeOn::supply : ProbeOn::electrode;
   report.probe_offset_a = probe.offset_a;
   report.probe_gain_pct = probe.gain_pct;
-  report.result = analyse_lead_swap(normal, swapped, probe);
+  report.result = again ? analyse_lead_swap(normal, swapped, *again, probe)
+                        : analyse_lead_swap(normal, swapped, probe);
 
   if (json_out) {
     write_swap_json(json_out->stream(), report);

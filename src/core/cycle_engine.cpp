@@ -10,13 +10,14 @@
 //                boundaries the detector has placed.
 #include "lopside/cycle_engine.hpp"
 
-#include "lopside/clipping.hpp"
-
 #include <algorithm>
 #include <cmath>
 #include <deque>
 #include <limits>
 #include <stdexcept>
+
+#include "lopside/clipping.hpp"
+#include "lopside/edge_weights.hpp"
 
 namespace lopside {
 namespace {
@@ -46,14 +47,21 @@ constexpr double kSwingSmoothing = 1.0 / 16;
 
 struct Frame {
   double ref = 0, i = 0, v = 0;
+  bool bad = false;  // not finite in the file; held at the last finite value
 };
 
-// Integrals over the current cycle of the piecewise-linear signal between samples.
+// Integrands whose integral over a cycle the engine needs, in samples (× dt gives seconds):
+// i, i², v, v², v·i, |i| and sign(i)·v·i. Sums over a cycle's samples plus the band-limited
+// corrections at its ends and at each zero of the current (edge_weights.hpp): the integral of
+// the band-limited signal, not of straight lines between samples (issue 9, item 2).
+struct Integrals {
+  double i = 0, i2 = 0, v = 0, v2 = 0, p = 0, abs_i = 0, abs_p = 0;
+};
+
 struct CycleAccumulator {
-  double duration = 0;
-  double int_i = 0, int_i2 = 0, q_pos = 0, q_neg = 0, t_pos = 0;
-  double int_v = 0, int_v2 = 0, t_vpos = 0;
-  double int_p = 0, e_pos = 0, e_neg = 0;
+  double duration = 0;           // [s]
+  double t_pos = 0, t_vpos = 0;  // time with i > 0 and v > 0 [s], zeros by linear interpolation
+  Integrals sum;
   // Peaks over the samples of the cycle, and the longest run of equal samples at each.
   double max_i = -std::numeric_limits<double>::infinity();
   double min_i = std::numeric_limits<double>::infinity();
@@ -66,6 +74,7 @@ struct CycleAccumulator {
   CrestFlank flank_run_max, flank_best_max, flank_run_min, flank_best_min;
   double prev_sample_i = std::numeric_limits<double>::quiet_NaN();
   std::uint64_t samples = 0;
+  std::uint64_t max_at = 0, min_at = 0;  // frame indices of the current's extremes
   // Burning voltage: the voltage while |i| exceeds these thresholds (set from the previous
   // cycle's peaks; infinite, so nothing counts, in the first cycle).
   double burn_threshold_pos = std::numeric_limits<double>::infinity();
@@ -75,6 +84,13 @@ struct CycleAccumulator {
 
   void sample(double i, double v) {
     ++samples;
+    sum.i += i;
+    sum.i2 += i * i;
+    sum.v += v;
+    sum.v2 += v * v;
+    sum.p += v * i;
+    sum.abs_i += std::fabs(i);
+    sum.abs_p += i > 0 ? v * i : -(v * i);
     if (i > burn_threshold_pos) {
       burn_v_pos += v;
       ++burn_n_pos;
@@ -109,49 +125,18 @@ struct CycleAccumulator {
     min_v = std::min(min_v, v);
   }
 
-  // One straight piece of duration h [s] from (ia, va) to (ib, vb). Means use the trapezoid
-  // rule, which for whole cycles of a periodic signal converges spectrally (Trefethen & Weideman,
-  // SIAM Review 56, 2014); charges split the piece at its zero so Q± are exact for the
-  // piecewise-linear signal.
+  // The times with i > 0 and v > 0 in one straight piece of duration h [s] from (ia, va) to
+  // (ib, vb), split at its zero: the linear zero is within a second-order term of the
+  // band-limited one, and a time share needs no more.
   void piece(double h, double ia, double ib, double va, double vb) {
     if (h <= 0) return;
     duration += h;
-    int_i += 0.5 * h * (ia + ib);
-    int_i2 += 0.5 * h * (ia * ia + ib * ib);
-    int_v += 0.5 * h * (va + vb);
-    int_v2 += 0.5 * h * (va * va + vb * vb);
-    int_p += 0.5 * h * (ia * va + ib * vb);
-    if ((ia >= 0) == (ib >= 0)) {
-      const double q = 0.5 * h * (ia + ib);
-      const double e = 0.5 * h * (ia * va + ib * vb);
-      if (ia >= 0) {
-        q_pos += q;
-        if (ia > 0 || ib > 0) t_pos += h;
-        e_pos += e;
-      } else {
-        q_neg -= q;
-        e_neg += e;
-      }
+    if ((ia > 0) == (ib > 0)) {
+      if (ia > 0) t_pos += h;
     } else {
-      const double z = ia / (ia - ib);  // fraction of h at which i crosses zero
-      const double h1 = z * h, h2 = (1 - z) * h;
-      const double q1 = 0.5 * h1 * ia, q2 = 0.5 * h2 * ib;
-      const double e1 = 0.5 * h1 * ia * va, e2 = 0.5 * h2 * ib * vb;
-      if (ia > 0) {
-        q_pos += q1;
-        t_pos += h1;
-        e_pos += e1;
-        q_neg -= q2;
-        e_neg += e2;
-      } else {
-        q_neg -= q1;
-        e_neg += e1;
-        q_pos += q2;
-        t_pos += h2;
-        e_pos += e2;
-      }
+      const double z = ia / (ia - ib);
+      t_pos += ia > 0 ? z * h : (1 - z) * h;
     }
-    // Time with v > 0, split at v's own zero.
     if ((va > 0) == (vb > 0)) {
       if (va > 0) t_vpos += h;
     } else {
@@ -188,9 +173,8 @@ struct CycleEngine::Impl {
 
   // Detector.
   bool armed = false;
-  bool refine_pending = false;
-  std::uint64_t trigger_index = 0;
-  double trigger_level = 0;
+  // Triggers waiting for the samples their boundary fit needs: (index, level).
+  std::deque<std::pair<std::uint64_t, double>> pending;
   std::size_t fit_half_width = kMaxFitHalfWidth;
   std::deque<double> boundaries;  // fractional global indices, increasing
   std::uint64_t crossings = 0;
@@ -221,61 +205,193 @@ struct CycleEngine::Impl {
   bool finished = false;
   std::optional<HarmonicAnalyzer> harmonic;
   bool last_cycle_excluded = false;
+
+  // Outliers and regularity (issue 9, items 5 and 6).
+  std::uint64_t consumed = 0;               // frames handed to consume() so far
+  double last_good_i = 0, last_good_v = 0;  // the last finite samples, held over bad ones
+  std::deque<std::pair<std::uint64_t, std::uint64_t>> bad_runs;  // not-finite frames, inclusive
+  double typical_i = 0;       // the current's typical half swing (glitch test)
+  int glitch_streak = 0;      // consecutive cycles the glitch test flagged
+  double period_nominal = 0;  // the running period [samples], 0 until known
+  std::vector<double> early_periods;
+  bool exclude_next = false;  // a glitch reached the next cycle through the edge corrections
+  // The last kept cycle, committed one cycle late so that a glitch at the start of the cycle
+  // after it (which reaches it through the edge corrections) can still exclude it.
+  std::optional<std::pair<CycleRecord, double>> held_back;
+  std::uint64_t last_committed = std::numeric_limits<std::uint64_t>::max();
+  std::uint64_t stretches = 0;  // runs of consecutive kept cycles
+  double kept_span_s = 0;       // Σ periods of the kept cycles
   BatchMeans crest_peak;
 
   const Frame& at(std::uint64_t index) const { return ring[index & (kRing - 1)]; }
 
-  Frame frame_of(const SampleBlock& block, std::size_t f) const {
+  // A NaN or infinite sample is held at the last finite value, so that no sum turns to NaN and
+  // no crossing is invented, and is marked: every cycle it reaches is left out.
+  Frame frame_of(const SampleBlock& block, std::size_t f) {
     Frame fr;
-    fr.i = block.value(f, cfg.current_channel) - cfg.current_zero_a;
-    fr.v = cfg.voltage_channel ? block.value(f, *cfg.voltage_channel) : 0.0;
+    double i = block.value(f, cfg.current_channel);
+    double v = cfg.voltage_channel ? block.value(f, *cfg.voltage_channel) : 0.0;
+    const std::uint64_t index = consumed++;
+    if (!std::isfinite(i) || !std::isfinite(v)) {
+      fr.bad = true;
+      ++summary.not_finite_samples;
+      if (!bad_runs.empty() && bad_runs.back().second + 1 == index) {
+        bad_runs.back().second = index;
+      } else {
+        bad_runs.emplace_back(index, index);
+      }
+      if (!std::isfinite(i)) i = last_good_i;
+      if (!std::isfinite(v)) v = last_good_v;
+    }
+    last_good_i = i;
+    last_good_v = v;
+    fr.i = i - cfg.current_zero_a;
+    fr.v = v;
     fr.ref = ref_is_voltage ? fr.v : fr.i;
     return fr;
   }
 
-  void learn_levels(const std::vector<Frame>& frames) {
-    if (frames.empty()) return;
-    double sum = 0, lo = frames.front().ref, hi = lo;
-    for (const Frame& f : frames) {
-      sum += f.ref;
-      lo = std::min(lo, f.ref);
-      hi = std::max(hi, f.ref);
+  bool touches_bad(double lo, double hi) const {
+    for (const auto& [first, last] : bad_runs) {
+      if (static_cast<double>(last) >= lo && static_cast<double>(first) <= hi) return true;
     }
-    level_mean = sum / static_cast<double>(frames.size());
-    half_swing = 0.5 * (hi - lo);
+    return false;
+  }
+
+  // What the look-ahead shows of one channel: its level and swing, its rising crossings with the
+  // band, and how regular their intervals are.
+  struct Look {
+    double mean = 0, half_swing = 0;
+    std::uint64_t count = 0, first = 0, last = 0;  // crossings, first and last frame
+    double period = 0;                             // median interval [samples]
+    double regular_share = 0;  // intervals within ±kPeriodTolerance of the median
+    std::size_t intervals = 0;
+    bool regular() const { return intervals >= 3 && regular_share >= 0.8; }
+  };
+
+  static Look look(const std::vector<Frame>& frames, bool voltage) {
+    Look k;
+    const auto val = [voltage](const Frame& f) { return voltage ? f.v : f.i; };
+    std::vector<double> v;
+    v.reserve(frames.size());
+    for (const Frame& f : frames) {
+      if (!f.bad) v.push_back(val(f));
+    }
+    if (v.size() < 2) return k;
+    // Robust extremes, the 0.1 % and 99.9 % quantiles: one glitch cannot set the band.
+    const auto quantile = [&v](double share) {
+      const auto idx = static_cast<std::size_t>(share * static_cast<double>(v.size() - 1));
+      std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(idx), v.end());
+      return v[idx];
+    };
+    const double lo = quantile(0.001), hi = quantile(0.999);
+    const double mid = 0.5 * (lo + hi), half = 0.5 * (hi - lo);
+    const auto plausible = [&](const Frame& f) {
+      return !f.bad && std::fabs(val(f) - mid) <= CycleEngine::kGlitchFactor * half;
+    };
+    double sum = 0;
+    std::size_t n = 0;
+    for (const Frame& f : frames) {
+      if (plausible(f)) {
+        sum += val(f);
+        ++n;
+      }
+    }
+    k.mean = n > 0 ? sum / static_cast<double>(n) : mid;
+    k.half_swing = half;
+    if (!(half > 0)) return k;
+    const double band = kBandShare * half;
+    bool arm = val(frames.front()) < k.mean + band;
+    std::vector<std::uint64_t> trig;
+    for (std::size_t j = 1; j < frames.size(); ++j) {
+      if (!plausible(frames[j])) continue;
+      const double r = val(frames[j]);
+      if (r < k.mean - band) arm = true;
+      if (arm && r > k.mean + band) {
+        arm = false;
+        trig.push_back(j);
+      }
+    }
+    k.count = trig.size();
+    if (trig.size() < 2) return k;
+    k.first = trig.front();
+    k.last = trig.back();
+    // The mean over whole cycles (the held frames' partial cycles would bias it), and the half
+    // swing as the median of the cycles' own (max − min)/2: the estimator the engine then
+    // updates cycle by cycle. The record's overall extremes exceed a cycle's sampled ones at
+    // few samples per cycle, and that difference would drift the trigger level, hence the
+    // boundaries' phase, over the first cycles.
+    double whole_sum = 0;
+    std::size_t whole_n = 0;
+    std::vector<double> halves, periods;
+    for (std::size_t c = 0; c + 1 < trig.size(); ++c) {
+      double c_lo = std::numeric_limits<double>::infinity(), c_hi = -c_lo;
+      for (std::uint64_t j = trig[c]; j < trig[c + 1]; ++j) {
+        if (!plausible(frames[j])) continue;
+        const double x = val(frames[j]);
+        whole_sum += x;
+        ++whole_n;
+        c_lo = std::min(c_lo, x);
+        c_hi = std::max(c_hi, x);
+      }
+      if (c_hi >= c_lo) halves.push_back(0.5 * (c_hi - c_lo));
+      periods.push_back(static_cast<double>(trig[c + 1] - trig[c]));
+    }
+    if (whole_n > 0) k.mean = whole_sum / static_cast<double>(whole_n);
+    const auto median = [](std::vector<double> x) {
+      const std::size_t m = x.size() / 2;
+      std::nth_element(x.begin(), x.begin() + static_cast<std::ptrdiff_t>(m), x.end());
+      return x[m];
+    };
+    if (!halves.empty()) k.half_swing = median(halves);
+    k.period = median(periods);
+    k.intervals = periods.size();
+    std::size_t regular = 0;
+    for (double p : periods) {
+      regular += std::fabs(p - k.period) <= CycleEngine::kPeriodTolerance * k.period ? 1 : 0;
+    }
+    k.regular_share = static_cast<double>(regular) / static_cast<double>(periods.size());
+    return k;
+  }
+
+  void learn_levels(std::vector<Frame>& frames) {
+    if (frames.empty()) return;
+    // Issue 9, item 5: the voltage is the natural reference (it crosses cleanly whatever the
+    // discharge does), but a voltage that is not periodic (a converter's output with a step,
+    // a channel that is not the supply's) would cut the current into meaningless "cycles";
+    // the current is used then, when it is regular, and the output says so.
+    if (cfg.voltage_channel && cfg.reference == CycleReference::automatic) {
+      const Look lv = look(frames, true);
+      if (lv.intervals >= 3 && !lv.regular()) {
+        const Look li = look(frames, false);
+        if (li.regular()) {
+          ref_is_voltage = false;
+          summary.reference_note =
+              "the voltage's rising crossings are not periodic (" +
+              std::to_string(static_cast<int>(std::lround(100 * lv.regular_share))) +
+              " % of its cycles lie within ±30 % of their median period, against " +
+              std::to_string(static_cast<int>(std::lround(100 * li.regular_share))) +
+              " % of the current's): the current sets the cycles (--reference voltage insists "
+              "on the voltage)";
+        }
+      }
+    }
+    for (Frame& f : frames) f.ref = ref_is_voltage ? f.v : f.i;
+    const Look k = look(frames, ref_is_voltage);
+    level_mean = k.mean;
+    half_swing = k.half_swing;
     level_known = true;
+    typical_i = ref_is_voltage ? look(frames, false).half_swing : k.half_swing;
     // The fit's half-width is fixed for the whole capture from the period seen here: a width
     // that changed between boundaries would change the fit's (small, curvature) bias between
     // them and so the periods. Without two crossings here the period exceeds the look-ahead,
     // and the widest fit is the right one.
-    const double band = kBandShare * half_swing;
-    bool arm = frames.front().ref < level_mean + band;
-    std::uint64_t count = 0, first = 0, last = 0;
-    for (std::size_t j = 1; j < frames.size(); ++j) {
-      const double r = frames[j].ref;
-      if (r < level_mean - band) arm = true;
-      if (arm && r > level_mean + band) {
-        arm = false;
-        if (count++ == 0) first = j;
-        last = j;
-      }
-    }
-    if (count >= 2) {
-      // The mean of all held frames is off by a partial cycle's share; the mean and swing over
-      // the whole cycles between the first and last crossing are not (a level that then moved
-      // cycle by cycle would move the boundaries with it).
-      double whole_sum = 0, whole_lo = frames[first].ref, whole_hi = whole_lo;
-      for (std::uint64_t j = first; j < last; ++j) {
-        whole_sum += frames[j].ref;
-        whole_lo = std::min(whole_lo, frames[j].ref);
-        whole_hi = std::max(whole_hi, frames[j].ref);
-      }
-      level_mean = whole_sum / static_cast<double>(last - first);
-      half_swing = 0.5 * (whole_hi - whole_lo);
-      const double spc = static_cast<double>(last - first) / static_cast<double>(count - 1);
+    if (k.count >= 2) {
+      const double spc = static_cast<double>(k.last - k.first) / static_cast<double>(k.count - 1);
       fit_half_width = std::clamp<std::size_t>(
           static_cast<std::size_t>(std::lround(kFitShare * spc)), 1, kMaxFitHalfWidth);
       spc_estimate = spc;
+      if (k.regular()) period_nominal = k.period;
     } else {
       fit_half_width = kMaxFitHalfWidth;
     }
@@ -291,17 +407,20 @@ struct CycleEngine::Impl {
   // --- detector ---------------------------------------------------------------------------
   void detect(std::uint64_t n) {
     const double r = at(n).ref;
-    if (refine_pending && n >= trigger_index + fit_half_width) refine();
+    // The band-limited crossing (refine()) needs kEdgeHalfTaps samples past the trigger.
+    const std::uint64_t wait = std::max<std::uint64_t>(fit_half_width, kEdgeHalfTaps + 1);
+    while (!pending.empty() && n >= pending.front().first + wait) {
+      refine(pending.front().first, pending.front().second);
+      pending.pop_front();
+    }
     if (!level_known || half_swing <= 0) return;
     const double band = kBandShare * half_swing;
     // A capture that starts below the trigger level and rises through it has its first
     // crossing there: arming at the first sample counts it (once; re-arming needs the band).
     if (r < level_mean - band || (n == 0 && r < level_mean + band)) armed = true;
-    if (armed && n > 0 && r > level_mean + band && !refine_pending) {
+    if (armed && n > 0 && r > level_mean + band) {
       armed = false;
-      refine_pending = true;
-      trigger_index = n;
-      trigger_level = level_mean + band;
+      pending.emplace_back(n, level_mean + band);
       ++crossings;
     }
   }
@@ -309,8 +428,7 @@ struct CycleEngine::Impl {
   // The crossing of trigger_level, from a least-squares line through 2·w samples centred on
   // the first sample pair that straddles it: noise at one sample moves the boundary by
   // 1/(2w) as much as plain two-point interpolation would.
-  void refine() {
-    refine_pending = false;
+  void refine(std::uint64_t trigger_index, double trigger_level) {
     const std::uint64_t t = trigger_index;
     const std::size_t w = fit_half_width;
     // A crossing too near either end of the capture for the full fit is not used: a boundary
@@ -343,6 +461,24 @@ struct CycleEngine::Impl {
       const double a = at(t - 1).ref, b = at(t).ref;
       x = static_cast<double>(t - 1) + (trigger_level - a) / (b - a);
     }
+    // With few samples per cycle the fit is a straight line through two or four samples that
+    // lie up to 60° of phase apart, and its error changes with where the samples fall: the
+    // boundaries jitter by ~0.05 sample at 6 samples per cycle, which moves the fundamental and,
+    // through the record's two end boundaries, the means by ~1e-5. There the crossing of the
+    // band-limited reconstruction is found instead (two secant steps from the fit); with many
+    // samples per cycle the fit's averaging over noise is worth more.
+    // A boundary too near an end for the reconstruction is not used at all: mixed with
+    // boundaries placed by the straight line it would carry another bias, and the span of the
+    // record (hence the fundamental) another length.
+    if (w <= 2) {
+      if (t < kEdgeHalfTaps + 1 || t + kEdgeHalfTaps + 1 > next_index) return;
+      const double level = trigger_level;
+      x = secant_root(
+          [this, level](double at_x) {
+            return reconstruct(at_x, [](const Frame& f) { return f.ref; }) - level;
+          },
+          x, x - 1.0, x + 1.0);
+    }
     // Boundaries must increase, and not fall behind the integrator.
     const double floor_index = static_cast<double>(integrated);
     if (x < floor_index) x = floor_index;
@@ -355,19 +491,118 @@ struct CycleEngine::Impl {
     while (integrated <= last) integrate_frame(integrated++);
   }
 
-  // Adds the piece from frame m−1 to m, closing a cycle at each boundary inside it, then
-  // counts sample m itself towards the cycle it belongs to.
+  // The longest kernel (edge_weights.hpp) whose samples around x all exist: 16 taps a side,
+  // shorter within 16 samples of either end of the capture; 0 when not even 4 a side exist
+  // (4 a side still integrate a sine of 6 samples per cycle to 5e-5 of its RMS; 2 a side only
+  // to 1e-2, so a boundary that close to an end is not used and its stretch becomes part of
+  // the partial cycle there).
+  int edge_half(double x) const {
+    const double base = std::floor(x);
+    for (int half : {kEdgeHalfTaps, 8, 4}) {
+      if (base >= half - 1 && base + half < static_cast<double>(next_index)) return half;
+    }
+    return 0;
+  }
+
+  // The band-limited end corrections δ(x) of every integrand at a fractional index x, with a
+  // kernel of `half` taps a side (edge_half(x) > 0).
+  Integrals edge(double x, int half) const {
+    const double base = std::floor(x);
+    const auto n0 = static_cast<std::uint64_t>(base);
+    const std::array<double, kEdgeTaps> w = edge_weights(x - base, half);
+    Integrals d;
+    for (int j = 0; j < 2 * half; ++j) {
+      const Frame& f =
+          at(n0 + static_cast<std::uint64_t>(j + 1) - static_cast<std::uint64_t>(half));
+      const double c = w[static_cast<std::size_t>(j)];
+      d.i += c * f.i;
+      d.i2 += c * f.i * f.i;
+      d.v += c * f.v;
+      d.v2 += c * f.v * f.v;
+      d.p += c * f.v * f.i;
+    }
+    return d;
+  }
+
+  // The band-limited value at fractional index x of the current (or the reference) from the
+  // 2·kEdgeHalfTaps samples around it, which must be in the ring.
+  template <typename Field>
+  double reconstruct(double x, Field field) const {
+    const double base = std::floor(x);
+    const std::array<double, kEdgeTaps> k = interpolation_weights(x - base);
+    const auto n0 = static_cast<std::uint64_t>(base);
+    double y = 0;
+    for (std::size_t j = 0; j < kEdgeTaps; ++j) y += k[j] * field(at(n0 + j + 1 - kEdgeHalfTaps));
+    return y;
+  }
+
+  // Where `f` − level crosses zero near x, on the band-limited reconstruction: secant steps from
+  // x ± 0.05 sample, kept only if they converge inside [lo, hi].
+  template <typename F>
+  static double secant_root(F f, double x, double lo, double hi) {
+    double x0 = x - 0.05, x1 = x + 0.05;
+    double y0 = f(x0), y1 = f(x1);
+    for (int step = 0; step < 3 && y1 != y0; ++step) {
+      const double x2 = x1 - y1 * (x1 - x0) / (y1 - y0);
+      x0 = x1;
+      y0 = y1;
+      x1 = x2;
+      if (!(x1 >= lo && x1 <= hi)) return x;
+      y1 = f(x1);
+    }
+    return std::isfinite(x1) ? x1 : x;
+  }
+
+  // The zero of the current between samples m0 and m0 + 1 (of opposite sign ia, ib). The straight
+  // line misplaces it by up to ~0.02 sample at 6 samples per cycle, which costs ∫|i| a second-
+  // order error of ~1e-4 (the charges of a sine with an offset came out that low); the zero of
+  // the band-limited reconstruction does not. It stays inside the piece so that the samples'
+  // signs and the stretches' signs agree.
+  double current_zero(std::uint64_t m0, double ia, double ib) const {
+    const double lin = static_cast<double>(m0) + ia / (ia - ib);
+    if (edge_half(lin) != kEdgeHalfTaps) return lin;
+    const double lo = static_cast<double>(m0), hi = std::nextafter(lo + 1, lo);
+    const double z =
+        secant_root([this](double x) { return reconstruct(x, [](const Frame& f) { return f.i; }); },
+                    lin, lo, hi);
+    return std::clamp(z, lo, hi);
+  }
+
+  // Adds the piece from frame m−1 to m: a zero of the current inside it and each cycle boundary
+  // inside it, in order; then counts sample m itself towards the cycle it belongs to (a sample
+  // n belongs to the cycle that ends at x when n ≤ ⌊x⌋).
   void integrate_frame(std::uint64_t m) {
     const Frame& b = at(m);
     if (m > 0) {
       const Frame& a = at(m - 1);
       double from = static_cast<double>(m - 1);
       const double to = static_cast<double>(m);
+      // The zero of the current in this piece, by linear interpolation: ∫|i| changes its sign
+      // there, and its correction δ(z) is insensitive to z to first order (dδ/dz = i(z) = 0).
+      double zero = std::numeric_limits<double>::infinity();
+      if ((a.i > 0) != (b.i > 0)) zero = current_zero(m - 1, a.i, b.i);
+      const auto pass_zero = [&](double up_to) {
+        if (!(zero < up_to) || !std::isfinite(zero)) return;
+        // (A zero without its samples lies in the partial cycle at the capture's end.)
+        if (const int half = edge_half(zero); in_cycle && half > 0) {
+          const Integrals d = edge(zero, half);
+          const double s_before = a.i > 0 ? 1.0 : -1.0;
+          acc.sum.abs_i += 2 * s_before * d.i;
+          acc.sum.abs_p += 2 * s_before * d.p;
+        }
+        zero = std::numeric_limits<double>::infinity();
+      };
       while (!boundaries.empty() && boundaries.front() < to) {
         const double x = std::max(boundaries.front(), from);
         boundaries.pop_front();
+        const int half = edge_half(x);
+        if (half == 0) continue;
+        pass_zero(x);
         add_piece(a, b, m - 1, from, x);
-        on_boundary(x);
+        const Integrals d = edge(x, half);
+        // The sign of the current on the stretch that holds x (after the zero if it was passed).
+        const double s_x = (std::isfinite(zero) ? a.i : b.i) > 0 ? 1.0 : -1.0;
+        on_boundary(x, d, s_x);
         if (harmonic) {
           // A block holds consecutive cycles the summary keeps: one that ends an excluded
           // cycle (the --zero stretch) starts a new block.
@@ -376,12 +611,10 @@ struct CycleEngine::Impl {
         }
         from = x;
       }
+      pass_zero(to + 1);
       add_piece(a, b, m - 1, from, to);
     } else {
-      while (!boundaries.empty() && boundaries.front() <= 0.0) {
-        boundaries.pop_front();
-        on_boundary(0.0);
-      }
+      while (!boundaries.empty() && boundaries.front() <= 0.0) boundaries.pop_front();
     }
     if (harmonic) harmonic->on_sample(m, b.i);
     if (m > 0) {
@@ -399,6 +632,8 @@ struct CycleEngine::Impl {
         merge_flank(acc.flank_best_max, flank(m, +1.0, false));
       if (acc.prev_sample_i == acc.min_i && b.i > acc.min_i && acc.run_min == acc.best_run_min)
         merge_flank(acc.flank_best_min, flank(m, -1.0, false));
+      if (b.i > acc.max_i) acc.max_at = m;
+      if (b.i < acc.min_i) acc.min_at = m;
       acc.sample(b.i, b.v);
     } else if (!leading_partial)
       leading_partial = true;
@@ -442,11 +677,24 @@ struct CycleEngine::Impl {
   double last_peak_pos = std::numeric_limits<double>::quiet_NaN();
   double last_peak_neg = std::numeric_limits<double>::quiet_NaN();
 
-  void on_boundary(double x) {
-    if (in_cycle) close_cycle(x);
+  // Closes the cycle ending at x with its end corrections d (s_x: the sign of the current
+  // at x, for ∫|i| and ∫sign(i)·v·i) and opens the next with their negatives.
+  void on_boundary(double x, const Integrals& d, double s_x) {
+    if (in_cycle) {
+      Integrals& e = acc.sum;
+      e.i += d.i;
+      e.i2 += d.i2;
+      e.v += d.v;
+      e.v2 += d.v2;
+      e.p += d.p;
+      e.abs_i += s_x * d.i;
+      e.abs_p += s_x * d.p;
+      close_cycle(x);
+    }
     in_cycle = true;
     cycle_start = x;
     acc = CycleAccumulator{};
+    acc.sum = Integrals{-d.i, -d.i2, -d.v, -d.v2, -d.p, -s_x * d.i, -s_x * d.p};
     if (std::isfinite(last_peak_pos) && last_peak_pos > 0)
       acc.burn_threshold_pos = kBurnShare * last_peak_pos;
     if (std::isfinite(last_peak_neg) && last_peak_neg < 0)
@@ -463,15 +711,20 @@ struct CycleEngine::Impl {
     r.start_s = time_of(cycle_start);
     r.period_s = (end - cycle_start) * dt;
     const double T = c.duration;
-    r.mean_a = c.int_i / T;
-    const double ms = c.int_i2 / T;
+    // Integrals in samples over the cycle's length in samples.
+    const double span = end - cycle_start;
+    const Integrals& g = c.sum;
+    r.mean_a = g.i / span;
+    const double ms = std::max(g.i2 / span, 0.0);
     r.rms_a = std::sqrt(ms);
     const double ac_ms = std::max(ms - r.mean_a * r.mean_a, 0.0);
     r.ac_rms_a = std::sqrt(ac_ms);
-    r.charge_positive_c = c.q_pos;
-    r.charge_negative_c = c.q_neg;
-    const double q_total = c.q_pos + c.q_neg;
-    r.charge_asymmetry = q_total > 0 ? (c.q_pos - c.q_neg) / q_total : 0.0;
+    // Q± = (∫i ± ∫|i|)/2 and E± = (∫v·i ± ∫sign(i)·v·i)/2; a lobe smaller than the kernel's
+    // residual (1e-7 of the cycle's charge) can come out a hair below zero, so Q± are clamped.
+    r.charge_positive_c = std::max(0.5 * dt * (g.abs_i + g.i), 0.0);
+    r.charge_negative_c = std::max(0.5 * dt * (g.abs_i - g.i), 0.0);
+    const double q_total = r.charge_positive_c + r.charge_negative_c;
+    r.charge_asymmetry = q_total > 0 ? (r.charge_positive_c - r.charge_negative_c) / q_total : 0.0;
     r.peak_positive_a = c.max_i;
     r.peak_negative_a = c.min_i;
     r.positive_share = c.t_pos / T;
@@ -487,14 +740,14 @@ struct CycleEngine::Impl {
     spc_estimate = end - cycle_start;
     r.has_voltage = cfg.voltage_channel.has_value();
     if (cfg.voltage_channel) {
-      r.voltage_mean_v = c.int_v / T;
-      r.voltage_rms_v = std::sqrt(c.int_v2 / T);
+      r.voltage_mean_v = g.v / span;
+      r.voltage_rms_v = std::sqrt(std::max(g.v2 / span, 0.0));
       r.voltage_peak_positive_v = c.max_v;
       r.voltage_peak_negative_v = c.min_v;
       r.voltage_positive_share = c.t_vpos / T;
-      r.power_w = c.int_p / T;
-      r.energy_positive_j = c.e_pos;
-      r.energy_negative_j = c.e_neg;
+      r.power_w = g.p / span;
+      r.energy_positive_j = 0.5 * dt * (g.p + g.abs_p);
+      r.energy_negative_j = 0.5 * dt * (g.p - g.abs_p);
     }
     const double nan = std::numeric_limits<double>::quiet_NaN();
     r.burning_voltage_positive_v =
@@ -504,30 +757,129 @@ struct CycleEngine::Impl {
     last_peak_pos = c.max_i;
     last_peak_neg = c.min_i;
 
-    // The reference's level and swing follow the signal from cycle to cycle.
-    const double ref_mean = ref_is_voltage ? r.voltage_mean_v : r.mean_a;
-    const double ref_half = 0.5 * (ref_is_voltage ? c.max_v - c.min_v : c.max_i - c.min_i);
-    level_mean += kLevelSmoothing * (ref_mean - level_mean);
-    half_swing += kSwingSmoothing * (ref_half - half_swing);
+    // A crest on the file's integer full scale is the recorder's range reached, whatever its
+    // shape (clipping.hpp).
+    if (cfg.current_full_scale_high_a &&
+        c.max_i + cfg.current_zero_a >= *cfg.current_full_scale_high_a)
+      r.clipped_positive = true;
+    if (cfg.current_full_scale_low_a &&
+        c.min_i + cfg.current_zero_a <= *cfg.current_full_scale_low_a)
+      r.clipped_negative = true;
+
+    // Issue 9, item 6: a cycle is left out when a not-finite sample lies in it or within reach
+    // of its edge corrections, when it holds a glitch, or when its period is irregular.
+    std::string reason;
+    const double reach_lo = std::floor(cycle_start) - kEdgeHalfTaps + 1;
+    const double reach_hi = std::floor(end) + kEdgeHalfTaps;
+    if (touches_bad(reach_lo, reach_hi)) reason = "not_finite";
+    while (!bad_runs.empty() && static_cast<double>(bad_runs.front().second) < reach_lo)
+      bad_runs.pop_front();
+    const double dev_hi = c.max_i - r.mean_a, dev_lo = r.mean_a - c.min_i;
+    bool glitch = typical_i > 0 && std::max(dev_hi, dev_lo) > kGlitchFactor * typical_i;
+    bool drop_held = false;
+    if (glitch && ++glitch_streak > 3) {
+      // Four cycles in a row are not a glitch but a new level (ignition, a range change): the
+      // typical swing starts again from here; the three before stay out, and are reported.
+      typical_i = 0.5 * (c.max_i - c.min_i);
+      glitch = false;
+    }
+    if (!glitch) glitch_streak = 0;
+    if (glitch) {
+      // The glitch reaches a neighbour through the edge corrections when it lies within
+      // kEdgeHalfTaps samples of the boundary they share.
+      const auto at_index = static_cast<double>(dev_hi >= dev_lo ? c.max_at : c.min_at);
+      if (at_index < std::floor(cycle_start) + kEdgeHalfTaps + 1) drop_held = true;
+      if (at_index + kEdgeHalfTaps >= std::floor(end)) exclude_next = true;
+    }
+    if (reason.empty() && (glitch || exclude_next_pending)) reason = "glitch";
+    exclude_next_pending = exclude_next;
+    exclude_next = false;
+    const double period_samples = end - cycle_start;
+    bool irregular = false;
+    if (period_nominal > 0) {
+      irregular = std::fabs(period_samples - period_nominal) > kPeriodTolerance * period_nominal;
+    } else if (reason.empty()) {
+      early_periods.push_back(period_samples);
+      if (early_periods.size() == 3) {
+        std::sort(early_periods.begin(), early_periods.end());
+        period_nominal = early_periods[1];
+      }
+    }
+    if (reason.empty() && irregular) reason = "irregular";
+
+    // The reference's level and swing follow the signal from cycle to cycle, but not through a
+    // glitch or a not-finite sample; a cycle's swing moves them by at most a factor of two, so
+    // that no single cycle can lift the band above the signal.
+    if (reason != "glitch" && reason != "not_finite") {
+      const double ref_mean = ref_is_voltage ? r.voltage_mean_v : r.mean_a;
+      const double ref_half = 0.5 * (ref_is_voltage ? c.max_v - c.min_v : c.max_i - c.min_i);
+      level_mean += kLevelSmoothing * (ref_mean - level_mean);
+      half_swing +=
+          kSwingSmoothing * (std::clamp(ref_half, 0.5 * half_swing, 2 * half_swing) - half_swing);
+      typical_i +=
+          kSwingSmoothing *
+          (std::clamp(0.5 * (c.max_i - c.min_i), 0.5 * typical_i, 2 * typical_i) - typical_i);
+    }
+    if (reason.empty() && period_nominal > 0) {
+      period_nominal += kLevelSmoothing * (period_samples - period_nominal);
+    }
 
     const double end_s = time_of(end);
     const bool excluded =
         cfg.exclude_s && r.start_s < cfg.exclude_s->second && end_s > cfg.exclude_s->first;
     ++cycle_index;
+    if (held_back) {
+      if (drop_held) {
+        exclude(held_back->first, held_back->second, "glitch");
+      } else {
+        commit(held_back->first, held_back->second);
+      }
+      held_back.reset();
+    }
     last_cycle_excluded = false;
     if (excluded) {
       ++summary.excluded_cycles;
       last_cycle_excluded = true;
       return;
     }
+    if (!reason.empty()) {
+      exclude(r, end_s, reason);
+      last_cycle_excluded = true;
+      return;
+    }
+    held_back.emplace(r, end_s);
+  }
+  bool exclude_next_pending = false;
+
+  void commit(const CycleRecord& r, double end_s) {
     add_to_summary(r, end_s);
     if (sink) sink(r);
+  }
+
+  void exclude(const CycleRecord& r, double end_s, const std::string& reason) {
+    if (reason == "not_finite") ++summary.not_finite_cycles;
+    if (reason == "glitch") ++summary.glitch_cycles;
+    if (reason == "irregular") ++summary.irregular_cycles;
+    auto& list = summary.exclusions;
+    if (!list.empty() && list.back().reason == reason &&
+        std::fabs(list.back().end_s - r.start_s) <= 1e-9 * std::fabs(end_s) + dt) {
+      list.back().end_s = end_s;  // one stretch of neighbouring cycles
+    } else if (list.size() < kMaxExclusions) {
+      list.push_back(Exclusion{r.start_s, end_s, reason});
+    }
   }
 
   void add_to_summary(const CycleRecord& r, double end_s) {
     if (summary.cycles == 0) first_start = r.start_s;
     last_end = end_s;
     ++summary.cycles;
+    kept_span_s += r.period_s;
+    // Period differences count only between neighbours in time: a gap starts a new stretch.
+    if (r.index != last_committed + 1) {
+      ++stretches;
+      prev_period = 0;
+    }
+    last_committed = r.index;
     if (prev_period > 0) {
       const double d = r.period_s - prev_period;
       sum_dperiod2 += d * d;
@@ -663,16 +1015,26 @@ struct CycleEngine::Impl {
     const double u_gain_rel = rectangular(cfg.probe_gain_pct / 100.0);
     const UncertaintyComponent zero{cfg.current_zero_u_a, 1e300};
 
-    const double span = last_end - first_start;
+    // The fundamental: kept cycles over the time they span (left-out cycles are not in it).
+    // Independent boundary errors e_k (standard deviation σ) make successive periods differ by
+    // e_{k+2} − 2e_{k+1} + e_k (variance 6σ²), while each stretch of consecutive kept cycles
+    // carries only its first and last boundary: u(ΣT) = √(2·stretches)·σ. The mean of the
+    // squared differences estimates 6σ² with about n/2 degrees of freedom (neighbouring
+    // differences share boundaries: lag-1 correlation −2/3, lag-2 1/6, so the effective count
+    // is n/(1 + 2·(4/9 + 1/36)) ≈ n/1.94), expanded with Student's t (GUM G.3). With fewer than
+    // two differences σ is not known; the boundary is then taken as placed within ±½ sample
+    // (rectangular, GUM 4.3.7), a bound for a crossing interpolated between two samples.
+    const double span = kept_span_s;
     const double f = static_cast<double>(s.cycles) / span;
-    // Independent boundary errors e_k make successive periods differ by e_{k+2} − 2e_{k+1} + e_k
-    // (variance 6σ²), while the span carries only the first and last: u(span) = √2·σ.
-    double u_f = 0;
+    double sigma_b = 0.5 * dt / std::sqrt(3.0), k_f = 2;
     if (n_dperiod >= 2) {
-      const double sigma_b = std::sqrt(sum_dperiod2 / static_cast<double>(n_dperiod) / 6.0);
-      u_f = f * std::sqrt(2.0) * sigma_b / span;
+      sigma_b = std::sqrt(sum_dperiod2 / static_cast<double>(n_dperiod) / 6.0);
+      k_f = student_t95(std::max(1.0, static_cast<double>(n_dperiod) / 1.94));
     }
-    s.fundamental_hz = Estimate{f, 2 * u_f, 2};
+    const double u_f = f *
+                       std::sqrt(2.0 * static_cast<double>(std::max<std::uint64_t>(stretches, 1))) *
+                       sigma_b / span;
+    s.fundamental_hz = Estimate{f, k_f * u_f, k_f};
 
     const double dc = a.dc.mean();
     s.dc_offset_a = estimate(a.dc, {{u_off, 1e300}, {u_gain_rel * std::fabs(dc), 1e300}, zero});
@@ -737,11 +1099,46 @@ struct CycleEngine::Impl {
                            " at the negative extreme of the recording: the DC offset and the "
                            "charge asymmetry are not trustworthy (widen the recorder's range)");
     }
-    if (a.dc.count() < 2 * BatchMeans::kMinBatches) {
+    if (s.cycles < 3) {
+      s.warnings.push_back("only " + std::to_string(s.cycles) +
+                           " whole cycle(s): the fundamental and every mean are poorly "
+                           "determined (a record of three or more whole cycles is needed)");
+    } else if (a.dc.count() < 2 * BatchMeans::kMinBatches) {
       s.warnings.push_back("only " + std::to_string(s.cycles) +
                            " whole cycles: the uncertainty cannot allow for correlation between "
                            "neighbouring cycles (64 or more cycles can)");
     }
+  }
+
+  // Issue 9, items 5 and 6: what was left out, and whether the reference is periodic at all.
+  void judge_record() {
+    CycleSummary& s = summary;
+    if (!s.reference_note.empty()) s.warnings.push_back(s.reference_note);
+    const std::uint64_t out = s.not_finite_cycles + s.glitch_cycles + s.irregular_cycles;
+    if (s.not_finite_samples > 0) {
+      s.warnings.push_back(std::to_string(s.not_finite_samples) +
+                           " sample(s) are not finite (NaN or infinite); the " +
+                           std::to_string(s.not_finite_cycles) +
+                           " cycle(s) they reach are left out");
+    }
+    if (out > 0) {
+      std::string where;
+      for (const Exclusion& e : s.exclusions) {
+        if (!where.empty()) where += ", ";
+        where += e.reason + " " + std::to_string(e.start_s) + "–" + std::to_string(e.end_s) + " s";
+        if (where.size() > 300) {
+          where += ", …";
+          break;
+        }
+      }
+      s.warnings.push_back(std::to_string(out) + " cycle(s) left out of every figure (" +
+                           std::to_string(s.glitch_cycles) + " with a glitch, " +
+                           std::to_string(s.irregular_cycles) + " irregular, " +
+                           std::to_string(s.not_finite_cycles) + " not finite): " + where);
+    }
+    // A reference without a periodic fundamental (noise, a single transient) cuts the record
+    // into "cycles" of random length: most fall outside ±kPeriodTolerance of the running period.
+    if (s.irregular_cycles > 0 && s.irregular_cycles >= s.cycles) s.periodic = false;
   }
 };
 
@@ -755,7 +1152,11 @@ CycleEngine::CycleEngine(const CycleConfig& config, Sink sink) : impl_(std::make
   impl_->cfg = config;
   impl_->sink = std::move(sink);
   impl_->dt = 1.0 / config.sample_rate_hz;
-  impl_->ref_is_voltage = config.voltage_channel.has_value();
+  if (config.reference == CycleReference::voltage && !config.voltage_channel) {
+    throw std::invalid_argument("CycleConfig: a voltage reference needs a voltage channel");
+  }
+  impl_->ref_is_voltage =
+      config.voltage_channel.has_value() && config.reference != CycleReference::current;
   if (config.harmonics) {
     HarmonicConfig h = *config.harmonics;
     h.sample_rate_hz = config.sample_rate_hz;
@@ -796,10 +1197,15 @@ const CycleSummary& CycleEngine::finish() {
     for (const Frame& h : m.held) m.push(h);
     std::vector<Frame>().swap(m.held);
   }
-  m.refine_pending = false;  // a crossing too close to the end for its fit is not used
+  m.pending.clear();  // a crossing too close to the end for its fit is not used
   if (m.next_index > 0) m.integrate_up_to(m.next_index - 1);
+  if (m.held_back) {
+    m.commit(m.held_back->first, m.held_back->second);
+    m.held_back.reset();
+  }
   m.finished = true;
   m.build_summary();
+  m.judge_record();
   return m.summary;
 }
 

@@ -104,6 +104,17 @@ class JoinedSource final : public SampleSource {
     apply_scales(options);
     const std::vector<double> gains = channel_gains(info_.channels, options, info_.path);
     for (std::size_t c = 0; c < gains.size(); ++c) multipliers_[c] *= gains[c];
+    // The member files were opened without --scale/--gain, so their integer full scale is in
+    // unscaled units: it is scaled exactly as the samples are, so a sample on a rail still
+    // equals its bound (a negative factor swaps the two).
+    for (std::size_t c = 0; c < info_.channels.size() && c < multipliers_.size(); ++c) {
+      ChannelInfo& ch = info_.channels[c];
+      if (!ch.full_scale_low || !ch.full_scale_high) continue;
+      const double a = *ch.full_scale_low * multipliers_[c];
+      const double b = *ch.full_scale_high * multipliers_[c];
+      ch.full_scale_low = std::min(a, b);
+      ch.full_scale_high = std::max(a, b);
+    }
     assign_roles(info_.channels, options, info_.path, notes_);
   }
 

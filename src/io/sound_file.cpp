@@ -288,6 +288,23 @@ std::uint64_t bytes_per_sample(int format) {
   }
 }
 
+/// Bits of a linear integer PCM encoding, 0 for float, companded, lossy and other encodings.
+int pcm_bits(int format) {
+  switch (format & SF_FORMAT_SUBMASK) {
+    case SF_FORMAT_PCM_S8:
+    case SF_FORMAT_PCM_U8:
+      return 8;
+    case SF_FORMAT_PCM_16:
+      return 16;
+    case SF_FORMAT_PCM_24:
+      return 24;
+    case SF_FORMAT_PCM_32:
+      return 32;
+    default:
+      return 0;
+  }
+}
+
 /// Encodings whose decoded values differ from what was recorded by more than one step.
 bool is_lossy(int format) {
   switch (format & SF_FORMAT_SUBMASK) {
@@ -507,6 +524,20 @@ std::unique_ptr<SampleSource> open_opened_sound_file(SndfileHandle file, const S
   }
   const std::vector<double> gains = channel_gains(info.channels, options, shown);
   for (std::size_t c = 0; c < channel_count; ++c) multipliers[c] *= gains[c];
+
+  // The ends of the integer range, as read: b-bit PCM holds codes −2^(b−1) … 2^(b−1) − 1, read
+  // as code / 2^(b−1), so −1 and 1 − 2^−(b−1) of full scale (8-bit unsigned WAV too: libsndfile
+  // reads byte u as (u − 128)/128). Both products are formed as read() forms a sample's, so a
+  // sample on a rail equals the bound exactly; a negative gain turns them over.
+  if (const int bits = pcm_bits(sf_info.format); bits > 0) {
+    const double full = std::ldexp(1.0, bits - 1);
+    for (std::size_t c = 0; c < channel_count; ++c) {
+      const double bottom = -1.0 * multipliers[c];
+      const double top = ((full - 1.0) / full) * multipliers[c];
+      info.channels[c].full_scale_low = std::min(bottom, top);
+      info.channels[c].full_scale_high = std::max(bottom, top);
+    }
+  }
 
   std::vector<std::string> warnings;
   std::string unscaled;

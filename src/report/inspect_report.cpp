@@ -188,6 +188,11 @@ void write_inspect_json(std::ostream& out, const InspectResult& result) {
     c["clipped_share"] = s.clipped_share;
     c["clipped_max_share"] = s.clipped_high_share;
     c["clipped_min_share"] = s.clipped_low_share;
+    c["clipped_max_crests"] = s.clipped_high_crests;
+    c["clipped_min_crests"] = s.clipped_low_crests;
+    // The integer full scale, in the channel's unit like min and max; null for float and text.
+    c["full_scale_min"] = ch.full_scale_low ? json(*ch.full_scale_low) : json(nullptr);
+    c["full_scale_max"] = ch.full_scale_high ? json(*ch.full_scale_high) : json(nullptr);
     channels.push_back(std::move(c));
   }
   doc["channels"] = std::move(channels);

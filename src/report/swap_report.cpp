@@ -1,5 +1,6 @@
 #include "lopside/swap_report.hpp"
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdio>
@@ -46,8 +47,10 @@ bool ends_with(const std::string& s, const std::string& tail) {
 // An evidence figure in the unit its code implies.
 std::string evidence_figure(const std::string& code, double v) {
   if (!std::isfinite(v)) return "n/a";
-  if (ends_with(code, "_bias")) return format_si(v, "A", 3, true);
-  if (ends_with(code, "_asymmetry")) return signed_fixed(v, 4);
+  if (ends_with(code, "_bias") || code == "repeat_changed") return format_si(v, "A", 3, true);
+  if (ends_with(code, "_asymmetry") || code == "repeat_asymmetry_changed") {
+    return signed_fixed(v, 4);
+  }
   if (code.rfind("clipped", 0) == 0) return fixed(v, 0) + " cycles";
   return fixed(100 * v, 2) + " %";
 }
@@ -55,8 +58,8 @@ std::string evidence_figure(const std::string& code, double v) {
 // The bar a value is held against has no sign.
 std::string evidence_bar(const std::string& code, double v) {
   if (!std::isfinite(v)) return "n/a";
-  if (ends_with(code, "_bias")) return format_si(v, "A", 3);
-  if (ends_with(code, "_asymmetry")) return fixed(v, 4);
+  if (ends_with(code, "_bias") || code == "repeat_changed") return format_si(v, "A", 3);
+  if (ends_with(code, "_asymmetry") || code == "repeat_asymmetry_changed") return fixed(v, 4);
   return evidence_figure(code, v);
 }
 
@@ -95,6 +98,29 @@ void write_swap_text(std::ostream& out, const SwapReport& rep) {
       << (on_electrode ? "the same electrode's lead" : "the same supply terminal") << '\n';
   capture_lines(out, "normal (N)", rep.normal, r.normal_dc_a, r.normal_asymmetry);
   capture_lines(out, "swapped (S)", rep.swapped, r.swapped_dc_a, r.swapped_asymmetry);
+  if (rep.normal_again && r.repeat) {
+    const RepeatCheck& rc = *r.repeat;
+    capture_lines(out, "normal again (N')", *rep.normal_again, rc.again_dc_a, rc.again_asymmetry);
+    line(out, "repeat N' \xE2\x88\x92 N",
+         "DC offset " +
+             format_with_uncertainty(rc.difference_dc_a.value, rc.difference_dc_a.u95, "A", true) +
+             ", charge asymmetry " +
+             format_ratio_with_uncertainty(rc.difference_asymmetry.value,
+                                           rc.difference_asymmetry.u95, true) +
+             ": " + to_string(rc.outcome));
+    if (rc.mean_used) {
+      line(out, "normal used",
+           "(N + N')/2: DC offset " +
+               format_with_uncertainty(rc.normal_used_dc_a.value, rc.normal_used_dc_a.u95, "A",
+                                       true) +
+               ", charge asymmetry " +
+               format_ratio_with_uncertainty(rc.normal_used_asymmetry.value,
+                                             rc.normal_used_asymmetry.u95, true) +
+               " (N below is this mean)");
+    } else {
+      line(out, "normal used", "N alone: the repeat did not confirm it, the split is not trusted");
+    }
+  }
   out << '\n';
   line(out, "supply part D",
        pad(format_with_uncertainty(r.driver_bias_a.value, r.driver_bias_a.u95, "A", true), 24) +
@@ -117,8 +143,11 @@ void write_swap_text(std::ostream& out, const SwapReport& rep) {
   line(out, "verdict",
        std::string(to_string(r.verdict)) + ", confidence " + fixed(r.confidence, 2));
   out << "  evidence (value, then the bar it is held against):\n";
+  // The code column fits the longest code (the repeat's are longer than the pair's).
+  std::size_t code_width = 21;
+  for (const Evidence& e : r.evidence) code_width = std::max(code_width, e.code.size() + 2);
   for (const Evidence& e : r.evidence) {
-    out << "    " << pad(e.code, 21) << pad(evidence_figure(e.code, e.value), 14)
+    out << "    " << pad(e.code, code_width) << pad(evidence_figure(e.code, e.value), 14)
         << pad(evidence_bar(e.code, e.threshold), 12) << e.text << '\n';
   }
   if (!r.next_steps.empty()) {
@@ -126,21 +155,26 @@ void write_swap_text(std::ostream& out, const SwapReport& rep) {
     for (const auto& s : r.next_steps) out << "    - " << s << '\n';
   }
   out << "\n  Uncertainties are expanded (95 %, k = 2 unless stated otherwise in the JSON): each "
-         "capture's cycle-to-cycle scatter, independent between the two";
+         "capture's cycle-to-cycle scatter, independent between the "
+      << (r.repeat ? "three" : "two");
   if (rep.probe_offset_a > 0 || rep.probe_gain_pct > 0) {
-    out << ", and the probe's stated tolerances, carried alike into both captures (its offset "
-           "cancels in "
-        << diff << " and adds fully to " << sum << ")";
+    out << ", and the probe's stated tolerances, carried alike into "
+        << (r.repeat ? "all captures" : "both captures") << " (its offset cancels in " << diff
+        << (r.repeat ? " and in N' \xE2\x88\x92 N" : "") << " and adds fully to " << sum << ")";
   }
   out << ".\n  Sign convention: " << kSignConvention << ".\n  " << kSafety << '\n';
 
-  const bool any_warning =
-      !r.warnings.empty() || !rep.normal.warnings.empty() || !rep.swapped.warnings.empty();
+  const bool any_warning = !r.warnings.empty() || !rep.normal.warnings.empty() ||
+                           !rep.swapped.warnings.empty() ||
+                           (rep.normal_again && !rep.normal_again->warnings.empty());
   if (any_warning) {
     out << "\nwarnings:\n";
     for (const auto& w : r.warnings) out << "  - " << w << '\n';
     for (const auto& w : rep.normal.warnings) out << "  - normal: " << w << '\n';
     for (const auto& w : rep.swapped.warnings) out << "  - swapped: " << w << '\n';
+    if (rep.normal_again) {
+      for (const auto& w : rep.normal_again->warnings) out << "  - normal again: " << w << '\n';
+    }
   }
 }
 
@@ -154,6 +188,8 @@ void write_swap_json(std::ostream& out, const SwapReport& rep) {
       json{{"offset_tolerance_a", rep.probe_offset_a}, {"gain_tolerance_pct", rep.probe_gain_pct}};
   doc["formulas"] = json{{"driver", on_electrode ? "(N - S)/2" : "(N + S)/2"},
                          {"electrode", on_electrode ? "(N + S)/2" : "(N - S)/2"}};
+  // With a repeat whose bias came back, N in the formulas is the mean of the two normals.
+  if (r.repeat && r.repeat->mean_used) doc["formulas"]["normal"] = "(N + N')/2";
   doc["driver_bias_a"] = estimate_json(r.driver_bias_a);
   doc["electrode_bias_a"] = estimate_json(r.electrode_bias_a);
   doc["driver_asymmetry"] = estimate_json(r.driver_asymmetry);
@@ -172,6 +208,9 @@ void write_swap_json(std::ostream& out, const SwapReport& rep) {
   json warnings = r.warnings;
   for (const auto& w : rep.normal.warnings) warnings.push_back("normal: " + w);
   for (const auto& w : rep.swapped.warnings) warnings.push_back("swapped: " + w);
+  if (rep.normal_again) {
+    for (const auto& w : rep.normal_again->warnings) warnings.push_back("normal again: " + w);
+  }
   doc["warnings"] = warnings;
   doc["next_steps"] = r.next_steps;
   const auto capture = [](const SwapCaptureReport& c, const Estimate& dc, const Estimate& asym) {
@@ -189,6 +228,20 @@ void write_swap_json(std::ostream& out, const SwapReport& rep) {
   };
   doc["normal"] = capture(rep.normal, r.normal_dc_a, r.normal_asymmetry);
   doc["swapped"] = capture(rep.swapped, r.swapped_dc_a, r.swapped_asymmetry);
+  if (rep.normal_again && r.repeat) {
+    const RepeatCheck& rc = *r.repeat;
+    json j = capture(*rep.normal_again, rc.again_dc_a, rc.again_asymmetry);
+    j["difference_dc_a"] = estimate_json(rc.difference_dc_a);
+    j["difference_asymmetry"] = estimate_json(rc.difference_asymmetry);
+    j["material_dc_a"] = finite_or_null(rc.material_dc_a);
+    j["outcome"] = to_string(rc.outcome);
+    j["mean_used"] = rc.mean_used;
+    j["normal_used_dc_a"] = estimate_json(rc.normal_used_dc_a);
+    j["normal_used_asymmetry"] = estimate_json(rc.normal_used_asymmetry);
+    doc["repeat"] = j;
+  } else {
+    doc["repeat"] = nullptr;
+  }
   doc["sign_convention"] = kSignConvention;
   doc["safety"] = kSafety;
   out << doc.dump(2, ' ', false, json::error_handler_t::replace) << '\n';

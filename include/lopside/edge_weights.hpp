@@ -1,0 +1,41 @@
+#pragma once
+/// \file
+/// Integrals of a sampled, band-limited signal over intervals whose ends fall between samples.
+///
+/// The integral of the band-limited reconstruction g(t) = Σₙ gₙ·φ(t − n) over [a, b] (t in
+/// samples) is Σₙ gₙ·[C(b − n) − C(a − n)], C the running integral of the kernel φ. Samples far
+/// from both ends have weight exactly 1, so the integral is the plain sum of the samples inside
+/// plus a correction at each end that involves only the 2·kEdgeHalfTaps samples around it:
+///
+///   ∫ₐᵇ g dt = Σ_{⌊a⌋ < n ≤ ⌊b⌋} gₙ + δ(b) − δ(a),   δ(x) = Σₙ gₙ·(C(x − n) − [n ≤ ⌊x⌋]).
+///
+/// Straight lines between samples instead (the trapezoid rule with interpolated ends) square a
+/// straight line where the signal curves: at 8 samples per cycle that made the RMS 0.6 % low.
+
+#include <array>
+#include <cstddef>
+
+namespace lopside {
+
+/// Half the kernel's length in samples: δ(x) uses samples ⌊x⌋ − kEdgeHalfTaps + 1 … ⌊x⌋ +
+/// kEdgeHalfTaps.
+inline constexpr int kEdgeHalfTaps = 16;
+inline constexpr std::size_t kEdgeTaps = 2 * static_cast<std::size_t>(kEdgeHalfTaps);
+
+/// The correction weights c_j(p) = C(p − j) − [j ≤ 0] for j = −kEdgeHalfTaps + 1 … kEdgeHalfTaps
+/// (array index j + kEdgeHalfTaps − 1), at the fractional position p = x − ⌊x⌋ ∈ [0, 1).
+/// Σⱼ c_j(p) = p − ½ exactly, so a constant integrates exactly over any interval.
+///
+/// `half_taps` (2, 4, 8 or 16) shortens the kernel where fewer samples exist on one side (the
+/// ends of a capture); the weights then fill the first 2·half_taps entries, for
+/// j = −half_taps + 1 … half_taps. A shorter kernel keeps the same convention (interior samples
+/// weigh 1, with nothing of the trapezoid rule's g′/12 end term), so a cycle may be measured
+/// with two lengths at its two ends; only its pass band is narrower.
+std::array<double, kEdgeTaps> edge_weights(double p, int half_taps = kEdgeHalfTaps);
+
+/// The kernel itself, φ(p − j) for j = −kEdgeHalfTaps + 1 … kEdgeHalfTaps (index j +
+/// kEdgeHalfTaps − 1), normalised to unit sum: Σⱼ φ(p − j)·g_{⌊x⌋+j} is the band-limited value
+/// at x = ⌊x⌋ + p.
+std::array<double, kEdgeTaps> interpolation_weights(double p);
+
+}  // namespace lopside
