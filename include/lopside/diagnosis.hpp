@@ -30,6 +30,16 @@ struct Evidence {
 /// The verdicts, spelled as in every output.
 enum class Verdict { symmetric, driver_imbalance, self_rectification, mixed, inconclusive };
 const char* to_string(Verdict v) noexcept;
+/// One plain sentence saying what the verdict means, printed beside its code.
+const char* verdict_sentence(Verdict v) noexcept;
+
+/// Which electrode was the preferred cathode over a stretch of the record (between flips).
+struct CathodeStretch {
+  double start_s = 0, end_s = 0;
+  std::string electrode;  ///< "A", "B", or "none" (no significant and material DC there)
+  double mean_dc_a = 0;
+  double u95_a = 0;
+};
 
 struct Diagnosis {
   Verdict verdict = Verdict::inconclusive;
@@ -37,6 +47,9 @@ struct Diagnosis {
   std::vector<std::string> deciding;    ///< codes of the evidence that decided the verdict
   std::vector<Evidence> evidence;       ///< everything examined, deciding or not
   std::vector<std::string> next_steps;  ///< one or two things a technician does next
+  /// The preferred cathode stretch by stretch when the DC flipped (issue 9, item 7); empty
+  /// without a flip, when the whole record's mean names it.
+  std::vector<CathodeStretch> cathodes;
 };
 
 /// Thresholds of the evidence; the defaults are documented in README.md with their reasons.
@@ -65,11 +78,20 @@ struct HeatingShare {
   std::string regime;             ///< "glow", "arc" or "custom"
   std::optional<double> erosion_a_ug_per_h;  ///< cathode erosion of A, if a rate was given
   std::optional<double> erosion_b_ug_per_h;
+  /// The same split over the stretch after the last polarity flip, when there was one: the
+  /// whole record's mean mixes the cathodes before and after it.
+  struct Stretch {
+    double start_s = 0;
+    double electrode_a = 0, electrode_b = 0;
+  };
+  std::optional<Stretch> after_last_flip;
 };
 
 /// Heat_A = c·Q− + a·Q+ and Heat_B = c·Q+ + a·Q− per cycle (c, a the cathode's and anode's
 /// shares); erosion = rate × charge carried as cathode per hour.
 HeatingShare heating_share(const CycleSummary& summary, double cathode_share,
-                           const std::string& regime, std::optional<double> erosion_ug_per_c);
+                           const std::string& regime, std::optional<double> erosion_ug_per_c,
+                           const Diagnosis* diagnosis = nullptr,
+                           const TimeCourseResult* course = nullptr);
 
 }  // namespace lopside

@@ -72,7 +72,8 @@ void run_measure(const MeasureOptions& o) {
   // practice; a parameter with a default per regime, never a constant).
   const double regime_share = o.regime == "arc" ? 0.3 : 0.7;
   result.heating = heating_share(result.summary, o.cathode_share.value_or(regime_share),
-                                 o.cathode_share ? "custom" : o.regime, o.erosion_ug_per_c);
+                                 o.cathode_share ? "custom" : o.regime, o.erosion_ug_per_c,
+                                 &result.diagnosis, &result.time_course);
 
   if (cycles_out) cycles_out->commit();
   if (spectrum_out) {

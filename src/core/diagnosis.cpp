@@ -63,6 +63,22 @@ const char* to_string(Verdict v) noexcept {
   return "inconclusive";
 }
 
+const char* verdict_sentence(Verdict v) noexcept {
+  switch (v) {
+    case Verdict::symmetric:
+      return "No DC worth acting on: both electrodes carry the same charge.";
+    case Verdict::driver_imbalance:
+      return "The supply switches unevenly and pushes a DC through the discharge.";
+    case Verdict::self_rectification:
+      return "The discharge rectifies itself: one electrode has become the preferred cathode.";
+    case Verdict::mixed:
+      return "Both the supply and the electrodes add to the DC.";
+    case Verdict::inconclusive:
+      break;
+  }
+  return "This capture cannot say where the DC comes from.";
+}
+
 Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
                    const DiagnosisThresholds& th) {
   Diagnosis d;
@@ -204,22 +220,47 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
   }
 
   // --- the spectrum: DC and even harmonics travel together --------------------------------
+  // Only even orders that stand above the capture's own noise floor count (harmonics.hpp,
+  // `significant`): noise puts as much into the even orders as into the odd ones and the bins
+  // between them, and must not pass for a half-cycle difference (issue 9, item 3).
   bool offset_like = false;
-  if (s.harmonics && s.harmonics->orders.size() > 2 && dc_significant) {
+  const bool even_available = s.harmonics && s.harmonics->even_evidence_available;
+  if (!even_available) {
+    add("even_harmonics_not_available", 0, 0,
+        "The even harmonics cannot be checked (fewer whole cycles than one harmonic block, or "
+        "too few samples per cycle for the 2nd order): the current's asymmetry alone gives no "
+        "cause.");
+  } else if (dc_significant) {
     const HarmonicSummary& h = *s.harmonics;
-    double even2 = 0;
-    for (std::size_t n = 2; n < h.orders.size(); n += 2)
-      even2 += h.orders[n].rms_a * h.orders[n].rms_a;
-    const double ratio = std::sqrt(even2) / std::fabs(dc);
+    const double ratio = h.even_significant_rms_a / std::fabs(dc);
     offset_like = ratio < th.even_rms_to_dc;
+    std::string orders;
+    for (std::size_t n : h.even_significant_orders) {
+      if (orders.size() > 40) {
+        orders += ", …";
+        break;
+      }
+      orders += (orders.empty() ? "" : ", ") + std::to_string(n);
+    }
     add("even_harmonics", ratio, th.even_rms_to_dc,
         offset_like
-            ? "The DC comes without even harmonics (their rms is " + pct(ratio) +
+            ? "The DC comes without even harmonics above the noise floor (their rms is " +
+                  pct(ratio) +
                   " of the DC): the half-cycles have one shape, so a probe offset or a DC leak is "
                   "more likely than a half-cycle difference; zero the probe (--zero)."
-            : "Even harmonics (rms " + pct(ratio) +
+            : "Even harmonics above the noise floor (orders " + orders + ", rms " + pct(ratio) +
                   " of the DC) come with the DC, as a difference between the half-cycles must "
                   "give.");
+  }
+  if (!even_available) {
+    // Without the second witness the current's own asymmetry is only the DC seen again.
+    if (std::erase(self_codes, std::string("current_asymmetric_voltage_symmetric")) > 0) {
+      for (Evidence& e : d.evidence) {
+        if (e.code == "current_asymmetric_voltage_symmetric")
+          e.text = "Discounted (even harmonics not available): " + e.text;
+      }
+    }
+    self = !self_codes.empty();
   }
 
   // A rectifying discharge changes the shape of one half-cycle, and that makes even
@@ -268,11 +309,47 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     if (self) d.deciding.insert(d.deciding.end(), self_codes.begin(), self_codes.end());
     if (!driver && !self && offset_like) d.deciding.push_back("even_harmonics");
     if (!driver && !self && !s.has_voltage) d.deciding.push_back("no_voltage_channel");
+    if (!driver && !self && !even_available && dc_significant)
+      d.deciding.push_back("even_harmonics_not_available");
+  }
+
+  // --- which electrode is the cathode, stretch by stretch (issue 9, item 7) ---------------
+  // Sign convention (heating_share): while i > 0, A is the anode and B the cathode; a negative
+  // DC (more charge while i < 0) makes A the preferred cathode.
+  const bool a_cathode_more = s.charge_negative_c.value > s.charge_positive_c.value;
+  std::string hotter = a_cathode_more ? "A" : "B";
+  if (flips > 0) {
+    for (const Segment& g : course.segments) {
+      CathodeStretch c;
+      c.start_s = g.start_s;
+      c.end_s = g.end_s;
+      c.mean_dc_a = g.mean_dc_a;
+      c.u95_a = g.u95_a;
+      c.electrode = !g.decided ? "none" : (g.mean_dc_a < 0 ? "A" : "B");
+      if (!d.cathodes.empty() && d.cathodes.back().electrode == c.electrode) {
+        d.cathodes.back().end_s = c.end_s;  // neighbouring segments with the same cathode
+        continue;
+      }
+      d.cathodes.push_back(c);
+    }
+    // After a flip the record's mean mixes two cathodes: the advice names the last one.
+    for (auto it = d.cathodes.rbegin(); it != d.cathodes.rend(); ++it) {
+      if (it->electrode != "none") {
+        hotter = it->electrode;
+        break;
+      }
+    }
+  }
+  std::string stretches;
+  for (const CathodeStretch& c : d.cathodes) {
+    if (!stretches.empty()) stretches += "; ";
+    char span[96];
+    std::snprintf(span, sizeof span, "%.4g–%.4g s: ", c.start_s, c.end_s);
+    stretches += span + (c.electrode == "none" ? std::string("no preferred cathode")
+                                               : "electrode " + c.electrode);
   }
 
   // --- what to do next (the caution is printed with them by every report) -----------------
-  const bool a_cathode_more = s.charge_negative_c.value > s.charge_positive_c.value;
-  const std::string hotter = a_cathode_more ? "A" : "B";
   switch (d.verdict) {
     case Verdict::symmetric:
       d.next_steps.push_back("No DC to act on; keep this capture as the unit's reference.");
@@ -285,17 +362,20 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
           "Confirm with the lead-swap test (lopside swap): the DC must reverse with the leads.");
       break;
     case Verdict::self_rectification:
-      d.next_steps.push_back("Inspect electrode " + hotter +
-                             ", the preferred cathode: it takes the extra heat "
-                             "and wears first.");
+      d.next_steps.push_back(
+          "Inspect electrode " + hotter +
+          (d.cathodes.empty() ? ", the preferred cathode: it takes the extra heat and wears first."
+                              : ", the preferred cathode since the last flip (" + stretches +
+                                    "): it takes the extra heat and wears first."));
       d.next_steps.push_back(
           "Confirm with the lead-swap test (lopside swap): the DC must stay with the electrodes.");
       break;
     case Verdict::mixed:
       d.next_steps.push_back(
           "Run the lead-swap test (lopside swap) to size the supply's and the electrodes' parts.");
-      d.next_steps.push_back("Check the inverter's switch timing, and inspect electrode " + hotter +
-                             ".");
+      d.next_steps.push_back(
+          "Check the inverter's switch timing, and inspect electrode " + hotter +
+          (d.cathodes.empty() ? "." : " (cathodes by stretch: " + stretches + ")."));
       break;
     case Verdict::inconclusive:
       if (clipped > 0) {
@@ -315,7 +395,8 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
 }
 
 HeatingShare heating_share(const CycleSummary& s, double cathode_share, const std::string& regime,
-                           std::optional<double> erosion_ug_per_c) {
+                           std::optional<double> erosion_ug_per_c, const Diagnosis* diagnosis,
+                           const TimeCourseResult* course) {
   HeatingShare h;
   h.cathode_share_used = cathode_share;
   h.regime = regime;
@@ -334,6 +415,26 @@ HeatingShare heating_share(const CycleSummary& s, double cathode_share, const st
     const double cycles_per_hour = 3600.0 * s.fundamental_hz.value;
     h.erosion_a_ug_per_h = *erosion_ug_per_c * qn * cycles_per_hour;
     h.erosion_b_ug_per_h = *erosion_ug_per_c * qp * cycles_per_hour;
+  }
+  // After the last flip: the split depends on the charges only through their ratio, Q+/(Q+ +
+  // Q−) = (1 + asymmetry)/2, so the stretch's mean charge asymmetry (the time course's points,
+  // weighted by their cycles) gives it.
+  if (diagnosis && course && diagnosis->cathodes.size() > 1) {
+    const double from = diagnosis->cathodes.back().start_s;
+    double sum = 0, n = 0;
+    for (const CoursePoint& p : course->points) {
+      if (p.time_s < from) continue;
+      sum += p.charge_asymmetry * static_cast<double>(p.cycles);
+      n += static_cast<double>(p.cycles);
+    }
+    if (n > 0) {
+      const double share_pos = 0.5 * (1 + sum / n), share_neg = 1 - share_pos;
+      HeatingShare::Stretch st;
+      st.start_s = from;
+      st.electrode_a = c * share_neg + a * share_pos;
+      st.electrode_b = c * share_pos + a * share_neg;
+      h.after_last_flip = st;
+    }
   }
   return h;
 }

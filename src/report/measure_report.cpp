@@ -37,9 +37,29 @@ void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1
       out, "even harmonics",
       fixed(100 * h.even_harmonic_share, 2) + " % of the harmonic content (orders \xE2\x89\xA5 2)");
   line(out, "DC / fundamental", fixed(100 * h.dc_to_fundamental, 3) + " %");
+  if (h.noise_floor_known) {
+    line(out, "noise floor", format_si(h.noise_floor_a, "A", 3) + " per order (peak)");
+  }
+  if (!h.even_evidence_available) {
+    line(out, "even orders", "not available (no block with a noise floor, or order 2 unresolved)");
+  } else if (h.even_significant_orders.empty()) {
+    line(out, "even orders", "none above the noise floor");
+  } else {
+    std::string orders;
+    for (std::size_t n : h.even_significant_orders) {
+      if (orders.size() > 30) {
+        orders += ", \xE2\x80\xA6";
+        break;
+      }
+      orders += (orders.empty() ? "" : ", ") + std::to_string(n);
+    }
+    line(out, "even orders",
+         orders + " above the noise floor, rms " +
+             format_with_uncertainty(h.even_significant_rms_a, h.even_rms_u95_a, "A", false));
+  }
   out << "  harmonics (" << h.blocks << " blocks of " << h.block_cycles << " cycles"
       << (h.iec_61000_4_7 ? ", IEC 61000-4-7 window" : "") << "):\n";
-  out << "    order   frequency        amplitude (peak)   % of H1   phase\n";
+  out << "    order   frequency        amplitude (peak)   \xC2\xB1 u95        % of H1   phase\n";
   const double a1 = h.orders.size() > 1 ? h.orders[1].amplitude_a : 0.0;
   const std::size_t shown = std::min<std::size_t>(h.orders.size(), 8);
   for (std::size_t n = 0; n < shown; ++n) {
@@ -50,7 +70,8 @@ void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1
     const std::string pct = a1 > 0 ? fixed(100 * std::fabs(o.amplitude_a) / a1, 3) : "-";
     const std::string ph = n >= 1 ? fixed(o.phase_deg, 1) + "\xC2\xB0" : "";
     std::snprintf(buf.data(), buf.size(), "    %5zu   ", n);
-    out << buf.data() << pad(n == 0 ? "DC" : freq, 14) << "   " << pad(amp, 16) << "   ";
+    out << buf.data() << pad(n == 0 ? "DC" : freq, 14) << "   " << pad(amp, 16) << "   "
+        << pad(format_si(o.u95_a, "A", 2) + (n >= 1 && !o.significant ? " ~" : ""), 12) << " ";
     std::snprintf(buf.data(), buf.size(), "%8s   ", pct.c_str());
     out << buf.data() << ph << '\n';
   }
@@ -84,6 +105,12 @@ void write_diagnosis_text(std::ostream& out, const MeasureResult& r) {
     line(out, "electrode heating",
          "A " + fixed(100 * h.electrode_a, 1) + " %, B " + fixed(100 * h.electrode_b, 1) +
              " % (cathode share " + fixed(100 * h.cathode_share_used, 0) + " %, " + h.regime + ")");
+    if (h.after_last_flip) {
+      line(out, "  after last flip",
+           "A " + fixed(100 * h.after_last_flip->electrode_a, 1) + " %, B " +
+               fixed(100 * h.after_last_flip->electrode_b, 1) + " % (from " +
+               format_si(h.after_last_flip->start_s, "s", 4) + ")");
+    }
     if (h.erosion_a_ug_per_h) {
       line(out, "cathode erosion",
            "A " + fixed(*h.erosion_a_ug_per_h, 3) + " \xC2\xB5g/h, B " +
@@ -97,8 +124,16 @@ void write_diagnosis_text(std::ostream& out, const MeasureResult& r) {
     out << "    " << (deciding ? "* " : "  ") << pad(e.code, 38) << e.text << '\n';
   }
   out << '\n';
+  for (const CathodeStretch& c : d.cathodes) {
+    line(out, "preferred cathode",
+         format_si(c.start_s, "s", 4) + " \xE2\x80\x93 " + format_si(c.end_s, "s", 4) + ": " +
+             (c.electrode == "none" ? std::string("none (no material DC)")
+                                    : "electrode " + c.electrode) +
+             " (DC " + format_with_uncertainty(c.mean_dc_a, c.u95_a, "A", true) + ")");
+  }
   line(out, "VERDICT",
        std::string(to_string(d.verdict)) + "  (confidence " + fixed(d.confidence, 2) + ")");
+  out << "  " << verdict_sentence(d.verdict) << '\n';
   for (const std::string& step : d.next_steps) out << "  next: " << step << '\n';
   out << "  " << kHighVoltageCaution << '\n';
   out << "  Electrode A is the one the probed lead feeds: while i > 0, A is the anode.\n";
@@ -160,6 +195,11 @@ json harmonics_json(const HarmonicSummary& h) {
     j["phase_deg"] = o.phase_deg;
     j["amplitude_spread_a"] = o.amplitude_spread_a;
     j["phase_spread_deg"] = o.phase_spread_deg;
+    j["u95_a"] = o.u95_a;
+    j["effective_blocks"] = o.effective_blocks;
+    j["noise_floor_a"] = o.noise_floor_a;
+    j["detection_limit_a"] = o.detection_limit_a;
+    j["significant"] = o.significant;
     if (o.group_rms_a) j["group_rms_a"] = *o.group_rms_a;
     if (o.subgroup_rms_a) j["subgroup_rms_a"] = *o.subgroup_rms_a;
     orders.push_back(j);
@@ -285,6 +325,16 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   doc["cycle_count"] = s.cycles;
   doc["partial_cycles"] = s.partial_cycles;
   doc["excluded_cycles"] = s.excluded_cycles;
+  // Issue 9, items 5 and 6: what was left out and why, and how the reference was chosen.
+  doc["left_out_cycles"] = json{{"not_finite", s.not_finite_cycles},
+                                {"glitch", s.glitch_cycles},
+                                {"irregular", s.irregular_cycles}};
+  doc["not_finite_samples"] = s.not_finite_samples;
+  json excl = json::array();
+  for (const Exclusion& e : s.exclusions)
+    excl.push_back(json{{"start_s", e.start_s}, {"end_s", e.end_s}, {"reason", e.reason}});
+  doc["left_out_stretches"] = excl;
+  doc["reference_note"] = s.reference_note.empty() ? json(nullptr) : json(s.reference_note);
   doc["first_cycle_start_s"] = s.first_start_s;
   doc["last_cycle_end_s"] = s.last_end_s;
   json dc = estimate_json(s.dc_offset_a);
@@ -328,6 +378,14 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     doc["harmonic_blocks"] = h.blocks;
     doc["harmonic_block_cycles"] = h.block_cycles;
     doc["harmonic_iec_61000_4_7"] = h.iec_61000_4_7;
+    doc["harmonic_noise_floor_a"] = h.noise_floor_known ? json(h.noise_floor_a) : json(nullptr);
+    doc["harmonic_false_alarm_per_order"] = h.false_alarm_per_order;
+    json even;
+    even["available"] = h.even_evidence_available;
+    even["significant_orders"] = h.even_significant_orders;
+    even["significant_rms_a"] =
+        json{{"value", h.even_significant_rms_a}, {"u95", h.even_rms_u95_a}};
+    doc["even_harmonic_evidence"] = even;
     doc["harmonic_phase_convention"] =
         "phase_deg = phi_n - n*phi_1, sine basis a*sin(n*theta + phi)";
   } else {
@@ -341,6 +399,7 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     const Diagnosis& d = r.diagnosis;
     json diag;
     diag["verdict"] = to_string(d.verdict);
+    diag["verdict_text"] = verdict_sentence(d.verdict);
     diag["confidence"] = d.confidence;
     diag["deciding"] = d.deciding;
     json ev = json::array();
@@ -350,6 +409,14 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     }
     diag["evidence"] = ev;
     diag["next_steps"] = d.next_steps;
+    json cath = json::array();
+    for (const CathodeStretch& c : d.cathodes) {
+      cath.push_back(json{{"start_s", c.start_s},
+                          {"end_s", c.end_s},
+                          {"electrode", c.electrode},
+                          {"mean_dc_a", json{{"value", c.mean_dc_a}, {"u95", c.u95_a}}}});
+    }
+    diag["preferred_cathode_by_stretch"] = cath;
     diag["caution"] = kHighVoltageCaution;
     doc["diagnosis"] = diag;
     const TimeCourseResult& c = r.time_course;
@@ -392,6 +459,11 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
               {"regime", h.regime}};
       hs["erosion_a_ug_per_h"] = h.erosion_a_ug_per_h ? json(*h.erosion_a_ug_per_h) : json(nullptr);
       hs["erosion_b_ug_per_h"] = h.erosion_b_ug_per_h ? json(*h.erosion_b_ug_per_h) : json(nullptr);
+      hs["after_last_flip"] = h.after_last_flip
+                                  ? json{{"start_s", h.after_last_flip->start_s},
+                                         {"electrode_a", h.after_last_flip->electrode_a},
+                                         {"electrode_b", h.after_last_flip->electrode_b}}
+                                  : json(nullptr);
       doc["heating_share"] = hs;
     } else {
       doc["heating_share"] = nullptr;
