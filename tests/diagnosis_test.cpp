@@ -433,12 +433,14 @@ TEST(DiagnosisAtRealNoise, AfterAFlipTheCathodeAndTheHeatingAreThoseOfTheLastStr
 
 // Every verdict has its own sentence (item 10), so no two codes read alike.
 TEST(DiagnosisAtRealNoise, EachVerdictHasItsOwnSentence) {
-  const Verdict all[] = {Verdict::symmetric, Verdict::driver_imbalance,
-                         Verdict::self_rectification, Verdict::mixed, Verdict::inconclusive};
+  const Verdict all[] = {Verdict::symmetric, Verdict::driver_imbalance, Verdict::self_rectification,
+                         Verdict::mixed, Verdict::inconclusive};
   for (Verdict a : all) {
     EXPECT_GT(std::string(verdict_sentence(a)).size(), 20u);
     for (Verdict b : all) {
-      if (a != b) EXPECT_STRNE(verdict_sentence(a), verdict_sentence(b));
+      if (a != b) {
+        EXPECT_STRNE(verdict_sentence(a), verdict_sentence(b));
+      }
     }
   }
 }

@@ -81,6 +81,23 @@ std::uint64_t accounted(const CycleSummary& s) {
   return s.cycles + s.glitch_cycles + s.irregular_cycles + s.not_finite_cycles + s.partial_cycles;
 }
 
+// Nothing silently missing, in time: the kept cycles (each one true period long) and the
+// left-out stretches tile the span from the first boundary to the last (to a sample), and that
+// span reaches to within one period of each end of the record, plus the stretch in which
+// cycle_engine.cpp's refine() places no boundary: the boundary fit's half width (3 % of a
+// period) or, at few samples per cycle, the 17 samples of the band-limited kernel.
+void expect_record_accounted(const CycleSummary& s, double duration_s, double period_s,
+                             double rate_hz) {
+  double left_out_s = 0;
+  for (const Exclusion& e : s.exclusions) left_out_s += e.end_s - e.start_s;
+  ASSERT_LT(s.exclusions.size(), CycleEngine::kMaxExclusions);  // the list is complete
+  const double kept_s = static_cast<double>(s.cycles) * period_s;
+  EXPECT_NEAR(kept_s + left_out_s, s.last_end_s - s.first_start_s, 1.5 / rate_hz);
+  const double reach_s = (std::max(0.03 * period_s * rate_hz, 17.0) + 1) / rate_hz;
+  EXPECT_LE(s.first_start_s, period_s + reach_s);
+  EXPECT_GE(s.last_end_s, duration_s - period_s - reach_s);
+}
+
 // The capture: 1 kHz, 20 mA peak, +1 mA DC, 1 % of peak white noise, 1 MS/s, 2.5 s
 // (2.5 M frames, past the engine's 1 M-frame look-ahead).
 constexpr double kRate = 1e6, kF = 1000, kPeak = 0.020, kDc = 0.001, kNoise = 0.0002;
@@ -141,6 +158,7 @@ TEST_P(Glitch, IsFoundPastTheLookAheadAndItsCyclesLeftOut) {
   EXPECT_GE(accounted(s), static_cast<std::uint64_t>(kPeriods));
   EXPECT_LE(accounted(s), static_cast<std::uint64_t>(kPeriods) + 2);
   EXPECT_LE(s.irregular_cycles, 2u);
+  expect_record_accounted(s, kDuration, 1 / kF, kRate);
   const double t = static_cast<double>(at) / kRate;
   EXPECT_NE(stretch_holding(s, "glitch", t, t), nullptr) << all_warnings(s);
   EXPECT_TRUE(any_warning_has(s, "glitch")) << all_warnings(s);
@@ -174,6 +192,7 @@ TEST_P(NotFiniteSamples, AreCountedAndTheirCyclesLeftOut) {
   EXPECT_LE(s.not_finite_cycles, 3u);
   EXPECT_GE(accounted(s), static_cast<std::uint64_t>(kPeriods));
   EXPECT_LE(accounted(s), static_cast<std::uint64_t>(kPeriods) + 1);
+  expect_record_accounted(s, kDuration, 1 / kF, kRate);
   const double t0 = static_cast<double>(from) / kRate, t1 = static_cast<double>(to - 1) / kRate;
   EXPECT_NE(stretch_holding(s, "not_finite", t0, t1), nullptr) << all_warnings(s);
   EXPECT_TRUE(any_warning_has(s, "not finite")) << all_warnings(s);
@@ -200,21 +219,13 @@ TEST(Dropout, IsLeftOutAndTheRecordStillAccountedFor) {
   // A left-out stretch spans the dropout (no cycle boundary lies inside it).
   const double t0 = 2.0, t1 = 2.02 - 1 / kRate;
   bool spanned = false;
-  double left_out_s = 0;
-  for (const Exclusion& e : s.exclusions) {
-    spanned = spanned || (e.start_s <= t0 && e.end_s >= t1);
-    left_out_s += e.end_s - e.start_s;
-  }
+  for (const Exclusion& e : s.exclusions) spanned = spanned || (e.start_s <= t0 && e.end_s >= t1);
   EXPECT_TRUE(spanned) << all_warnings(s);
-  // The kept cycles' time plus the left-out stretches is the time from the first boundary to
-  // the last: nothing silently missing (1 µs: one sample). The ends lie within a period of the
-  // record's.
-  const double kept_s = static_cast<double>(s.cycles) / kF;
-  EXPECT_NEAR(kept_s + left_out_s, s.last_end_s - s.first_start_s, 1e-6);
-  EXPECT_LE(s.first_start_s, 1 / kF);
-  EXPECT_GE(s.last_end_s, kDuration - 1 / kF);
-  // The 20 periods of the dropout are one irregular "cycle": 2500 − 19 pieces in all.
-  EXPECT_GE(accounted(s), static_cast<std::uint64_t>(kPeriods) - 19);
+  expect_record_accounted(s, kDuration, 1 / kF, kRate);
+  // The rising boundaries lie at k ms − 18.6 µs (phase 0.37 rad, trigger 0.253 rad); the 20 of
+  // them inside the dropout (2.000981 s … 2.019981 s) are missing, so one left-out piece stands
+  // for 21 periods: 2500 − 20 pieces at least.
+  EXPECT_GE(accounted(s), static_cast<std::uint64_t>(kPeriods) - 20);
   EXPECT_TRUE(any_warning_has(s, "irregular")) << all_warnings(s);
 }
 
@@ -252,10 +263,21 @@ TEST(NoSignal, SingleTransientIsNotGivenAFundamental) {
 }
 
 // Item 5: a voltage that is not periodic (a converter's output: a level with a step, a slow
-// ramp and noise) beside a periodic current: the current sets the cycles, and it is said.
-TEST(Reference, NonPeriodicVoltageGivesWayToTheCurrent) {
+// ramp and noise) beside a periodic current (1 kHz, 20 mA peak, +1 mA DC): the current sets
+// the cycles, and the output says why. Two shapes: a step large against the noise (the voltage
+// crosses its level once or twice in the record) and a step small against it (noise makes
+// "cycles" of random length, the 16–520 µs).
+struct ConverterOutput {
+  const char* name;
+  double step_v;   // at 0.2 s, on 300 V plus a ramp of 40 V/s
+  double noise_v;  // white, rms
+};
+
+class NonPeriodicVoltage : public ::testing::TestWithParam<ConverterOutput> {};
+
+CycleSummary run_with_voltage(const ConverterOutput& p, CycleReference reference) {
   auto rng = std::make_shared<std::mt19937_64>(3);
-  auto normal = std::make_shared<std::normal_distribution<double>>(0.0, 1.0);
+  auto normal = std::make_shared<std::normal_distribution<double>>(0.0, p.noise_v);
   Record rec;
   rec.frames = 500'000;
   rec.current = [=](std::size_t n) {
@@ -263,19 +285,43 @@ TEST(Reference, NonPeriodicVoltageGivesWayToTheCurrent) {
   };
   rec.voltage = [=](std::size_t n) {
     const double t = static_cast<double>(n) / kRate;
-    return 300 + 40 * t + (t > 0.2 ? 100 : 0) + 10 * (*normal)(*rng);
+    return 300 + 40 * t + (t > 0.2 ? p.step_v : 0) + (*normal)(*rng);
   };
-  const CycleSummary s = run(rec);
-  EXPECT_EQ(s.reference, "current") << all_warnings(s);
+  return run(rec, reference);
+}
+
+// BUG (reported) for the "large_step" shape: the automatic choice only gives way when the
+// voltage shows at least three intervals between crossings in the look-ahead; a voltage that
+// crosses its level once stays the reference, and the record gets no cycle at all (the CLI then
+// refuses "fewer than two whole cycles") although the current is plainly periodic.
+TEST_P(NonPeriodicVoltage, GivesWayToThePeriodicCurrent) {
+  const CycleSummary s = run_with_voltage(GetParam(), CycleReference::automatic);
+  EXPECT_EQ(s.reference, "current") << s.crossings << " crossings\n" << all_warnings(s);
   EXPECT_FALSE(s.reference_note.empty());
   EXPECT_TRUE(any_warning_has(s, "not periodic")) << all_warnings(s);
   EXPECT_NEAR(s.fundamental_hz.value, kF, std::max(s.fundamental_hz.u95, kF * 1e-6));
   EXPECT_NEAR(s.dc_offset_a.value, kDc, 3e-4 * kPeak);
-  // 0.5 s at 1 kHz: 500 periods, whole and partial.
-  EXPECT_GE(accounted(s), 500u);
-  EXPECT_LE(accounted(s), 501u);
+  // 0.5 s at 1 kHz: 500 periods; phase 0.37 puts the last boundary 18.6 µs before the end,
+  // inside the fit's reach, so 499 boundaries and 500 pieces.
+  EXPECT_EQ(accounted(s), 500u);
   EXPECT_EQ(s.irregular_cycles, 0u);
+  EXPECT_TRUE(s.periodic);
 }
+
+// By hand (--reference voltage) the voltage is used, and its cycles are not given out as a
+// periodic fundamental: refused (periodic false, or fewer than two whole cycles).
+TEST_P(NonPeriodicVoltage, ForcedAsReferenceIsNotGivenAFundamental) {
+  const CycleSummary s = run_with_voltage(GetParam(), CycleReference::voltage);
+  EXPECT_EQ(s.reference, "voltage");
+  EXPECT_TRUE(!s.periodic || s.cycles < 2)
+      << s.cycles << " cycles, " << s.irregular_cycles << " irregular, f "
+      << s.fundamental_hz.value << " Hz";
+}
+
+INSTANTIATE_TEST_SUITE_P(Shapes, NonPeriodicVoltage,
+                         ::testing::Values(ConverterOutput{"large_step", 100, 10},
+                                           ConverterOutput{"small_step", 20, 10}),
+                         [](const auto& info) { return std::string(info.param.name); });
 
 // Few whole cycles: the fundamental still carries an honest u95 (> 0, the truth inside it),
 // and with fewer than three whole cycles a warning says the figures are poorly determined.
@@ -307,9 +353,12 @@ TEST_P(FewWholeCycles, FundamentalCarriesAnHonestU95) {
     const CycleSummary s = run(rec);
     ASSERT_EQ(s.cycles, static_cast<std::uint64_t>(p.whole)) << "seed " << seed;
     EXPECT_GT(s.fundamental_hz.u95, 0.0) << "seed " << seed;
-    // Useful as well as honest: boundaries fitted on a sine flank at 1000 samples per cycle
-    // with 1 % noise are placed to ~0.1 µs, so 1e-3 of f is a generous ceiling.
-    EXPECT_LT(s.fundamental_hz.u95, 1e-3 * f) << "seed " << seed;
+    // Useful as well as honest: 1 % of f is a period error of 10 samples, far beyond what a
+    // boundary fitted on a sine flank at 1000 samples per cycle can miss by (~0.2 sample with
+    // 1 % noise: the noise over the flank's slope, averaged over the fit's 60 samples). With
+    // three cycles σ comes from two period differences, so Student's t with one degree of
+    // freedom (12.7, GUM G.3) makes u95 several times the error: honest, not tight.
+    EXPECT_LT(s.fundamental_hz.u95, 1e-2 * f) << "seed " << seed;
     hits += std::fabs(s.fundamental_hz.value - f) <= s.fundamental_hz.u95 ? 1 : 0;
     if (p.whole < 3) {
       EXPECT_TRUE(any_warning_has(s, "poorly determined")) << all_warnings(s);
@@ -379,8 +428,10 @@ TEST(QuantisedMains, NoCycleIsLeftOutAndTheRmsIsInsideItsU95) {
     EXPECT_EQ(s.irregular_cycles + s.glitch_cycles + s.not_finite_cycles, 0u)
         << "seed " << seed << "\n"
         << all_warnings(s);
-    // 500 periods in 10 s, whole and partial.
-    EXPECT_GE(accounted(s), 500u) << "seed " << seed;
+    // 500 periods in 10 s; the boundaries within 17 samples (two periods) of either end are
+    // not placed (cycle_engine.cpp, refine()), so those periods join the partial cycles.
+    expect_record_accounted(s, 10.0, 1 / f, rate);
+    EXPECT_GE(accounted(s), 500u - 2 * 3) << "seed " << seed;
     EXPECT_LE(accounted(s), 501u) << "seed " << seed;
     hits += std::fabs(s.rms_a.value - rms) <= s.rms_a.u95 ? 1 : 0;
   }

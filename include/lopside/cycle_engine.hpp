@@ -11,6 +11,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <functional>
+#include <limits>
 #include <memory>
 #include <optional>
 #include <string>
@@ -122,6 +123,11 @@ struct CycleSummary {
   bool periodic = true;
   /// Why the reference is the channel it is, when not the plain default (empty otherwise).
   std::string reference_note;
+  /// The boundaries' scatter (1σ) measured from the period differences, and the part the
+  /// reference's noise explains (from the boundary fits' residuals) [s]; NaN when unknown
+  /// (fewer than 10 period differences, or fits of under six samples).
+  double boundary_jitter_s = std::numeric_limits<double>::quiet_NaN();
+  double boundary_jitter_noise_s = std::numeric_limits<double>::quiet_NaN();
   std::uint64_t frames = 0;
   double samples_per_cycle = 0;  ///< mean period over the sampling interval
   std::string reference;         ///< "voltage" or "current": the channel whose crossings set cycles

@@ -84,8 +84,9 @@ struct SwapOptions {
 
 void setup_swap(CLI::App& app);
 
-/// Measures both captures, splits their DC offset and charge asymmetry into the supply's and
-/// the electrodes' parts and prints the verdict (text, and JSON where `--json` says).
+/// Measures the two captures (three with NORMAL_AGAIN), splits their DC offset and charge asymmetry
+/// into the supply's and the electrodes' parts and prints the verdict (text, and JSON where
+/// `--json` says).
 void run_swap(const SwapOptions& options);
 
 }  // namespace lopside::cli

@@ -12,6 +12,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <deque>
 #include <limits>
 #include <stdexcept>
@@ -221,6 +222,8 @@ struct CycleEngine::Impl {
   std::uint64_t last_committed = std::numeric_limits<std::uint64_t>::max();
   std::uint64_t stretches = 0;  // runs of consecutive kept cycles
   double kept_span_s = 0;       // Σ periods of the kept cycles
+  double jitter_noise_var = 0;  // Σ of the boundaries' variance the noise explains [samples²]
+  std::uint64_t jitter_noise_n = 0;
   BatchMeans crest_peak;
 
   const Frame& at(std::uint64_t index) const { return ring[index & (kRing - 1)]; }
@@ -437,7 +440,7 @@ struct CycleEngine::Impl {
     if (t < w || t + w > next_index) return;
     double x = std::numeric_limits<double>::quiet_NaN();
     {
-      double sx = 0, sy = 0, sxx = 0, sxy = 0;
+      double sx = 0, sy = 0, sxx = 0, sxy = 0, syy = 0;
       const double n = static_cast<double>(2 * w);
       for (std::uint64_t j = t - w; j < t + w; ++j) {
         const double xj = static_cast<double>(j) - static_cast<double>(t);
@@ -446,6 +449,7 @@ struct CycleEngine::Impl {
         sy += yj;
         sxx += xj * xj;
         sxy += xj * yj;
+        syy += yj * yj;
       }
       const double d = n * sxx - sx * sx;
       const double slope = (n * sxy - sx * sy) / d;
@@ -454,6 +458,17 @@ struct CycleEngine::Impl {
         const double off = (trigger_level - intercept) / slope;
         if (off >= -static_cast<double>(w) && off <= static_cast<double>(w) - 1) {
           x = static_cast<double>(t) + off;
+          // What the reference's own noise explains of this boundary's error: the variance of
+          // a least-squares line's crossing, σ²/b²·(1/n + (x − x̄)²/Sxx), σ² from the residuals
+          // (any regression text, e.g. Draper & Smith, Applied Regression Analysis, 1.4). The
+          // residuals also hold the flank's curvature, so this errs towards explaining more.
+          if (w >= 3) {
+            const double ss = std::max(syy - intercept * sy - slope * sxy, 0.0);
+            const double sxx_c = sxx - sx * sx / n, xm = sx / n;
+            const double var_y = ss / (n - 2);
+            jitter_noise_var += var_y / (slope * slope) * (1 / n + (off - xm) * (off - xm) / sxx_c);
+            ++jitter_noise_n;
+          }
         }
       }
     }
@@ -1139,6 +1154,28 @@ struct CycleEngine::Impl {
     // A reference without a periodic fundamental (noise, a single transient) cuts the record
     // into "cycles" of random length: most fall outside ±kPeriodTolerance of the running period.
     if (s.irregular_cycles > 0 && s.irregular_cycles >= s.cycles) s.periodic = false;
+    // Issue 9, item 5: periods that scatter beyond what the reference's noise explains. The
+    // boundary scatter measured from the period differences (σ_b, see build_summary) against
+    // the fits' own noise-explained σ; a ratio above 3 (variance 9) is reported. It is what a
+    // free-running inverter's wandering frequency or mains ripple does, or an irregular
+    // reference; each cycle is still measured over its own period.
+    if (n_dperiod >= 10 && jitter_noise_n >= 10) {
+      const double measured = std::sqrt(sum_dperiod2 / static_cast<double>(n_dperiod) / 6.0);
+      const double explained =
+          dt * std::sqrt(jitter_noise_var / static_cast<double>(jitter_noise_n));
+      s.boundary_jitter_s = measured;
+      s.boundary_jitter_noise_s = explained;
+      const double period = s.cycles > 0 ? kept_span_s / static_cast<double>(s.cycles) : 0.0;
+      if (measured > 3 * explained && measured > 1e-4 * period) {
+        char buf[320];
+        std::snprintf(buf, sizeof buf,
+                      "the cycle boundaries scatter by %.3g %% of a period (1σ), %.1f times what "
+                      "the reference's noise explains: its frequency wanders (a free-running "
+                      "inverter, mains ripple) or the reference is irregular",
+                      100 * measured / period, measured / std::max(explained, 1e-300));
+        s.warnings.push_back(buf);
+      }
+    }
   }
 };
 

@@ -181,6 +181,7 @@ json build_up_json(const std::optional<BuildUp>& b, const char* unit_suffix) {
   j["tau_s"] = estimate_json(b->tau_s);
   j[std::string("plateau") + unit_suffix] = estimate_json(b->plateau);
   j[std::string("initial") + unit_suffix] = b->initial;
+  j[std::string("amplitude") + unit_suffix] = estimate_json(b->amplitude);
   j["significant"] = b->significant;
   return j;
 }
@@ -335,6 +336,10 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
     excl.push_back(json{{"start_s", e.start_s}, {"end_s", e.end_s}, {"reason", e.reason}});
   doc["left_out_stretches"] = excl;
   doc["reference_note"] = s.reference_note.empty() ? json(nullptr) : json(s.reference_note);
+  doc["boundary_jitter_s"] = std::isfinite(s.boundary_jitter_s)
+                                 ? json{{"measured", s.boundary_jitter_s},
+                                        {"explained_by_noise", s.boundary_jitter_noise_s}}
+                                 : json(nullptr);
   doc["first_cycle_start_s"] = s.first_start_s;
   doc["last_cycle_end_s"] = s.last_end_s;
   json dc = estimate_json(s.dc_offset_a);
@@ -443,7 +448,8 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
       segs.push_back(json{{"start_s", g.start_s},
                           {"end_s", g.end_s},
                           {"mean_dc_a", g.mean_dc_a},
-                          {"u95_a", g.u95_a}});
+                          {"u95_a", g.u95_a},
+                          {"decided", g.decided}});
     }
     tc["segments"] = segs;
     json pts = json::array();
