@@ -121,6 +121,10 @@ struct CycleSummary {
   /// False when the reference has no periodic fundamental (noise, a single transient): most of
   /// its "cycles" are irregular. The figures are then meaningless and the caller refuses them.
   bool periodic = true;
+  std::string not_periodic_reason;  ///< why `periodic` is false, as a clause
+  /// False when the voltage channel was found not periodic and the current set the cycles: the
+  /// voltage's figures are then no evidence of how the supply switches.
+  bool voltage_periodic = true;
   /// Why the reference is the channel it is, when not the plain default (empty otherwise).
   std::string reference_note;
   /// The boundaries' scatter (1σ) measured from the period differences, and the part the

@@ -214,11 +214,8 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
     throw InputError(
         o.capture_path,
         "the " + summary.reference + " channel '" + ref_channel.name +
-            "' has no periodic fundamental: " + std::to_string(summary.irregular_cycles) +
-            " of its " + std::to_string(summary.irregular_cycles + summary.cycles) +
-            " cycles between rising crossings differ from the running period by "
-            "more than 30 %, as noise or a single transient do; expected a "
-            "periodic current or voltage (--reference chooses the channel)");
+            "' has no periodic fundamental: " + summary.not_periodic_reason +
+            "; expected a periodic current or voltage (--reference chooses the channel)");
   }
   if (summary.cycles < 2) {
     const ChannelInfo& ref = ref_channel;

@@ -7,6 +7,7 @@
 
 #include <algorithm>
 #include <cerrno>
+#include <cmath>
 #include <iostream>
 #include <memory>
 #include <optional>
@@ -178,6 +179,33 @@ void refuse_identical_captures(const SwapOptions& o) {
   refuse_identical_captures(swapped, again, why);
 }
 
+// The same recording saved twice in different forms (another delimiter, line ends, fewer
+// digits, a WAV of the same samples) passes the byte comparison but still gives D = 0 and
+// E = N exactly. Two recordings of one unit never agree that closely: with the same number of
+// whole cycles starting at the same instant (within a hundredth of a period), their DC offsets
+// and RMS values would differ by about their combined u95 from noise alone, not by a hundredth
+// of it (the chance of both, for independent noise, is ~1e-4). Rounding to 6 significant
+// digits moves a mean over thousands of samples by far less than that.
+void refuse_same_recording(const SwapCapture& a, const std::string& a_path, const char* a_role,
+                           const SwapCapture& b, const std::string& b_path, const char* b_role) {
+  const CycleSummary& x = a.summary;
+  const CycleSummary& y = b.summary;
+  if (x.cycles != y.cycles || x.cycles == 0) return;
+  const double period = (x.last_end_s - x.first_start_s) / static_cast<double>(x.cycles);
+  if (!(std::fabs(x.first_start_s - y.first_start_s) <= 0.01 * period)) return;
+  const double u_dc = std::hypot(x.dc_offset_a.u95, y.dc_offset_a.u95);
+  const double u_rms = std::hypot(x.rms_a.u95, y.rms_a.u95);
+  if (!(std::fabs(x.dc_offset_a.value - y.dc_offset_a.value) <= 0.01 * u_dc)) return;
+  if (!(std::fabs(x.rms_a.value - y.rms_a.value) <= 0.01 * u_rms)) return;
+  throw InputError(shown(b_path), std::string("measures as the same recording as ") + a_role +
+                                      " (" + shown(a_path) + "): the same " +
+                                      std::to_string(x.cycles) +
+                                      " cycles from the same instant, DC offset and RMS equal to "
+                                      "a hundredth of their u95; a lead-swap needs two "
+                                      "different recordings (" +
+                                      b_role + " saved again in another form cannot be one)");
+}
+
 }  // namespace
 
 void setup_swap(CLI::App& app) {
@@ -246,6 +274,11 @@ void run_swap(const SwapOptions& o) {
   std::optional<SwapCapture> again;
   if (!o.again_path.empty()) {
     again = measure_one(o.analysis, o.again_path, report.normal_again.emplace());
+  }
+  refuse_same_recording(normal, o.normal_path, "NORMAL", swapped, o.swapped_path, "SWAPPED");
+  if (again) {
+    refuse_same_recording(normal, o.normal_path, "NORMAL", *again, o.again_path, "NORMAL_AGAIN");
+    refuse_same_recording(swapped, o.swapped_path, "SWAPPED", *again, o.again_path, "NORMAL_AGAIN");
   }
   SwapProbe probe;
   probe.offset_a = o.analysis.probe_offset_a;

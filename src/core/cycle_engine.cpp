@@ -175,7 +175,11 @@ struct CycleEngine::Impl {
   // Detector.
   bool armed = false;
   // Triggers waiting for the samples their boundary fit needs: (index, level).
-  std::deque<std::pair<std::uint64_t, double>> pending;
+  struct Trigger {
+    std::uint64_t index = 0;
+    double level = 0, band = 0;
+  };
+  std::deque<Trigger> pending;
   std::size_t fit_half_width = kMaxFitHalfWidth;
   std::deque<double> boundaries;  // fractional global indices, increasing
   std::uint64_t crossings = 0;
@@ -357,27 +361,53 @@ struct CycleEngine::Impl {
     return k;
   }
 
+  // Whether the frames, measured with `reference` setting the cycles, are periodic with at
+  // least two whole cycles (a second engine over the look-ahead, without harmonics).
+  bool trial_periodic(const std::vector<Frame>& frames, CycleReference reference) const {
+    CycleConfig c;
+    c.sample_rate_hz = cfg.sample_rate_hz;
+    c.current_channel = 0;
+    c.voltage_channel = 1;
+    c.reference = reference;
+    CycleEngine trial(c);
+    SampleBlock block;
+    block.channels = 2;
+    const double nan = std::numeric_limits<double>::quiet_NaN();
+    constexpr std::size_t kChunk = 1 << 16;
+    for (std::size_t first = 0; first < frames.size(); first += kChunk) {
+      const std::size_t n = std::min(kChunk, frames.size() - first);
+      block.frames = n;
+      block.data.resize(2 * n);
+      for (std::size_t j = 0; j < n; ++j) {
+        const Frame& f = frames[first + j];
+        block.data[2 * j] = f.bad ? nan : f.i;
+        block.data[2 * j + 1] = f.bad ? nan : f.v;
+      }
+      trial.consume(block);
+    }
+    const CycleSummary& s = trial.finish();
+    return s.periodic && s.cycles >= 2;
+  }
+
   void learn_levels(std::vector<Frame>& frames) {
     if (frames.empty()) return;
     // Issue 9, item 5: the voltage is the natural reference (it crosses cleanly whatever the
     // discharge does), but a voltage that is not periodic (a converter's output with a step,
     // a channel that is not the supply's) would cut the current into meaningless "cycles";
     // the current is used then, when it is regular, and the output says so.
-    if (cfg.voltage_channel && cfg.reference == CycleReference::automatic) {
-      const Look lv = look(frames, true);
-      if (lv.intervals >= 3 && !lv.regular()) {
-        const Look li = look(frames, false);
-        if (li.regular()) {
-          ref_is_voltage = false;
-          summary.reference_note =
-              "the voltage's rising crossings are not periodic (" +
-              std::to_string(static_cast<int>(std::lround(100 * lv.regular_share))) +
-              " % of its cycles lie within ±30 % of their median period, against " +
-              std::to_string(static_cast<int>(std::lround(100 * li.regular_share))) +
-              " % of the current's): the current sets the cycles (--reference voltage insists "
-              "on the voltage)";
-        }
-      }
+    // The judgement is the engine's own: the look-ahead is measured with each reference in
+    // turn, and a reference is periodic when that measurement is (judge_record).
+    if (cfg.voltage_channel && cfg.reference == CycleReference::automatic &&
+        !trial_periodic(frames, CycleReference::voltage) &&
+        trial_periodic(frames, CycleReference::current)) {
+      ref_is_voltage = false;
+      summary.voltage_periodic = false;
+      summary.reference_note =
+          "the voltage's rising crossings are not periodic in the first " +
+          std::to_string(frames.size()) +
+          " samples (as many or more irregular cycles as regular ones) while the current's "
+          "are: the current sets the cycles, and the voltage is no evidence of how the supply "
+          "switches (--reference voltage insists on the voltage)";
     }
     for (Frame& f : frames) f.ref = ref_is_voltage ? f.v : f.i;
     const Look k = look(frames, ref_is_voltage);
@@ -412,8 +442,8 @@ struct CycleEngine::Impl {
     const double r = at(n).ref;
     // The band-limited crossing (refine()) needs kEdgeHalfTaps samples past the trigger.
     const std::uint64_t wait = std::max<std::uint64_t>(fit_half_width, kEdgeHalfTaps + 1);
-    while (!pending.empty() && n >= pending.front().first + wait) {
-      refine(pending.front().first, pending.front().second);
+    while (!pending.empty() && n >= pending.front().index + wait) {
+      refine(pending.front());
       pending.pop_front();
     }
     if (!level_known || half_swing <= 0) return;
@@ -423,7 +453,7 @@ struct CycleEngine::Impl {
     if (r < level_mean - band || (n == 0 && r < level_mean + band)) armed = true;
     if (armed && n > 0 && r > level_mean + band) {
       armed = false;
-      pending.emplace_back(n, level_mean + band);
+      pending.push_back(Trigger{n, level_mean + band, band});
       ++crossings;
     }
   }
@@ -431,9 +461,27 @@ struct CycleEngine::Impl {
   // The crossing of trigger_level, from a least-squares line through 2·w samples centred on
   // the first sample pair that straddles it: noise at one sample moves the boundary by
   // 1/(2w) as much as plain two-point interpolation would.
-  void refine(std::uint64_t trigger_index, double trigger_level) {
-    const std::uint64_t t = trigger_index;
+  void refine(const Trigger& trigger) {
+    const std::uint64_t t = trigger.index;
+    const double trigger_level = trigger.level;
     const std::size_t w = fit_half_width;
+    // A flank stays up: the samples from the trigger on must hold above the middle of the band
+    // for a hundredth of a period (at least two samples). A sine crossing the trigger level
+    // (14.5° past the mean) stays above it for ~165°, and noise would have to fall by an
+    // eighth of the swing to break the run; a lone spike (a rectifier's turn-off overshoot in
+    // the dead time, seen on real mains captures) does not stay, and is not a crossing.
+    {
+      const double spc = std::isfinite(spc_estimate) ? spc_estimate : 0.0;
+      const auto k = static_cast<std::uint64_t>(
+          std::clamp(std::lround(0.01 * spc), 2L, static_cast<long>(kEdgeHalfTaps + 1)));
+      for (std::uint64_t j = t; j < t + k && j < next_index; ++j) {
+        if (at(j).ref <= trigger_level - 0.5 * trigger.band) {
+          --crossings;
+          armed = true;  // the samples before the spike had armed the detector
+          return;
+        }
+      }
+    }
     // A crossing too near either end of the capture for the full fit is not used: a boundary
     // placed by another rule would carry another bias, and the cycle next to it another
     // period. The stretch simply becomes part of the partial cycle at that end.
@@ -784,8 +832,11 @@ struct CycleEngine::Impl {
     // Issue 9, item 6: a cycle is left out when a not-finite sample lies in it or within reach
     // of its edge corrections, when it holds a glitch, or when its period is irregular.
     std::string reason;
-    const double reach_lo = std::floor(cycle_start) - kEdgeHalfTaps + 1;
-    const double reach_hi = std::floor(end) + kEdgeHalfTaps;
+    // A sample reaches a cycle through the edge corrections (kEdgeHalfTaps samples) and through
+    // the boundary fits (fit_half_width samples) at either end.
+    const double reach = static_cast<double>(std::max<std::size_t>(kEdgeHalfTaps, fit_half_width));
+    const double reach_lo = std::floor(cycle_start) - reach;
+    const double reach_hi = std::floor(end) + reach;
     if (touches_bad(reach_lo, reach_hi)) reason = "not_finite";
     while (!bad_runs.empty() && static_cast<double>(bad_runs.front().second) < reach_lo)
       bad_runs.pop_front();
@@ -803,8 +854,8 @@ struct CycleEngine::Impl {
       // The glitch reaches a neighbour through the edge corrections when it lies within
       // kEdgeHalfTaps samples of the boundary they share.
       const auto at_index = static_cast<double>(dev_hi >= dev_lo ? c.max_at : c.min_at);
-      if (at_index < std::floor(cycle_start) + kEdgeHalfTaps + 1) drop_held = true;
-      if (at_index + kEdgeHalfTaps >= std::floor(end)) exclude_next = true;
+      if (at_index <= std::floor(cycle_start) + reach + 1) drop_held = true;
+      if (at_index + reach + 1 >= std::floor(end)) exclude_next = true;
     }
     if (reason.empty() && (glitch || exclude_next_pending)) reason = "glitch";
     exclude_next_pending = exclude_next;
@@ -871,7 +922,10 @@ struct CycleEngine::Impl {
     if (sink) sink(r);
   }
 
+  double excluded_span_s = 0;  // time in cycles left out for a reason (not --zero)
+
   void exclude(const CycleRecord& r, double end_s, const std::string& reason) {
+    excluded_span_s += r.period_s;
     if (reason == "not_finite") ++summary.not_finite_cycles;
     if (reason == "glitch") ++summary.glitch_cycles;
     if (reason == "irregular") ++summary.irregular_cycles;
@@ -1153,7 +1207,39 @@ struct CycleEngine::Impl {
     }
     // A reference without a periodic fundamental (noise, a single transient) cuts the record
     // into "cycles" of random length: most fall outside ±kPeriodTolerance of the running period.
-    if (s.irregular_cycles > 0 && s.irregular_cycles >= s.cycles) s.periodic = false;
+    // By count, and by time: a burst of ringing (a switch node's edges) can make many short
+    // regular "cycles" in a record whose real period is irregular or longer than the record.
+    const double record_s = static_cast<double>(s.frames) * dt;
+    if (s.irregular_cycles > 0 &&
+        (s.irregular_cycles >= s.cycles || excluded_span_s >= kept_span_s)) {
+      s.periodic = false;
+      s.not_periodic_reason = std::to_string(s.irregular_cycles) + " of its " +
+                              std::to_string(s.irregular_cycles + s.cycles) +
+                              " cycles between rising crossings differ from the running period "
+                              "by more than 30 %, as noise or a single transient do";
+    } else if (s.cycles >= 2 && kept_span_s < 0.25 * record_s) {
+      // A short burst (a switching edge's ringing, one transient) that repeats for a few
+      // cycles inside a long record: its "fundamental" says nothing about the record.
+      s.periodic = false;
+      char buf[200];
+      std::snprintf(buf, sizeof buf,
+                    "its %llu regular cycles cover only %.0f %% of the record, as a burst of "
+                    "ringing or a single transient does",
+                    static_cast<unsigned long long>(s.cycles), 100 * kept_span_s / record_s);
+      s.not_periodic_reason = buf;
+    }
+    // Sampling locked to the fundamental at few samples per cycle: every cycle is sampled at
+    // the same phases, so whatever the current holds at multiples of N samples per cycle folds
+    // onto the DC the same way in every cycle, and no scatter reveals it (the band-limited
+    // integrals assume nothing above the Nyquist frequency).
+    const double spc = s.samples_per_cycle;
+    if (s.cycles >= 3 && spc > 0 && spc < 32 && std::fabs(spc - std::round(spc)) < 1e-4 * spc) {
+      s.warnings.push_back(
+          "the sampling is locked to the fundamental at " + std::to_string(std::lround(spc)) +
+          " samples per cycle: the current's harmonics at multiples of that order fold onto the "
+          "DC the same way in every cycle, an error no u95 can show; record at a rate that is "
+          "not a multiple of the frequency, or faster");
+    }
     // Issue 9, item 5: periods that scatter beyond what the reference's noise explains. The
     // boundary scatter measured from the period differences (σ_b, see build_summary) against
     // the fits' own noise-explained σ; a ratio above 3 (variance 9) is reported. It is what a

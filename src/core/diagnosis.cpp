@@ -111,7 +111,11 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
   bool driver = false, self = false;
   std::vector<std::string> driver_codes, self_codes;
   bool voltage_symmetric = false;
-  if (s.has_voltage) {
+  if (s.has_voltage && !s.voltage_periodic) {
+    add("voltage_not_periodic", 0, 0,
+        "The voltage channel is not periodic (the current set the cycles): its figures say "
+        "nothing about how the supply switches and are not used as evidence.");
+  } else if (s.has_voltage) {
     const double vpeak = 0.5 * (std::fabs(s.voltage_peak_positive_v.value) +
                                 std::fabs(s.voltage_peak_negative_v.value));
     const double vdc_share = vpeak > 0 ? s.voltage_mean_v.value / vpeak : 0.0;
@@ -309,6 +313,8 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     if (self) d.deciding.insert(d.deciding.end(), self_codes.begin(), self_codes.end());
     if (!driver && !self && offset_like) d.deciding.push_back("even_harmonics");
     if (!driver && !self && !s.has_voltage) d.deciding.push_back("no_voltage_channel");
+    if (!driver && !self && s.has_voltage && !s.voltage_periodic)
+      d.deciding.push_back("voltage_not_periodic");
     if (!driver && !self && !even_available && dc_significant)
       d.deciding.push_back("even_harmonics_not_available");
   }
@@ -385,9 +391,12 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
         d.next_steps.push_back(
             "Zero the current probe on a stretch without discharge (--zero FROM:TO), or degauss "
             "a Hall probe, and measure again.");
+      } else if (s.has_voltage && s.voltage_periodic) {
+        d.next_steps.push_back("Run the lead-swap test (lopside swap).");
       } else {
         d.next_steps.push_back(
-            "Run the lead-swap test (lopside swap), and record the voltage too if you can.");
+            "Run the lead-swap test (lopside swap), and record the supply's voltage too if you "
+            "can.");
       }
       break;
   }
