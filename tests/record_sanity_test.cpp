@@ -33,13 +33,20 @@ struct Record {
   std::function<double(std::size_t)> voltage;  // empty: one channel
 };
 
-CycleSummary run(const Record& rec, CycleReference reference = CycleReference::automatic) {
+// The summary, and every cycle the sink was given (the kept ones).
+struct RunResult {
+  CycleSummary summary;
+  std::vector<CycleRecord> kept;
+};
+
+RunResult run_cycles(const Record& rec, CycleReference reference = CycleReference::automatic) {
   CycleConfig config;
   config.sample_rate_hz = rec.rate_hz;
   const std::size_t channels = rec.voltage ? 2 : 1;
   if (rec.voltage) config.voltage_channel = 1;
   config.reference = reference;
-  CycleEngine engine(config);
+  RunResult out;
+  CycleEngine engine(config, [&out](const CycleRecord& r) { out.kept.push_back(r); });
   constexpr std::size_t kBlock = 1 << 16;
   SampleBlock block;
   block.channels = channels;
@@ -52,7 +59,12 @@ CycleSummary run(const Record& rec, CycleReference reference = CycleReference::a
     }
     engine.consume(block);
   }
-  return engine.finish();
+  out.summary = engine.finish();
+  return out;
+}
+
+CycleSummary run(const Record& rec, CycleReference reference = CycleReference::automatic) {
+  return run_cycles(rec, reference).summary;
 }
 
 bool any_warning_has(const CycleSummary& s, const std::string& text) {
@@ -118,8 +130,51 @@ void expect_figures_right(const CycleSummary& s) {
   // RMS within its u95 plus 2e-6 relative (the band-limited integral's own error,
   // sampling_accuracy_test.cpp).
   EXPECT_NEAR(s.rms_a.value, kRms, s.rms_a.u95 + 2e-6 * kRms) << "u95 " << s.rms_a.u95;
-  EXPECT_NEAR(s.fundamental_hz.value, kF, std::max(s.fundamental_hz.u95, kF * 1e-6));
   EXPECT_TRUE(s.periodic);
+}
+
+// The fundamental of the faulty record against the clean one's (the truth's own check, with
+// many seeds, is FundamentalU95.IsHonestWithNoise below). With the same kept cycles, leaving
+// out n cycles moves f = cycles/Σ periods by f²·Σ(T_k − T̄)/N: the left-out periods' own
+// jitter, about half of the faulty record's u95 for one or two cycles. 3·u95 bounds that at
+// ~6 σ; a moved boundary (expect_kept_cycles_as_clean) is what it catches when grossly wrong.
+void expect_fundamental_as_clean(const CycleSummary& faulty, const CycleSummary& clean) {
+  EXPECT_NEAR(faulty.fundamental_hz.value, clean.fundamental_hz.value,
+              3 * faulty.fundamental_hz.u95)
+      << "clean " << clean.fundamental_hz.value << " ± " << clean.fundamental_hz.u95 << " Hz";
+}
+
+// What a glitch, a not-finite run or a dropout must not do: move any cycle the summary keeps.
+// The same record without the fault (same noise) is the reference; a cycle is its own
+// business, and the engine's level and swing follow the signal "but not through a glitch or
+// a not-finite sample" (cycle_engine.cpp), so every kept cycle must be one of the clean
+// record's. Tolerances: a left-out cycle withholds one smoothing step of the detector's level
+// (a quarter of a cycle mean's 6 µA noise) and swing, which moves later triggers by ~0.01 µs
+// on the 122 A/s flank; 0.1 µs is ten times that and half the boundaries' own noise jitter
+// (~0.2 µs). A cycle's mean moves by the 6 mA at a boundary times that boundary's shift over
+// the period (0.6 µA per 0.1 µs, and less when both boundaries move together); 1 µA allows for
+// it and is a sixth of the per-cycle mean's noise (0.2 mA/√1000 = 6.3 µA).
+void expect_kept_cycles_as_clean(const RunResult& faulty, const RunResult& clean) {
+  std::size_t moved = 0;
+  std::string first;
+  for (const CycleRecord& r : faulty.kept) {
+    const auto it = std::lower_bound(clean.kept.begin(), clean.kept.end(), r.start_s - 0.5 / kF,
+                                     [](const CycleRecord& c, double t) { return c.start_s < t; });
+    const bool same = it != clean.kept.end() && std::fabs(it->start_s - r.start_s) <= 1e-7 &&
+                      std::fabs(it->period_s - r.period_s) <= 1e-7 &&
+                      std::fabs(it->mean_a - r.mean_a) <= 1e-6;
+    if (same) continue;
+    if (++moved <= 3) {
+      char line[200];
+      std::snprintf(line, sizeof line,
+                    "  kept %.7f s, %.4f µs, %.3f µA; clean %.7f s, %.4f µs, %.3f µA\n", r.start_s,
+                    r.period_s * 1e6, r.mean_a * 1e6, it != clean.kept.end() ? it->start_s : 0.0,
+                    it != clean.kept.end() ? it->period_s * 1e6 : 0.0,
+                    it != clean.kept.end() ? it->mean_a * 1e6 : 0.0);
+      first += line;
+    }
+  }
+  EXPECT_EQ(moved, 0u) << "kept cycles that differ from the clean record's:\n" << first;
 }
 
 // A sine generator with the issue's figures; `edit(n, i)` may change sample n afterwards.
@@ -137,18 +192,38 @@ Record issue_capture(double phase, std::function<double(std::size_t, double)> ed
   return rec;
 }
 
-// A +5 A single-sample glitch at t = 1.7 s, at several points of the cycle: on the rising
-// flank where the cycle boundary lies (phase 0.253 rad puts the boundary's trigger, a quarter
-// of the half swing above the mean, at the glitch), at the crest, in the trough (where the
-// detector is armed, so the spike can fake a crossing) and on the falling flank.
+// The unedited record.
+double keep(std::size_t, double i) {
+  return i;
+}
+
+// A +5 A single-sample glitch at t = 1.7 s, at several points of the cycle (the rising
+// boundary's trigger lies at phase 0.253 rad, a quarter of the half swing above the mean):
+//   0.253   the glitch on the boundary itself;
+//   π/2     at the crest;
+//   −π/2    in the trough, where the detector is armed, so the spike fakes a crossing;
+//   2.5     on the falling flank;
+//   0.127   20 samples before a boundary, 0.379 20 samples after one: inside the boundary fit's
+//           reach (±30 samples, 3 % of a period) but outside the 16-tap edge kernel's.
+// BUG (reported), phases 0.253 and 0.127: the cycles after the glitch keep boundaries about
+// 1 µs earlier than the clean record's, fading over ~10 cycles (the detector's level or swing
+// took in part of the spike); 10 kept cycles differ, e.g. 1.7010002 s / 999.794 µs against the
+// clean 1.7010011 s / 999.805 µs.
+// BUG (reported), phase 0.379: the boundary before the glitch is fitted through the spike and
+// placed 17 µs early; the cycle ending there is kept (period 982.9 µs, mean 943.9 µA against
+// the clean 999.4 µs, 1014.4 µA) and the fundamental is 1000.0064 Hz ± 0.0003 Hz (clean
+// 999.99975 Hz).
 class Glitch : public ::testing::TestWithParam<double> {};
 
 TEST_P(Glitch, IsFoundPastTheLookAheadAndItsCyclesLeftOut) {
   const std::size_t at = 1'700'000;
-  const CycleSummary s = run(issue_capture(GetParam(), [at](std::size_t n, double i) {
-    return n == at ? i + 5.0 : i;
-  }));
+  const RunResult clean = run_cycles(issue_capture(GetParam(), keep));
+  const RunResult r = run_cycles(
+      issue_capture(GetParam(), [at](std::size_t n, double i) { return n == at ? i + 5.0 : i; }));
+  const CycleSummary& s = r.summary;
   expect_figures_right(s);
+  expect_fundamental_as_clean(s, clean.summary);
+  expect_kept_cycles_as_clean(r, clean);
   // One sample touches its own cycle and, through the edge corrections near a boundary, at
   // most its neighbours.
   EXPECT_GE(s.glitch_cycles, 1u);
@@ -165,10 +240,11 @@ TEST_P(Glitch, IsFoundPastTheLookAheadAndItsCyclesLeftOut) {
 }
 
 INSTANTIATE_TEST_SUITE_P(PhaseAtTheGlitch, Glitch,
-                         ::testing::Values(0.253, M_PI / 2, -M_PI / 2, 2.5));
+                         ::testing::Values(0.253, M_PI / 2, -M_PI / 2, 2.5, 0.127, 0.379));
 
 // NaN or infinite samples: counted, their cycles left out, the figures finite and right. Times
-// inside the look-ahead (0.4 s) and past it (1.3 s).
+// inside the look-ahead (0.4 s) and past it (1.3 s). Phase 0.37 rad puts a rising boundary
+// 18.6 samples before each of these times.
 struct NotFinite {
   double at_s;
   double value;
@@ -181,10 +257,13 @@ TEST_P(NotFiniteSamples, AreCountedAndTheirCyclesLeftOut) {
   const NotFinite p = GetParam();
   const auto from = static_cast<std::size_t>(p.at_s * kRate);
   const std::size_t to = from + p.count;
-  const CycleSummary s = run(issue_capture(0.37, [=](std::size_t n, double i) {
-    return n >= from && n < to ? p.value : i;
-  }));
+  const RunResult clean = run_cycles(issue_capture(0.37, keep));
+  const RunResult r = run_cycles(issue_capture(
+      0.37, [=](std::size_t n, double i) { return n >= from && n < to ? p.value : i; }));
+  const CycleSummary& s = r.summary;
   expect_figures_right(s);
+  expect_fundamental_as_clean(s, clean.summary);
+  expect_kept_cycles_as_clean(r, clean);
   EXPECT_EQ(s.not_finite_samples, p.count);
   // 500 samples are half a period: one cycle, or two when they straddle a boundary, plus at
   // most one neighbour reached by the edge corrections.
@@ -208,12 +287,20 @@ INSTANTIATE_TEST_SUITE_P(Samples, NotFiniteSamples,
 
 // A dropout: 20 ms of exact zeros at t = 2.0 s (a recorder's lost buffer). No crossing lies in
 // it, so the period around it is about 21 ms against 1 ms: irregular, left out, reported.
+// BUG (reported): 13 kept cycles differ from the clean record's. The boundary 18.6 samples
+// before the dropout is fitted through its zeros (the cycle ending there: 999.787 µs, 990.5 µA
+// against the clean 1000.0015 µs, 991.6 µA), and the long irregular cycle moves the
+// detector's level, so the cycles after it start early (the first: 998.211 µs, 986.4 µA
+// against 1000.202 µs, 996.0 µA; the next boundary 2 µs early).
 TEST(Dropout, IsLeftOutAndTheRecordStillAccountedFor) {
   const std::size_t from = 2'000'000, to = 2'020'000;
-  const CycleSummary s = run(issue_capture(0.37, [=](std::size_t n, double i) {
-    return n >= from && n < to ? 0.0 : i;
-  }));
+  const RunResult clean = run_cycles(issue_capture(0.37, keep));
+  const RunResult r = run_cycles(
+      issue_capture(0.37, [=](std::size_t n, double i) { return n >= from && n < to ? 0.0 : i; }));
+  const CycleSummary& s = r.summary;
   expect_figures_right(s);
+  expect_fundamental_as_clean(s, clean.summary);
+  expect_kept_cycles_as_clean(r, clean);
   const std::uint64_t out = s.irregular_cycles + s.glitch_cycles + s.not_finite_cycles;
   EXPECT_GE(out, 1u) << all_warnings(s);
   // A left-out stretch spans the dropout (no cycle boundary lies inside it).
@@ -229,38 +316,92 @@ TEST(Dropout, IsLeftOutAndTheRecordStillAccountedFor) {
   EXPECT_TRUE(any_warning_has(s, "irregular")) << all_warnings(s);
 }
 
+// The fundamental's u95 is honest on the issue's signal (1 kHz, 20 mA peak, +1 mA DC, 1 % of
+// peak noise, 1 MS/s): the truth inside u95 in at least 16 of 20 records (GUM 6.2: 95 %
+// coverage; P(X ≤ 15 | n = 20, p = 0.95) ≈ 1.6 %). 0.1 s each (100 cycles) keeps it quick; the
+// frequency and phase change with the seed so that the boundaries fall differently on the
+// sample grid.
+TEST(FundamentalU95, IsHonestWithNoise) {
+  int hits = 0;
+  std::string misses;
+  for (std::uint64_t seed = 1; seed <= 20; ++seed) {
+    auto rng = std::make_shared<std::mt19937_64>(seed);
+    auto normal = std::make_shared<std::normal_distribution<double>>(0.0, kNoise);
+    const double f = kF * (1 + 1.3e-4 * static_cast<double>(seed));
+    const double phase = 0.31 * static_cast<double>(seed);
+    Record rec;
+    rec.frames = 100'000;
+    rec.current = [=](std::size_t n) {
+      return kDc + kPeak * std::sin(2 * M_PI * f * static_cast<double>(n) / kRate + phase) +
+             (*normal)(*rng);
+    };
+    const CycleSummary s = run(rec);
+    const double err = s.fundamental_hz.value - f;
+    if (std::fabs(err) <= s.fundamental_hz.u95) {
+      ++hits;
+    } else {
+      misses += " seed " + std::to_string(seed) + ": " +
+                std::to_string(err / s.fundamental_hz.u95) + " u95;";
+    }
+  }
+  EXPECT_GE(hits, 16) << misses;
+}
+
 // White Gaussian noise alone has no periodic fundamental (its zero crossings are a random
 // point process, Rice, Bell Syst. Tech. J. 24, 1945): the engine must say so, not give one.
 TEST(NoSignal, WhiteNoiseIsNotPeriodic) {
   auto rng = std::make_shared<std::mt19937_64>(11);
   auto normal = std::make_shared<std::normal_distribution<double>>(0.0, 0.001);
   Record rec;
-  rec.frames = 500'000;
+  rec.frames = 100'000;  // 0.1 s at 1 MS/s: tens of thousands of random "cycles"
   rec.current = [=](std::size_t) { return (*normal)(*rng); };
   const CycleSummary s = run(rec);
   EXPECT_FALSE(s.periodic) << s.cycles << " cycles, " << s.irregular_cycles << " irregular, f "
                            << s.fundamental_hz.value << " Hz";
 }
 
-// A single damped 1 kHz burst (3 ms, τ = 1 ms) in 0.2 s of low noise: one transient, not a
-// periodic signal. The issue: refused, never given a fundamental. The engine's way to refuse
-// is `periodic == false` or fewer than two whole cycles (analyse.cpp refuses both).
-TEST(NoSignal, SingleTransientIsNotGivenAFundamental) {
+// A single damped 1 kHz burst in 0.2 s of low noise (10 µA rms), 200 kS/s: one transient,
+// not a periodic signal. The issue: refused, never given a fundamental. The engine's ways to
+// refuse are `periodic == false` and fewer than two whole cycles (analyse.cpp refuses both);
+// a burst long enough for several regular cycles must be judged not periodic.
+struct Burst {
+  const char* name;
+  double length_s, tau_s;
+  bool few_cycles_allowed;  // too short for two whole cycles above the band: refused anyway
+};
+
+class SingleTransient : public ::testing::TestWithParam<Burst> {};
+
+TEST_P(SingleTransient, IsNotGivenAFundamental) {
+  const Burst p = GetParam();
   auto rng = std::make_shared<std::mt19937_64>(5);
   auto normal = std::make_shared<std::normal_distribution<double>>(0.0, 1e-5);
   Record rec;
-  rec.frames = 200'000;
+  rec.rate_hz = 200e3;
+  rec.frames = 40'000;
   rec.current = [=](std::size_t n) {
-    const double t = static_cast<double>(n) / kRate - 0.1;
-    const double burst =
-        t >= 0 && t < 0.003 ? 0.02 * std::exp(-t / 0.001) * std::sin(2 * M_PI * kF * t) : 0.0;
+    const double t = static_cast<double>(n) / 200e3 - 0.1;
+    const double burst = t >= 0 && t < p.length_s
+                             ? 0.02 * std::exp(-t / p.tau_s) * std::sin(2 * M_PI * kF * t)
+                             : 0.0;
     return burst + (*normal)(*rng);
   };
   const CycleSummary s = run(rec);
-  EXPECT_TRUE(!s.periodic || s.cycles < 2)
-      << s.cycles << " cycles, " << s.irregular_cycles << " irregular, f "
-      << s.fundamental_hz.value << " ± " << s.fundamental_hz.u95 << " Hz";
+  const std::string seen = std::to_string(s.cycles) + " cycles, " +
+                           std::to_string(s.irregular_cycles) + " irregular, f " +
+                           std::to_string(s.fundamental_hz.value) + " Hz";
+  if (p.few_cycles_allowed) {
+    EXPECT_TRUE(!s.periodic || s.cycles < 2) << seen;
+  } else {
+    EXPECT_FALSE(s.periodic) << seen;
+  }
 }
+
+INSTANTIATE_TEST_SUITE_P(Bursts, SingleTransient,
+                         ::testing::Values(Burst{"three_ms", 0.003, 0.001, true},
+                                           Burst{"ten_ms", 0.010, 0.003, false},
+                                           Burst{"fifty_ms", 0.050, 0.020, false}),
+                         [](const auto& param_info) { return std::string(param_info.param.name); });
 
 // Item 5: a voltage that is not periodic (a converter's output: a level with a step, a slow
 // ramp and noise) beside a periodic current (1 kHz, 20 mA peak, +1 mA DC): the current sets
@@ -290,10 +431,6 @@ CycleSummary run_with_voltage(const ConverterOutput& p, CycleReference reference
   return run(rec, reference);
 }
 
-// BUG (reported) for the "large_step" shape: the automatic choice only gives way when the
-// voltage shows at least three intervals between crossings in the look-ahead; a voltage that
-// crosses its level once stays the reference, and the record gets no cycle at all (the CLI then
-// refuses "fewer than two whole cycles") although the current is plainly periodic.
 TEST_P(NonPeriodicVoltage, GivesWayToThePeriodicCurrent) {
   const CycleSummary s = run_with_voltage(GetParam(), CycleReference::automatic);
   EXPECT_EQ(s.reference, "current") << s.crossings << " crossings\n" << all_warnings(s);
@@ -313,15 +450,14 @@ TEST_P(NonPeriodicVoltage, GivesWayToThePeriodicCurrent) {
 TEST_P(NonPeriodicVoltage, ForcedAsReferenceIsNotGivenAFundamental) {
   const CycleSummary s = run_with_voltage(GetParam(), CycleReference::voltage);
   EXPECT_EQ(s.reference, "voltage");
-  EXPECT_TRUE(!s.periodic || s.cycles < 2)
-      << s.cycles << " cycles, " << s.irregular_cycles << " irregular, f "
-      << s.fundamental_hz.value << " Hz";
+  EXPECT_TRUE(!s.periodic || s.cycles < 2) << s.cycles << " cycles, " << s.irregular_cycles
+                                           << " irregular, f " << s.fundamental_hz.value << " Hz";
 }
 
 INSTANTIATE_TEST_SUITE_P(Shapes, NonPeriodicVoltage,
                          ::testing::Values(ConverterOutput{"large_step", 100, 10},
                                            ConverterOutput{"small_step", 20, 10}),
-                         [](const auto& info) { return std::string(info.param.name); });
+                         [](const auto& param_info) { return std::string(param_info.param.name); });
 
 // Few whole cycles: the fundamental still carries an honest u95 (> 0, the truth inside it),
 // and with fewer than three whole cycles a warning says the figures are poorly determined.
@@ -369,8 +505,8 @@ TEST_P(FewWholeCycles, FundamentalCarriesAnHonestU95) {
 }
 
 INSTANTIATE_TEST_SUITE_P(Cycles, FewWholeCycles,
-                         ::testing::Values(FewCycles{2, 0.0}, FewCycles{3, 0.0},
-                                           FewCycles{2, 0.01}, FewCycles{3, 0.01}));
+                         ::testing::Values(FewCycles{2, 0.0}, FewCycles{3, 0.0}, FewCycles{2, 0.01},
+                                           FewCycles{3, 0.01}));
 
 // A resonant inverter whose frequency follows the mains ripple: 40 kHz ± 5 % at 100 Hz,
 // 1 MS/s (25 samples per cycle), 0.1 s = ten modulation periods. Within kPeriodTolerance, so

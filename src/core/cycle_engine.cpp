@@ -147,6 +147,18 @@ struct CycleAccumulator {
   }
 };
 
+// What a kept cycle tells the detector (its reference's mean and half swing, the current's
+// half swing, its period), applied once the cycle is committed.
+struct LevelUpdate {
+  double ref_mean = 0, ref_half = 0, i_half = 0;
+  double period_samples = 0;  // 0: the period does not update the running one
+};
+struct HeldCycle {
+  CycleRecord record;
+  double end_s = 0;
+  LevelUpdate update;
+};
+
 struct Accumulators {
   BatchMeans dc, ms, ac_ms, q_pos, q_neg, asym, share, peak_pos, peak_neg;
   BatchMeans v_mean, v_ms, v_peak_pos, v_peak_neg, v_share, power, e_pos, e_neg, burn_pos, burn_neg;
@@ -219,10 +231,9 @@ struct CycleEngine::Impl {
   int glitch_streak = 0;      // consecutive cycles the glitch test flagged
   double period_nominal = 0;  // the running period [samples], 0 until known
   std::vector<double> early_periods;
-  bool exclude_next = false;  // a glitch reached the next cycle through the edge corrections
   // The last kept cycle, committed one cycle late so that a glitch at the start of the cycle
   // after it (which reaches it through the edge corrections) can still exclude it.
-  std::optional<std::pair<CycleRecord, double>> held_back;
+  std::optional<HeldCycle> held_back;
   std::uint64_t last_committed = std::numeric_limits<std::uint64_t>::max();
   std::uint64_t stretches = 0;  // runs of consecutive kept cycles
   double kept_span_s = 0;       // Σ periods of the kept cycles
@@ -569,7 +580,7 @@ struct CycleEngine::Impl {
 
   // The band-limited end corrections δ(x) of every integrand at a fractional index x, with a
   // kernel of `half` taps a side (edge_half(x) > 0).
-  Integrals edge(double x, int half) const {
+  Integrals edge(double x, int half, bool sign_terms_only = false) const {
     const double base = std::floor(x);
     const auto n0 = static_cast<std::uint64_t>(base);
     const std::array<double, kEdgeTaps> w = edge_weights(x - base, half);
@@ -579,10 +590,11 @@ struct CycleEngine::Impl {
           at(n0 + static_cast<std::uint64_t>(j + 1) - static_cast<std::uint64_t>(half));
       const double c = w[static_cast<std::size_t>(j)];
       d.i += c * f.i;
+      d.p += c * f.v * f.i;
+      if (sign_terms_only) continue;  // a zero of the current changes only ∫|i| and ∫sign(i)·v·i
       d.i2 += c * f.i * f.i;
       d.v += c * f.v;
       d.v2 += c * f.v * f.v;
-      d.p += c * f.v * f.i;
     }
     return d;
   }
@@ -623,7 +635,10 @@ struct CycleEngine::Impl {
   // signs and the stretches' signs agree.
   double current_zero(std::uint64_t m0, double ia, double ib) const {
     const double lin = static_cast<double>(m0) + ia / (ia - ib);
-    if (edge_half(lin) != kEdgeHalfTaps) return lin;
+    // With many samples per cycle the line's error, second order in the spacing, is negligible
+    // and the reconstruction would cost ~100 multiplications at every zero (a noisy dead
+    // interval has one every few samples).
+    if (fit_half_width > 2 || edge_half(lin) != kEdgeHalfTaps) return lin;
     const double lo = static_cast<double>(m0), hi = std::nextafter(lo + 1, lo);
     const double z =
         secant_root([this](double x) { return reconstruct(x, [](const Frame& f) { return f.i; }); },
@@ -648,7 +663,7 @@ struct CycleEngine::Impl {
         if (!(zero < up_to) || !std::isfinite(zero)) return;
         // (A zero without its samples lies in the partial cycle at the capture's end.)
         if (const int half = edge_half(zero); in_cycle && half > 0) {
-          const Integrals d = edge(zero, half);
+          const Integrals d = edge(zero, half, /*sign_terms_only=*/true);
           const double s_before = a.i > 0 ? 1.0 : -1.0;
           acc.sum.abs_i += 2 * s_before * d.i;
           acc.sum.abs_p += 2 * s_before * d.p;
@@ -833,8 +848,10 @@ struct CycleEngine::Impl {
     // of its edge corrections, when it holds a glitch, or when its period is irregular.
     std::string reason;
     // A sample reaches a cycle through the edge corrections (kEdgeHalfTaps samples) and through
-    // the boundary fits (fit_half_width samples) at either end.
-    const double reach = static_cast<double>(std::max<std::size_t>(kEdgeHalfTaps, fit_half_width));
+    // the boundary fits at either end: a fit spans ±fit_half_width samples around its trigger,
+    // and the boundary may lie anywhere in it, so up to 2·fit_half_width from the boundary.
+    const double reach =
+        static_cast<double>(std::max<std::size_t>(kEdgeHalfTaps, 2 * fit_half_width)) + 1;
     const double reach_lo = std::floor(cycle_start) - reach;
     const double reach_hi = std::floor(end) + reach;
     if (touches_bad(reach_lo, reach_hi)) reason = "not_finite";
@@ -843,6 +860,7 @@ struct CycleEngine::Impl {
     const double dev_hi = c.max_i - r.mean_a, dev_lo = r.mean_a - c.min_i;
     bool glitch = typical_i > 0 && std::max(dev_hi, dev_lo) > kGlitchFactor * typical_i;
     bool drop_held = false;
+    std::string next_reason;
     if (glitch && ++glitch_streak > 3) {
       // Four cycles in a row are not a glitch but a new level (ignition, a range change): the
       // typical swing starts again from here; the three before stay out, and are reported.
@@ -851,15 +869,15 @@ struct CycleEngine::Impl {
     }
     if (!glitch) glitch_streak = 0;
     if (glitch) {
-      // The glitch reaches a neighbour through the edge corrections when it lies within
-      // kEdgeHalfTaps samples of the boundary they share.
+      // The glitch reaches a neighbour through the edge corrections and the boundary fit when
+      // it lies within `reach` of the boundary they share.
       const auto at_index = static_cast<double>(dev_hi >= dev_lo ? c.max_at : c.min_at);
-      if (at_index <= std::floor(cycle_start) + reach + 1) drop_held = true;
-      if (at_index + reach + 1 >= std::floor(end)) exclude_next = true;
+      if (at_index <= std::floor(cycle_start) + reach) drop_held = true;
+      if (at_index + reach >= std::floor(end)) next_reason = "glitch";
     }
-    if (reason.empty() && (glitch || exclude_next_pending)) reason = "glitch";
-    exclude_next_pending = exclude_next;
-    exclude_next = false;
+    if (reason.empty() && glitch) reason = "glitch";
+    if (reason.empty() && !exclude_next_reason.empty()) reason = exclude_next_reason;
+    exclude_next_reason = next_reason;
     const double period_samples = end - cycle_start;
     bool irregular = false;
     if (period_nominal > 0) {
@@ -871,24 +889,29 @@ struct CycleEngine::Impl {
         period_nominal = early_periods[1];
       }
     }
-    if (reason.empty() && irregular) reason = "irregular";
+    if (irregular) {
+      ++irregular_streak;
+      if (reason.empty()) reason = "irregular";
+      // Whatever made the period irregular (a dropout, a missed or doubled crossing) sat at or
+      // near its boundaries, which the neighbours share: both are left out too.
+      drop_held = true;
+      if (exclude_next_reason.empty()) exclude_next_reason = "irregular";
+    } else {
+      irregular_streak = 0;
+    }
 
-    // The reference's level and swing follow the signal from cycle to cycle, but not through a
-    // glitch or a not-finite sample; a cycle's swing moves them by at most a factor of two, so
-    // that no single cycle can lift the band above the signal.
-    if (reason != "glitch" && reason != "not_finite") {
-      const double ref_mean = ref_is_voltage ? r.voltage_mean_v : r.mean_a;
-      const double ref_half = 0.5 * (ref_is_voltage ? c.max_v - c.min_v : c.max_i - c.min_i);
-      level_mean += kLevelSmoothing * (ref_mean - level_mean);
-      half_swing +=
-          kSwingSmoothing * (std::clamp(ref_half, 0.5 * half_swing, 2 * half_swing) - half_swing);
-      typical_i +=
-          kSwingSmoothing *
-          (std::clamp(0.5 * (c.max_i - c.min_i), 0.5 * typical_i, 2 * typical_i) - typical_i);
-    }
-    if (reason.empty() && period_nominal > 0) {
-      period_nominal += kLevelSmoothing * (period_samples - period_nominal);
-    }
+    // The reference's level and swing follow the signal from cycle to cycle, from kept cycles
+    // only, and only once a kept cycle is committed (a cycle dropped afterwards because of its
+    // neighbour's glitch does not move them); a cycle's swing moves them by at most a factor
+    // of two, so that no single cycle can lift the band above the signal. Irregular cycles
+    // count once three have come in a row (the signal changed: the levels must follow it, or
+    // the band could stay above a smaller signal for good).
+    LevelUpdate update;
+    update.ref_mean = ref_is_voltage ? r.voltage_mean_v : r.mean_a;
+    update.ref_half = 0.5 * (ref_is_voltage ? c.max_v - c.min_v : c.max_i - c.min_i);
+    update.i_half = 0.5 * (c.max_i - c.min_i);
+    update.period_samples = reason.empty() ? period_samples : 0.0;
+    if (reason == "irregular" && irregular_streak >= 3) apply(update);
 
     const double end_s = time_of(end);
     const bool excluded =
@@ -896,14 +919,16 @@ struct CycleEngine::Impl {
     ++cycle_index;
     if (held_back) {
       if (drop_held) {
-        exclude(held_back->first, held_back->second, "glitch");
+        exclude(held_back->record, held_back->end_s, reason.empty() ? "glitch" : reason);
       } else {
-        commit(held_back->first, held_back->second);
+        apply(held_back->update);
+        commit(held_back->record, held_back->end_s);
       }
       held_back.reset();
     }
     last_cycle_excluded = false;
     if (excluded) {
+      apply(update);
       ++summary.excluded_cycles;
       last_cycle_excluded = true;
       return;
@@ -913,9 +938,21 @@ struct CycleEngine::Impl {
       last_cycle_excluded = true;
       return;
     }
-    held_back.emplace(r, end_s);
+    held_back.emplace(HeldCycle{r, end_s, update});
   }
-  bool exclude_next_pending = false;
+
+  void apply(const LevelUpdate& u) {
+    level_mean += kLevelSmoothing * (u.ref_mean - level_mean);
+    half_swing +=
+        kSwingSmoothing * (std::clamp(u.ref_half, 0.5 * half_swing, 2 * half_swing) - half_swing);
+    typical_i +=
+        kSwingSmoothing * (std::clamp(u.i_half, 0.5 * typical_i, 2 * typical_i) - typical_i);
+    if (u.period_samples > 0 && period_nominal > 0) {
+      period_nominal += kLevelSmoothing * (u.period_samples - period_nominal);
+    }
+  }
+  std::string exclude_next_reason;
+  int irregular_streak = 0;
 
   void commit(const CycleRecord& r, double end_s) {
     add_to_summary(r, end_s);
@@ -1323,7 +1360,7 @@ const CycleSummary& CycleEngine::finish() {
   m.pending.clear();  // a crossing too close to the end for its fit is not used
   if (m.next_index > 0) m.integrate_up_to(m.next_index - 1);
   if (m.held_back) {
-    m.commit(m.held_back->first, m.held_back->second);
+    m.commit(m.held_back->record, m.held_back->end_s);
     m.held_back.reset();
   }
   m.finished = true;
