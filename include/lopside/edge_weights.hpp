@@ -33,6 +33,11 @@ inline constexpr std::size_t kEdgeTaps = 2 * static_cast<std::size_t>(kEdgeHalfT
 /// with two lengths at its two ends; only its pass band is narrower.
 std::array<double, kEdgeTaps> edge_weights(double p, int half_taps = kEdgeHalfTaps);
 
+/// The Kaiser-windowed sinc of half-length `half_taps` at u samples (0 for |u| ≥ half_taps),
+/// β = 9: sin(πu)/(πu) · I₀(β√(1 − (u/K)²))/I₀(β) (Oppenheim & Schafer, 7.6). The harmonic
+/// analysis resamples its blocks with the same kernel.
+double kaiser_sinc(double u, int half_taps);
+
 /// The kernel itself, φ(p − j) for j = −kEdgeHalfTaps + 1 … kEdgeHalfTaps (index j +
 /// kEdgeHalfTaps − 1), normalised to unit sum: Σⱼ φ(p − j)·g_{⌊x⌋+j} is the band-limited value
 /// at x = ⌊x⌋ + p.

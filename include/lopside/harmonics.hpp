@@ -103,6 +103,9 @@ struct HarmonicSummary {
   std::vector<std::string> warnings;
 };
 
+/// "2, 4, 6, …": the orders, cut with an ellipsis once the text passes `max_chars`.
+std::string order_list(const std::vector<std::size_t>& orders, std::size_t max_chars = 40);
+
 /// Fed by the cycle engine with every current sample (in order, by global frame index) and
 /// every cycle boundary (fractional frame index, increasing). Memory: one block of samples.
 class HarmonicAnalyzer {

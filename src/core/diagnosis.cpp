@@ -238,14 +238,7 @@ Diagnosis diagnose(const CycleSummary& s, const TimeCourseResult& course,
     const HarmonicSummary& h = *s.harmonics;
     const double ratio = h.even_significant_rms_a / std::fabs(dc);
     offset_like = ratio < th.even_rms_to_dc;
-    std::string orders;
-    for (std::size_t n : h.even_significant_orders) {
-      if (orders.size() > 40) {
-        orders += ", …";
-        break;
-      }
-      orders += (orders.empty() ? "" : ", ") + std::to_string(n);
-    }
+    const std::string orders = order_list(h.even_significant_orders);
     add("even_harmonics", ratio, th.even_rms_to_dc,
         offset_like
             ? "The DC comes without even harmonics above the noise floor (their rms is " +

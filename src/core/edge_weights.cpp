@@ -18,28 +18,10 @@ namespace {
 constexpr int kPhases = 1024;
 constexpr double kBeta = 9.0;
 
-// Modified Bessel function I0 by its power series (Abramowitz & Stegun 9.6.12).
-double bessel_i0(double x) {
-  double sum = 1.0, term = 1.0;
-  for (int k = 1; k < 60; ++k) {
-    term *= (x / (2.0 * k)) * (x / (2.0 * k));
-    sum += term;
-    if (term < 1e-17 * sum) break;
-  }
-  return sum;
-}
-
-double kernel(double u, int half) {
-  const double r = u / half;
-  if (std::fabs(r) >= 1) return 0.0;
-  const double sinc = u == 0.0 ? 1.0 : std::sin(M_PI * u) / (M_PI * u);
-  return sinc * bessel_i0(kBeta * std::sqrt(1 - r * r)) / bessel_i0(kBeta);
-}
-
 struct Table {
   std::vector<std::array<double, kEdgeTaps>> rows;  // kPhases + 1 rows, p = q / kPhases
   explicit Table(int half) : rows(kPhases + 1) {
-    const auto kernel = [half](double u) { return lopside::kernel(u, half); };
+    const auto kernel = [half](double u) { return kaiser_sinc(u, half); };
     // C on the grid u = −K + k/kPhases, k = 0 … 2·K·kPhases.
     const int n = 2 * half * kPhases;
     std::vector<double> c(static_cast<std::size_t>(n) + 1, 0.0);
@@ -62,7 +44,7 @@ struct Table {
         const auto k = static_cast<std::size_t>(q + (half - j) * kPhases);
         const auto idx = static_cast<std::size_t>(j + half - 1);
         row[idx] = c[k] - (j <= 0 ? 1.0 : 0.0);
-        phi[idx] = kernel(p - j);
+        phi[idx] = kaiser_sinc(p - j, half);
         sum += row[idx];
         phi_sum += phi[idx];
       }
@@ -89,14 +71,33 @@ const Table& table(int half) {
   }
 }
 
+// Modified Bessel function I0 by its power series (Abramowitz & Stegun 9.6.12).
+double bessel_i0(double x) {
+  double sum = 1.0, term = 1.0;
+  for (int k = 1; k < 60; ++k) {
+    term *= (x / (2.0 * k)) * (x / (2.0 * k));
+    sum += term;
+    if (term < 1e-17 * sum) break;
+  }
+  return sum;
+}
+
 }  // namespace
+
+double kaiser_sinc(double u, int half_taps) {
+  static const double i0_beta = bessel_i0(kBeta);
+  const double r = u / half_taps;
+  if (std::fabs(r) >= 1) return 0.0;
+  const double sinc = u == 0.0 ? 1.0 : std::sin(M_PI * u) / (M_PI * u);
+  return sinc * bessel_i0(kBeta * std::sqrt(1 - r * r)) / i0_beta;
+}
 
 std::array<double, kEdgeTaps> interpolation_weights(double p) {
   std::array<double, kEdgeTaps> w{};
   double sum = 0;
   for (int j = -kEdgeHalfTaps + 1; j <= kEdgeHalfTaps; ++j) {
     const auto idx = static_cast<std::size_t>(j + kEdgeHalfTaps - 1);
-    w[idx] = kernel(p - j, kEdgeHalfTaps);
+    w[idx] = kaiser_sinc(p - j, kEdgeHalfTaps);
     sum += w[idx];
   }
   for (double& v : w) v /= sum;

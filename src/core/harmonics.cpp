@@ -8,6 +8,7 @@
 #include <map>
 #include <stdexcept>
 
+#include "lopside/edge_weights.hpp"
 #include "lopside/fft.hpp"
 #include "lopside/uncertainty.hpp"
 
@@ -22,7 +23,7 @@ namespace {
 // asked for lie inside its flat band; kernels are tabulated at kPhases + 1 fractional positions.
 constexpr int kMaxHalfTaps = 16;  // margin kept on either side of a block, in samples
 constexpr int kPhases = 1024;
-constexpr double kKaiserBeta = 9.0;
+// (β = 9: kaiser_sinc in edge_weights.hpp.)
 // Orders up to this share of the samples per cycle stay inside each kernel's flat band
 // (0.82 and 0.62 of Nyquist, less a margin).
 constexpr double kUsableShareLong = 0.4;
@@ -32,36 +33,20 @@ constexpr double kUsableShareShort = 0.3;
 // order 32768 would alias, which no discharge supply has in any measurable amount.
 constexpr std::size_t kMaxGridPerCycle = std::size_t{1} << 16;
 
-// Modified Bessel function I0 by its power series (Abramowitz & Stegun 9.6.12).
-double bessel_i0(double x) {
-  double sum = 1.0, term = 1.0;
-  for (int k = 1; k < 60; ++k) {
-    term *= (x / (2.0 * k)) * (x / (2.0 * k));
-    sum += term;
-    if (term < 1e-17 * sum) break;
-  }
-  return sum;
-}
-
 template <int Half>
 struct Kernel {
   static constexpr std::size_t kTaps = 2 * static_cast<std::size_t>(Half);
   // table[p][j] = h(p/kPhases − (j − Half + 1)), rows normalised to unit sum (DC gain 1).
   std::vector<std::array<double, kTaps>> table;
   Kernel() : table(kPhases + 1) {
-    const double i0_beta = bessel_i0(kKaiserBeta);
     for (int p = 0; p <= kPhases; ++p) {
       const double t = static_cast<double>(p) / kPhases;
       double sum = 0;
       auto& row = table[static_cast<std::size_t>(p)];
       for (int j = 0; j < static_cast<int>(kTaps); ++j) {
-        const double x = t - static_cast<double>(j - Half + 1);
-        const double sinc = x == 0.0 ? 1.0 : std::sin(M_PI * x) / (M_PI * x);
-        const double r = x / Half;
-        const double w =
-            std::fabs(r) < 1 ? bessel_i0(kKaiserBeta * std::sqrt(1 - r * r)) / i0_beta : 0.0;
-        row[static_cast<std::size_t>(j)] = sinc * w;
-        sum += sinc * w;
+        const double h = kaiser_sinc(t - static_cast<double>(j - Half + 1), Half);
+        row[static_cast<std::size_t>(j)] = h;
+        sum += h;
       }
       for (double& v : row) v /= sum;
     }
@@ -406,6 +391,18 @@ void HarmonicAnalyzer::on_boundary(double index) {
 void HarmonicAnalyzer::drop_partial_block() {
   impl_->bounds.clear();
   impl_->update_ready_at();
+}
+
+std::string order_list(const std::vector<std::size_t>& orders, std::size_t max_chars) {
+  std::string out;
+  for (std::size_t n : orders) {
+    if (out.size() > max_chars) {
+      out += ", \xE2\x80\xA6";
+      break;
+    }
+    out += (out.empty() ? "" : ", ") + std::to_string(n);
+  }
+  return out;
 }
 
 HarmonicSummary HarmonicAnalyzer::finish() {

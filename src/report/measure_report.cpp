@@ -45,14 +45,7 @@ void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1
   } else if (h.even_significant_orders.empty()) {
     line(out, "even orders", "none above the noise floor");
   } else {
-    std::string orders;
-    for (std::size_t n : h.even_significant_orders) {
-      if (orders.size() > 30) {
-        orders += ", \xE2\x80\xA6";
-        break;
-      }
-      orders += (orders.empty() ? "" : ", ") + std::to_string(n);
-    }
+    const std::string orders = order_list(h.even_significant_orders, 30);
     line(out, "even orders",
          orders + " above the noise floor, rms " +
              format_with_uncertainty(h.even_significant_rms_a, h.even_rms_u95_a, "A", false));
