@@ -1,4 +1,5 @@
 #include <array>
+#include <cmath>
 #include <cstdint>
 #include <cstdio>
 #include <iostream>
@@ -72,7 +73,25 @@ void run_inspect(const InspectOptions& options) {
     stats.set_full_scale(c, ch.full_scale_low, ch.full_scale_high);
   }
   SampleBlock block;
-  while (source->read(block, kBlockFrames) > 0) stats.add(block);
+  // A float file can hold NaN or infinity (text readers refuse them at their line); inspect
+  // summarises finite values, so it refuses such a file with the frame and its time.
+  std::uint64_t frame0 = 0;
+  while (const std::size_t got = source->read(block, kBlockFrames)) {
+    for (std::size_t f = 0; f < got; ++f) {
+      for (std::size_t c = 0; c < block.channels; ++c) {
+        if (std::isfinite(block.value(f, c))) continue;
+        const CaptureInfo& ci = source->info();
+        const double t = ci.start_time_s + static_cast<double>(frame0 + f) / ci.sample_rate_hz;
+        throw InputError(options.capture_path,
+                         "frame " + std::to_string(frame0 + f + 1) + " (t = " + std::to_string(t) +
+                             " s), channel " + std::to_string(c + 1) +
+                             ": the sample is not finite (NaN or infinite); expected finite "
+                             "values (lopside measure leaves such cycles out and says so)");
+      }
+    }
+    frame0 += got;
+    stats.add(block);
+  }
   if (stats.frames() == 0) {
     throw InputError(options.capture_path, "expected samples, found none");
   }
