@@ -216,7 +216,8 @@ TEST_F(RecordSanity, GlitchIsLeftOutAndSaidInEveryOutput) {
   // and 2 partial without the glitch; a faked crossing may add one piece).
   const long pieces = j["cycle_count"].get<long>() + j["partial_cycles"].get<long>() + glitch +
                       j["left_out_cycles"]["irregular"].get<long>() +
-                      j["left_out_cycles"]["not_finite"].get<long>();
+                      j["left_out_cycles"]["not_finite"].get<long>() +
+                      j["left_out_cycles"]["neighbour"].get<long>();
   EXPECT_GE(pieces, 500);
   EXPECT_LE(pieces, 501);
   const RunResult t = run({"measure", p.string()});

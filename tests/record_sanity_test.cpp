@@ -90,7 +90,8 @@ const Exclusion* stretch_holding(const CycleSummary& s, const std::string& reaso
 // The engine's whole, left-out and partial cycles together: what the record's length must be
 // accounted for by.
 std::uint64_t accounted(const CycleSummary& s) {
-  return s.cycles + s.glitch_cycles + s.irregular_cycles + s.not_finite_cycles + s.partial_cycles;
+  return s.cycles + s.glitch_cycles + s.irregular_cycles + s.not_finite_cycles +
+         s.neighbour_cycles + s.partial_cycles;
 }
 
 // Nothing silently missing, in time: the kept cycles (each one true period long) and the
@@ -301,7 +302,8 @@ TEST(Dropout, IsLeftOutAndTheRecordStillAccountedFor) {
   expect_figures_right(s);
   expect_fundamental_as_clean(s, clean.summary);
   expect_kept_cycles_as_clean(r, clean);
-  const std::uint64_t out = s.irregular_cycles + s.glitch_cycles + s.not_finite_cycles;
+  const std::uint64_t out =
+      s.irregular_cycles + s.glitch_cycles + s.not_finite_cycles + s.neighbour_cycles;
   EXPECT_GE(out, 1u) << all_warnings(s);
   // A left-out stretch spans the dropout (no cycle boundary lies inside it).
   const double t0 = 2.0, t1 = 2.02 - 1 / kRate;
@@ -561,7 +563,7 @@ TEST(QuantisedMains, NoCycleIsLeftOutAndTheRmsIsInsideItsU95) {
       return q * std::round(i / q);
     };
     const CycleSummary s = run(rec);
-    EXPECT_EQ(s.irregular_cycles + s.glitch_cycles + s.not_finite_cycles, 0u)
+    EXPECT_EQ(s.irregular_cycles + s.glitch_cycles + s.not_finite_cycles + s.neighbour_cycles, 0u)
         << "seed " << seed << "\n"
         << all_warnings(s);
     // 500 periods in 10 s; the boundaries within 17 samples (two periods) of either end are

@@ -58,7 +58,8 @@ struct Exclusion {
   double start_s = 0, end_s = 0;
   /// "not_finite" (a NaN or infinite sample), "glitch" (a peak beyond kGlitchFactor times the
   /// typical swing), "irregular" (a period outside ±kPeriodTolerance of the running one: a
-  /// dropout, a missed or a doubled crossing).
+  /// dropout, a missed or a doubled crossing), "neighbour" (next to a glitch or an irregular
+  /// cycle, sharing the boundary its fault reaches).
   std::string reason;
 };
 
@@ -115,6 +116,9 @@ struct CycleSummary {
   /// Cycles left out because a sample in or next to them is not finite, holds a glitch, or
   /// because their period is irregular (Exclusion::reason); not in `cycles`.
   std::uint64_t not_finite_cycles = 0, glitch_cycles = 0, irregular_cycles = 0;
+  /// Cycles left out because a neighbour's fault (a glitch, an irregular period) reaches the
+  /// boundary they share, through the boundary fit or the edge corrections.
+  std::uint64_t neighbour_cycles = 0;
   std::uint64_t not_finite_samples = 0;  ///< NaN or infinite samples of the current or voltage
   /// The first kMaxExclusions such stretches, in time order.
   std::vector<Exclusion> exclusions;

@@ -237,6 +237,7 @@ struct CycleEngine::Impl {
   std::uint64_t last_committed = std::numeric_limits<std::uint64_t>::max();
   std::uint64_t stretches = 0;  // runs of consecutive kept cycles
   double kept_span_s = 0;       // Σ periods of the kept cycles
+  double kept_span2_s2 = 0;     // Σ periods² of the kept cycles
   double jitter_noise_var = 0;  // Σ of the boundaries' variance the noise explains [samples²]
   std::uint64_t jitter_noise_n = 0;
   BatchMeans crest_peak;
@@ -873,10 +874,10 @@ struct CycleEngine::Impl {
       // it lies within `reach` of the boundary they share.
       const auto at_index = static_cast<double>(dev_hi >= dev_lo ? c.max_at : c.min_at);
       if (at_index <= std::floor(cycle_start) + reach) drop_held = true;
-      if (at_index + reach >= std::floor(end)) next_reason = "glitch";
+      if (at_index + reach >= std::floor(end)) next_reason = "neighbour";
     }
     if (reason.empty() && glitch) reason = "glitch";
-    if (reason.empty() && !exclude_next_reason.empty()) reason = exclude_next_reason;
+    const std::string neighbour_reason = exclude_next_reason;
     exclude_next_reason = next_reason;
     const double period_samples = end - cycle_start;
     bool irregular = false;
@@ -892,13 +893,22 @@ struct CycleEngine::Impl {
     if (irregular) {
       ++irregular_streak;
       if (reason.empty()) reason = "irregular";
+      // Three irregular periods in a row that agree with each other are a new frequency (a
+      // driver that changed its operating point), not faults: judge the next against it.
+      if (irregular_streak >= 3 && std::fabs(period_samples - last_irregular_period) <=
+                                       kPeriodTolerance * last_irregular_period) {
+        period_nominal = period_samples;
+      }
+      last_irregular_period = period_samples;
       // Whatever made the period irregular (a dropout, a missed or doubled crossing) sat at or
       // near its boundaries, which the neighbours share: both are left out too.
       drop_held = true;
-      if (exclude_next_reason.empty()) exclude_next_reason = "irregular";
+      if (exclude_next_reason.empty()) exclude_next_reason = "neighbour";
     } else {
       irregular_streak = 0;
     }
+    // Last in precedence: the cycle's own fault names it; only a sound cycle is "neighbour".
+    if (reason.empty() && !neighbour_reason.empty()) reason = neighbour_reason;
 
     // The reference's level and swing follow the signal from cycle to cycle, from kept cycles
     // only, and only once a kept cycle is committed (a cycle dropped afterwards because of its
@@ -919,7 +929,7 @@ struct CycleEngine::Impl {
     ++cycle_index;
     if (held_back) {
       if (drop_held) {
-        exclude(held_back->record, held_back->end_s, reason.empty() ? "glitch" : reason);
+        exclude(held_back->record, held_back->end_s, "neighbour");
       } else {
         apply(held_back->update);
         commit(held_back->record, held_back->end_s);
@@ -953,6 +963,7 @@ struct CycleEngine::Impl {
   }
   std::string exclude_next_reason;
   int irregular_streak = 0;
+  double last_irregular_period = 0;
 
   void commit(const CycleRecord& r, double end_s) {
     add_to_summary(r, end_s);
@@ -962,7 +973,8 @@ struct CycleEngine::Impl {
   double excluded_span_s = 0;  // time in cycles left out for a reason (not --zero)
 
   void exclude(const CycleRecord& r, double end_s, const std::string& reason) {
-    excluded_span_s += r.period_s;
+    if (reason == "irregular") excluded_span_s += r.period_s;
+    if (reason == "neighbour") ++summary.neighbour_cycles;
     if (reason == "not_finite") ++summary.not_finite_cycles;
     if (reason == "glitch") ++summary.glitch_cycles;
     if (reason == "irregular") ++summary.irregular_cycles;
@@ -980,6 +992,7 @@ struct CycleEngine::Impl {
     last_end = end_s;
     ++summary.cycles;
     kept_span_s += r.period_s;
+    kept_span2_s2 += r.period_s * r.period_s;
     // Period differences count only between neighbours in time: a gap starts a new stretch.
     if (r.index != last_committed + 1) {
       ++stretches;
@@ -1216,11 +1229,20 @@ struct CycleEngine::Impl {
     }
   }
 
+  double kept_period_cv() const {
+    const auto n = static_cast<double>(summary.cycles);
+    if (n < 3 || !(kept_span_s > 0)) return 0.0;
+    const double mean = kept_span_s / n;
+    const double var = std::max(kept_span2_s2 / n - mean * mean, 0.0) * n / (n - 1);
+    return std::sqrt(var) / mean;
+  }
+
   // Issue 9, items 5 and 6: what was left out, and whether the reference is periodic at all.
   void judge_record() {
     CycleSummary& s = summary;
     if (!s.reference_note.empty()) s.warnings.push_back(s.reference_note);
-    const std::uint64_t out = s.not_finite_cycles + s.glitch_cycles + s.irregular_cycles;
+    const std::uint64_t out =
+        s.not_finite_cycles + s.glitch_cycles + s.irregular_cycles + s.neighbour_cycles;
     if (s.not_finite_samples > 0) {
       s.warnings.push_back(std::to_string(s.not_finite_samples) +
                            " sample(s) are not finite (NaN or infinite); the " +
@@ -1240,7 +1262,9 @@ struct CycleEngine::Impl {
       s.warnings.push_back(std::to_string(out) + " cycle(s) left out of every figure (" +
                            std::to_string(s.glitch_cycles) + " with a glitch, " +
                            std::to_string(s.irregular_cycles) + " irregular, " +
-                           std::to_string(s.not_finite_cycles) + " not finite): " + where);
+                           std::to_string(s.not_finite_cycles) + " not finite, " +
+                           std::to_string(s.neighbour_cycles) +
+                           " next to one of those, whose boundary it shares): " + where);
     }
     // A reference without a periodic fundamental (noise, a single transient) cuts the record
     // into "cycles" of random length: most fall outside ±kPeriodTolerance of the running period.
@@ -1254,6 +1278,17 @@ struct CycleEngine::Impl {
                               std::to_string(s.irregular_cycles + s.cycles) +
                               " cycles between rising crossings differ from the running period "
                               "by more than 30 %, as noise or a single transient do";
+    } else if (const double cv = kept_period_cv(); s.cycles >= 3 && cv > 0.12) {
+      // Noise makes "cycles" of random length; those that pass ±30 % still spread over it
+      // (a uniform spread of ±30 % has a relative standard deviation of 17 %), while a periodic
+      // signal's periods scatter by a few per cent at most (a ±10 % sinusoidal FM: 7 %).
+      s.periodic = false;
+      char buf[200];
+      std::snprintf(buf, sizeof buf,
+                    "the periods of its %llu regular cycles scatter by %.0f %% (relative standard "
+                    "deviation), as crossings of noise do",
+                    static_cast<unsigned long long>(s.cycles), 100 * cv);
+      s.not_periodic_reason = buf;
     } else if (s.cycles >= 2 && kept_span_s < 0.25 * record_s) {
       // A short burst (a switching edge's ringing, one transient) that repeats for a few
       // cycles inside a long record: its "fundamental" says nothing about the record.

@@ -322,7 +322,8 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   // Issue 9, items 5 and 6: what was left out and why, and how the reference was chosen.
   doc["left_out_cycles"] = json{{"not_finite", s.not_finite_cycles},
                                 {"glitch", s.glitch_cycles},
-                                {"irregular", s.irregular_cycles}};
+                                {"irregular", s.irregular_cycles},
+                                {"neighbour", s.neighbour_cycles}};
   doc["not_finite_samples"] = s.not_finite_samples;
   json excl = json::array();
   for (const Exclusion& e : s.exclusions)
