@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Installs the Debian packages lopside builds with (when missing), then configures and builds
-# into build/. Used by the README's two quick-start commands and by CI; safe to run again.
+# into build/ (everything, or only the targets given as arguments). Used by the README's two
+# quick-start commands and by CI; safe to run again.
 set -euo pipefail
 root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 
@@ -22,4 +23,10 @@ if ((${#missing[@]})); then
 fi
 
 cmake -S "$root" -B "$root/build" -DCMAKE_BUILD_TYPE=RelWithDebInfo >&2
-cmake --build "$root/build" -j"$(nproc)" >&2
+# Targets given as arguments are built alone (the quick start's first command needs only the
+# `lopside` binary, not the tests and benchmarks); none builds everything.
+if (($#)); then
+  cmake --build "$root/build" -j"$(nproc)" --target "$@" >&2
+else
+  cmake --build "$root/build" -j"$(nproc)" >&2
+fi
