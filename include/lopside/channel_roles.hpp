@@ -11,9 +11,6 @@
 
 namespace lopside {
 
-/// "1 'current' [A], 2 'U' [V]": the channels as error messages list them ("none" if empty).
-std::string describe_channels(const std::vector<ChannelInfo>& channels);
-
 /// Index (0-based) of the channel `selector` names: a 1-based number or an exact name
 /// (case-insensitive). Throws InputError naming `path` when there is no such channel.
 std::size_t find_channel(const std::vector<ChannelInfo>& channels, const ChannelSelector& selector,

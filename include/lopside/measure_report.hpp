@@ -8,30 +8,12 @@
 #include <string>
 #include <vector>
 
-#include "lopside/cycle_engine.hpp"
-#include "lopside/diagnosis.hpp"
-#include "lopside/sample_source.hpp"
-#include "lopside/time_course.hpp"
+#include "lopside/pipeline.hpp"
 
 namespace lopside {
 
 /// Bump when a key changes meaning or goes away; adding keys keeps the number.
 inline constexpr const char* kMeasureSchema = "lopside.measure/1";
-
-struct MeasureResult {
-  CaptureInfo info;
-  std::string current_name;                                 ///< the current channel's name
-  std::optional<std::string> voltage_name;                  ///< the voltage channel's, if any
-  double probe_offset_a = 0;                                ///< stated ±offset tolerance used [A]
-  double probe_gain_pct = 0;                                ///< stated ±gain tolerance used [%]
-  std::optional<std::pair<double, double>> zero_stretch_s;  ///< `--zero` [s]
-  double zero_u_a = 0;  ///< standard uncertainty of the measured zero [A]
-  CycleSummary summary;
-  TimeCourseResult time_course;
-  Diagnosis diagnosis;
-  std::optional<HeatingShare> heating;  ///< measure fills it; swap does not
-  std::vector<std::string> warnings;    ///< reader's, then the engine's
-};
 
 /// The caution every output that advises an action carries.
 inline constexpr const char* kHighVoltageCaution =

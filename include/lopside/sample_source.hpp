@@ -33,6 +33,10 @@ struct ChannelInfo {
   std::optional<double> full_scale_low, full_scale_high;
 };
 
+/// "1 'current' [A], 2 'voltage' [V]": the channels as error messages list them ("none" if
+/// there are none).
+std::string describe_channels(const std::vector<ChannelInfo>& channels);
+
 /// Facts about a capture. Readers of formats that state them up front (WAV) fill them at open;
 /// text readers refine `frames` and `sample_rate_hz` once `read()` has returned 0.
 struct CaptureInfo {

@@ -1,67 +1,17 @@
-// The measuring pipeline shared by `measure` and `swap`: one capture in, one MeasureResult out.
-#include <cmath>
-#include <memory>
-#include <optional>
+// The CLI side of the measuring pipeline: flags to MeasureSettings, files to sources.
+#include <cstdint>
 #include <string>
-#include <vector>
+#include <utility>
 
 #include "commands.hpp"
 #include "lopside/capture_reader.hpp"
-#include "lopside/channel_roles.hpp"
-#include "lopside/cycle_engine.hpp"
-#include "lopside/diagnosis.hpp"
-#include "lopside/error.hpp"
 #include "lopside/number_parse.hpp"
-#include "lopside/time_course.hpp"
-#include "lopside/uncertainty.hpp"
+#include "lopside/pipeline.hpp"
 #include "progress.hpp"
 #include "reader_flags.hpp"
 
 namespace lopside::cli {
 namespace {
-
-std::optional<std::size_t> channel_with_role(const CaptureInfo& info, ChannelRole role) {
-  for (std::size_t c = 0; c < info.channels.size(); ++c) {
-    if (info.channels[c].role == role) return c;
-  }
-  return std::nullopt;
-}
-
-struct Zero {
-  double value_a = 0;
-  double u_a = 0;
-};
-
-// The probe's offset: the mean current over a stretch with no discharge. Its standard error
-// comes from batch means over the samples, which allows for correlated noise.
-Zero measure_zero(const AnalysisOptions& o, double from_s, double to_s) {
-  const auto source = open_capture(o.capture_path, o.reader);
-  const CaptureInfo& info = source->info();
-  const auto current = channel_with_role(info, ChannelRole::current);
-  if (!current) return {};
-  BatchMeans mean;
-  SampleBlock block;
-  std::uint64_t frame = 0;
-  const double dt = 1.0 / info.sample_rate_hz;
-  bool past = false;
-  while (!past && source->read(block, kBlockFrames) > 0) {
-    for (std::size_t f = 0; f < block.frames; ++f, ++frame) {
-      const double t = info.start_time_s + static_cast<double>(frame) * dt;
-      if (t > to_s) {
-        past = true;
-        break;
-      }
-      if (t >= from_s) mean.add(block.value(f, *current));
-    }
-  }
-  if (mean.count() < 2) {
-    throw InputError(o.capture_path, "--zero " + o.zero + ": the stretch holds " +
-                                         std::to_string(mean.count()) +
-                                         " sample(s); expected a stretch inside the capture");
-  }
-  const double se = mean.standard_error();
-  return {mean.mean(), std::isfinite(se) ? se : 0.0};
-}
 
 std::pair<double, double> parse_zero(const std::string& text) {
   const auto colon = text.find(':');
@@ -72,29 +22,6 @@ std::pair<double, double> parse_zero(const std::string& text) {
   }
   throw CLI::ValidationError(
       "--zero", "expected FROM:TO in seconds with FROM < TO, e.g. 0:0.05; got '" + text + "'");
-}
-
-// The current must be in amperes: a channel in volts (or codes, or a.u.) read as amperes gives
-// figures off by the probe's transfer ratio, silently. No stated unit is taken as amperes, and
-// said.
-void check_current_unit(const AnalysisOptions& o, const ChannelInfo& c,
-                        std::vector<std::string>& warnings) {
-  if (c.unit == "A") return;
-  const std::string n = std::to_string(c.index);
-  if (c.unit.empty() && c.unit_text.empty()) {
-    warnings.push_back("channel " + n + " '" + c.name +
-                       "' states no unit: taken as amperes (give --unit " + n +
-                       "=A, or --gain and --unit for a probe in volts, to say so)");
-    return;
-  }
-  const std::string unit = c.unit.empty() ? c.unit_text : c.unit;
-  throw InputError(o.capture_path,
-                   "channel " + n + " '" + c.name + "', taken as the current, is in " + unit +
-                       ", not amperes; expected --gain " + n + "=A_PER_" +
-                       (c.unit == "V" ? "V" : "UNIT") + " (the probe's transfer ratio, e.g. " +
-                       "--gain " + n + "=10 for a 100 mV/A probe) or --unit " + n +
-                       "=A if the values are amperes already" +
-                       (c.unit == "V" ? "; or name the current channel with --current CH" : ""));
 }
 
 }  // namespace
@@ -132,122 +59,32 @@ void add_analysis_flags(CLI::App& app, AnalysisOptions& options) {
 
 MeasureResult analyse_capture(const AnalysisOptions& o,
                               const std::function<void(const CycleRecord&)>& per_cycle) {
-  std::optional<std::pair<double, double>> zero_stretch;
-  if (!o.zero.empty()) zero_stretch = parse_zero(o.zero);
-  Zero zero;
-  if (zero_stretch) {
-    // The stretch may lie anywhere in the record, so the capture is read twice: once for the
-    // offset, once to measure. Standard input or a pipe can be read only once, so it is copied
-    // to a temporary file first (bounded memory; the disk holds the copy).
+  MeasureSettings settings;
+  settings.capture_name = o.capture_path;
+  settings.probe_offset_a = o.probe_offset_a;
+  settings.probe_gain_pct = o.probe_gain_pct;
+  if (!o.zero.empty()) {
+    settings.zero_stretch_s = parse_zero(o.zero);
+    settings.zero_text = o.zero;
+    // The library reads the capture twice for the zero stretch. Standard input or a pipe can
+    // be read only once, so it is copied to a temporary file first (bounded memory; the disk
+    // holds the copy).
     keep_for_rereading(o.capture_path);
     for (const std::string& with : o.reader.with_paths) keep_for_rereading(with);
-    zero = measure_zero(o, zero_stretch->first, zero_stretch->second);
   }
-
-  const std::unique_ptr<SampleSource> source = open_capture(o.capture_path, o.reader);
-  const CaptureInfo& info = source->info();
-  const auto current = channel_with_role(info, ChannelRole::current);
-  if (!current) {
-    throw InputError(o.capture_path,
-                     "no channel is known to carry the current; expected "
-                     "--current CH (channels: " +
-                         describe_channels(info.channels) + ")");
-  }
-  const auto voltage = channel_with_role(info, ChannelRole::voltage);
-  std::vector<std::string> unit_warnings;
-  check_current_unit(o, info.channels[*current], unit_warnings);
-
-  CycleConfig config;
-  config.sample_rate_hz = info.sample_rate_hz;
-  config.start_time_s = info.start_time_s;
-  config.current_channel = *current;
-  config.voltage_channel = voltage;
-  config.current_zero_a = zero.value_a;
-  config.current_zero_u_a = zero.u_a;
-  config.probe_offset_a = o.probe_offset_a;
-  config.probe_gain_pct = o.probe_gain_pct;
-  config.exclude_s = zero_stretch;
-  if (o.reference == "voltage") {
-    if (!voltage) {
-      throw InputError(o.capture_path,
-                       "--reference voltage: no channel is known to carry the "
-                       "voltage; expected --voltage CH (channels: " +
-                           describe_channels(info.channels) + ")");
-    }
-    config.reference = CycleReference::voltage;
-  } else if (o.reference == "current") {
-    config.reference = CycleReference::current;
-  }
-  config.current_full_scale_low_a = info.channels[*current].full_scale_low;
-  config.current_full_scale_high_a = info.channels[*current].full_scale_high;
-  if (o.max_order > 0) {
-    HarmonicConfig harmonics;
-    harmonics.block_cycles = o.block_cycles;
-    harmonics.max_order = o.max_order;
-    config.harmonics = harmonics;
-  }
-
-  TimeCourse course;
-  CycleEngine engine(config, [&per_cycle, &course](const CycleRecord& r) {
-    course.add(r);
-    if (per_cycle) per_cycle(r);
-  });
-
+  settings.block_cycles = o.block_cycles;
+  settings.max_order = o.max_order;
+  if (o.reference == "voltage") settings.reference = CycleReference::voltage;
+  if (o.reference == "current") settings.reference = CycleReference::current;
   ProgressBar progress;
-  SampleBlock block;
-  std::uint64_t frames = 0;
-  while (const std::size_t n = source->read(block, kBlockFrames)) {
-    engine.consume(block);
-    frames += n;
-    const double share = info.frames
-                             ? static_cast<double>(frames) / static_cast<double>(*info.frames)
-                             : source->progress();
+  MeasureCallbacks callbacks;
+  callbacks.per_cycle = per_cycle;
+  callbacks.progress = [&progress](double share, std::uint64_t frames) {
     progress.update(share, frames);
-  }
+  };
+  MeasureResult result =
+      measure_capture([&o] { return open_capture(o.capture_path, o.reader); }, settings, callbacks);
   progress.done();
-  const CycleSummary& summary = engine.finish();
-
-  const ChannelInfo& ref_channel =
-      info.channels[summary.reference == "voltage" ? *voltage : *current];
-  // Issue 9, item 6: a record without a periodic fundamental is refused, never given one.
-  if (!summary.periodic) {
-    throw InputError(
-        o.capture_path,
-        "the " + summary.reference + " channel '" + ref_channel.name +
-            "' has no periodic fundamental: " + summary.not_periodic_reason +
-            "; expected a periodic current or voltage (--reference chooses the channel)");
-  }
-  if (summary.cycles < 2) {
-    const ChannelInfo& ref = ref_channel;
-    throw InputError(o.capture_path,
-                     "found " + std::to_string(summary.cycles) + " whole cycle(s) from " +
-                         std::to_string(summary.crossings) + " rising crossing(s) of the " +
-                         summary.reference + " channel '" + ref.name + "' in " +
-                         std::to_string(frames) + " samples; expected at least two whole cycles");
-  }
-
-  MeasureResult result;
-  result.info = source->info();  // text readers refine the rate once the read has ended
-  result.current_name = info.channels[*current].name;
-  if (voltage) result.voltage_name = info.channels[*voltage].name;
-  result.probe_offset_a = o.probe_offset_a;
-  result.probe_gain_pct = o.probe_gain_pct;
-  result.zero_stretch_s = zero_stretch;
-  result.zero_u_a = zero.u_a;
-  result.summary = summary;
-  result.time_course = course.finish();
-  result.diagnosis = diagnose(summary, result.time_course);
-  result.warnings = source->warnings();
-  for (const auto& w : unit_warnings) result.warnings.push_back(w);
-  for (const auto& w : summary.warnings) result.warnings.push_back(w);
-  if (summary.harmonics) {
-    for (const auto& w : summary.harmonics->warnings) result.warnings.push_back(w);
-  }
-  if (std::fabs(result.info.sample_rate_hz / config.sample_rate_hz - 1.0) > 1e-6) {
-    result.warnings.push_back(
-        "the time column's final fit moved the sample rate by more than "
-        "1e-6 after the first rows; times may be off by that share");
-  }
   return result;
 }
 

@@ -46,9 +46,9 @@ struct AnalysisOptions {
 /// flags (not the capture path) to `options`.
 void add_analysis_flags(CLI::App& app, AnalysisOptions& options);
 
-/// Measures one capture: opens it, subtracts the zero, streams it through the cycle engine
-/// (harmonics and time course included) and returns the result; `per_cycle` sees each whole
-/// cycle as it is found. Throws lopside::InputError on bad input or fewer than two cycles.
+/// Measures one capture by the library's measure_capture() (pipeline.hpp): the flags become
+/// MeasureSettings, the reader flags open the capture, a progress bar shows on a terminal;
+/// `per_cycle` sees each whole cycle as it is found. Throws lopside::InputError on bad input.
 MeasureResult analyse_capture(const AnalysisOptions& options,
                               const std::function<void(const CycleRecord&)>& per_cycle = {});
 

@@ -5,17 +5,15 @@
 #include <CLI/CLI.hpp>
 #include <cstddef>
 
+#include "lopside/pipeline.hpp"
 #include "lopside/reader_options.hpp"
 
 namespace lopside::cli {
 
-/// Frames per block every command reads: 64 Ki frames of a few channels stay within a few MB
-/// whatever the capture's size.
-inline constexpr std::size_t kBlockFrames = std::size_t{1} << 16;
-
 /// Adds --current, --voltage, --scale, --gain, --unit (the last three repeatable, as CH=VALUE),
-/// --rate, --with (repeatable) and --skip-bad-rows to `app`, filling `options` as they are parsed. `options` must
-/// outlive the parse. A malformed value is a CLI::ValidationError (a usage error, exit 2).
+/// --rate, --with (repeatable) and --skip-bad-rows to `app`, filling `options` as they are parsed.
+/// `options` must outlive the parse. A malformed value is a CLI::ValidationError (a usage error,
+/// exit 2).
 void add_reader_flags(CLI::App& app, ReaderOptions& options);
 
 }  // namespace lopside::cli

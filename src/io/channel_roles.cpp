@@ -34,16 +34,6 @@ bool name_means_voltage(const std::string& n) {
 
 }  // namespace
 
-std::string describe_channels(const std::vector<ChannelInfo>& channels) {
-  std::string out;
-  for (const auto& c : channels) {
-    if (!out.empty()) out += ", ";
-    out +=
-        std::to_string(c.index) + " '" + c.name + "'" + (c.unit.empty() ? "" : " [" + c.unit + "]");
-  }
-  return out.empty() ? std::string("none") : out;
-}
-
 std::size_t find_channel(const std::vector<ChannelInfo>& channels, const ChannelSelector& selector,
                          const std::string& path) {
   std::size_t number = 0;
