@@ -10,44 +10,25 @@
 #include <vector>
 
 #include "lopside/error.hpp"
+#include "lopside/memory_source.hpp"
 
 namespace lopside {
 namespace {
 
-// A one-channel capture held in memory, read in blocks as a file would be.
-class VectorSource : public SampleSource {
- public:
-  VectorSource(std::vector<double> values, double rate_hz, std::string unit)
-      : values_(std::move(values)) {
-    info_.path = "memory";
-    info_.format = "test";
-    info_.sample_rate_hz = rate_hz;
-    info_.frames = values_.size();
-    ChannelInfo c;
-    c.name = "current";
-    c.unit = std::move(unit);
-    c.role = ChannelRole::current;
-    c.index = 1;
-    info_.channels.push_back(c);
-  }
-  const CaptureInfo& info() const override { return info_; }
-  std::size_t read(SampleBlock& block, std::size_t max_frames) override {
-    const std::size_t n = std::min(max_frames, values_.size() - next_);
-    block.channels = 1;
-    block.frames = n;
-    block.data.assign(values_.begin() + static_cast<std::ptrdiff_t>(next_),
-                      values_.begin() + static_cast<std::ptrdiff_t>(next_ + n));
-    next_ += n;
-    return n;
-  }
-  const std::vector<std::string>& warnings() const override { return warnings_; }
-
- private:
-  std::vector<double> values_;
-  std::size_t next_ = 0;
-  CaptureInfo info_;
-  std::vector<std::string> warnings_;
-};
+// A one-channel capture in memory (MemorySource), its channel the current in `unit`.
+std::unique_ptr<SampleSource> source(const std::vector<double>& values, const std::string& unit) {
+  CaptureInfo info;
+  info.path = "memory";
+  info.format = "test";
+  info.sample_rate_hz = 1e6;
+  ChannelInfo c;
+  c.name = "current";
+  c.unit = unit;
+  c.role = ChannelRole::current;
+  c.index = 1;
+  info.channels.push_back(c);
+  return std::make_unique<MemorySource>(info, values);
+}
 
 // 1 kHz, 20 mA peak at 1 MS/s for 0.2 s (200 periods), +1 mA DC; before t = 20 ms the discharge
 // is off and only the probe's offset of +0.4 mA is recorded, after it the offset adds to the DC.
@@ -63,9 +44,7 @@ std::vector<double> capture(bool with_lead_in) {
 }
 
 SourceOpener opener(std::vector<double> values, std::string unit = "A") {
-  return [values = std::move(values), unit] {
-    return std::make_unique<VectorSource>(values, 1e6, unit);
-  };
+  return [values = std::move(values), unit] { return source(values, unit); };
 }
 
 TEST(Pipeline, OneCallGivesTheAnalyticFigures) {
@@ -97,7 +76,7 @@ TEST(Pipeline, TheZeroStretchIsMeasuredFirstAndSubtracted) {
   const std::vector<double> values = capture(true);
   const SourceOpener open = [&opened, &values] {
     ++opened;
-    return std::make_unique<VectorSource>(values, 1e6, "A");
+    return source(values, "A");
   };
   const MeasureResult r = measure_capture(open, s);
   EXPECT_EQ(opened, 2);
