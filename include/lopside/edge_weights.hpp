@@ -40,7 +40,8 @@ double kaiser_sinc(double u, int half_taps);
 
 /// The kernel itself, φ(p − j) for j = −kEdgeHalfTaps + 1 … kEdgeHalfTaps (index j +
 /// kEdgeHalfTaps − 1), normalised to unit sum: Σⱼ φ(p − j)·g_{⌊x⌋+j} is the band-limited value
-/// at x = ⌊x⌋ + p.
+/// at x = ⌊x⌋ + p. Tabulated at 1024 phases per sample and interpolated linearly: each weight
+/// within 4e-7 of the exact normalised kernel.
 std::array<double, kEdgeTaps> interpolation_weights(double p);
 
 }  // namespace lopside

@@ -219,6 +219,9 @@ struct CycleEngine::Impl {
   // expected for the flank look-back (from the acquisition, then from each closed cycle).
   double min_step = std::numeric_limits<double>::infinity();
   double spc_estimate = std::numeric_limits<double>::infinity();
+  // flank_spacing(spc_estimate), or of 680 samples per cycle while no cycle is known; flank()
+  // needs it at nearly every sample of a rising or falling half.
+  std::uint64_t flank_h = flank_spacing(680.0);
   bool finished = false;
   std::optional<HarmonicAnalyzer> harmonic;
   bool last_cycle_excluded = false;
@@ -439,6 +442,7 @@ struct CycleEngine::Impl {
       fit_half_width = std::clamp<std::size_t>(
           static_cast<std::size_t>(std::lround(kFitShare * spc)), 1, kMaxFitHalfWidth);
       spc_estimate = spc;
+      flank_h = flank_spacing(spc_estimate);
       if (k.regular()) period_nominal = k.period;
     } else {
       fit_half_width = kMaxFitHalfWidth;
@@ -610,9 +614,13 @@ struct CycleEngine::Impl {
     const double base = std::floor(x);
     const std::array<double, kEdgeTaps> k = interpolation_weights(x - base);
     const auto n0 = static_cast<std::uint64_t>(base);
-    double y = 0;
-    for (std::size_t j = 0; j < kEdgeTaps; ++j) y += k[j] * field(at(n0 + j + 1 - kEdgeHalfTaps));
-    return y;
+    // Two partial sums halve the chain of dependent additions.
+    double y0 = 0, y1 = 0;
+    for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
+      y0 += k[j] * field(at(n0 + j + 1 - kEdgeHalfTaps));
+      y1 += k[j + 1] * field(at(n0 + j + 2 - kEdgeHalfTaps));
+    }
+    return y0 + y1;
   }
 
   // Where `f` − level crosses zero near x, on the band-limited reconstruction: secant steps from
@@ -728,7 +736,7 @@ struct CycleEngine::Impl {
   // ahead of the integrator) and the entering one still in it.
   CrestFlank flank(std::uint64_t m, double sign, bool entering) const {
     CrestFlank f;
-    const std::uint64_t h = flank_spacing(std::isfinite(spc_estimate) ? spc_estimate : 680.0);
+    const std::uint64_t h = flank_h;
     static_assert(2 * kMaxFlankSpacing <= kLag && kRing >= kLag + 2 * kMaxFlankSpacing + 2);
     if (entering) {
       if (m < 1 + 2 * h) return f;
@@ -820,6 +828,7 @@ struct CycleEngine::Impl {
     r.clipped_positive = clipped(c.best_run_max, c.flank_best_max, c.max_i);
     r.clipped_negative = clipped(c.best_run_min, c.flank_best_min, -c.min_i);
     spc_estimate = end - cycle_start;
+    flank_h = flank_spacing(spc_estimate);
     r.has_voltage = cfg.voltage_channel.has_value();
     if (cfg.voltage_channel) {
       r.voltage_mean_v = g.v / span;
@@ -1360,7 +1369,9 @@ CycleEngine::CycleEngine(const CycleConfig& config, Sink sink) : impl_(std::make
     h.sample_rate_hz = config.sample_rate_hz;
     impl_->harmonic.emplace(h);
   }
-  impl_->held.reserve(std::min<std::size_t>(kAcquireFrames, 1 << 16));
+  // Reserved whole: pages are only resident once written, and growing by doubling would hold
+  // the old and the new storage at once (1.5× the look-ahead at its peak).
+  impl_->held.reserve(kAcquireFrames);
 }
 
 void CycleEngine::consume(const SampleBlock& block) {

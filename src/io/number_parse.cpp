@@ -1,5 +1,7 @@
 #include "lopside/number_parse.hpp"
 
+#include <fast_float/fast_float.h>
+
 #include <array>
 #include <charconv>
 #include <cmath>
@@ -27,66 +29,38 @@ bool iequals(std::string_view a, std::string_view b) {
   return true;
 }
 
-// The grammar accepted: [+-] digits [mark digits] [(e|E) [+-] digits], at least one digit in
-// the mantissa. Checked here rather than left to from_chars, which would also take "inf",
-// "nan" and hexadecimal forms that no scope prints as a sample.
-bool well_formed(std::string_view s, char mark) {
-  std::size_t i = 0;
-  if (i < s.size() && (s[i] == '+' || s[i] == '-')) ++i;
-  std::size_t digits = 0;
-  while (i < s.size() && s[i] >= '0' && s[i] <= '9') ++i, ++digits;
-  if (i < s.size() && s[i] == mark) {
-    ++i;
-    while (i < s.size() && s[i] >= '0' && s[i] <= '9') ++i, ++digits;
-  }
-  if (digits == 0) return false;
-  if (i < s.size() && (s[i] == 'e' || s[i] == 'E')) {
-    ++i;
-    if (i < s.size() && (s[i] == '+' || s[i] == '-')) ++i;
-    std::size_t exp_digits = 0;
-    while (i < s.size() && s[i] >= '0' && s[i] <= '9') ++i, ++exp_digits;
-    if (exp_digits == 0) return false;
-  }
-  return i == s.size();
-}
-
 }  // namespace
 
+// The grammar accepted: [+-] digits [mark digits] [(e|E) [+-] digits], at least one digit in
+// the mantissa. fast_float (Lemire, "Number Parsing at a Gigabyte per Second", Software:
+// Practice and Experience 51(8), 2021) checks all of it but the sign and rounds correctly, as
+// strtod does in the "C" locale; what it takes beyond the grammar ("inf", "nan") starts with
+// a letter and is refused here before it is called. It is called directly on the cell, with
+// the caller's decimal mark, so no copy is made: the wrapper used to cost as much as the
+// conversion.
 std::optional<double> parse_number(std::string_view cell, char decimal_mark) {
-  cell = trim(cell);
-  if (!well_formed(cell, decimal_mark)) return std::nullopt;
-  // std::from_chars (C++17, libstdc++ 11+) rounds correctly and ignores the locale; it takes
-  // neither a leading '+' nor a decimal comma, so those are normalised in a small buffer.
-  if (cell.front() == '+') cell.remove_prefix(1);
-  double value = 0.0;
-  std::array<char, 128> buf{};
-  std::string long_cell;  // only for cells longer than the buffer (%f of a huge value)
   const char* first = cell.data();
-  const char* last = cell.data() + cell.size();
-  if (decimal_mark != '.') {
-    char* out = buf.data();
-    if (cell.size() > buf.size()) {
-      long_cell.assign(cell);
-      out = long_cell.data();
-    } else {
-      std::memcpy(out, cell.data(), cell.size());
-    }
-    for (std::size_t i = 0; i < cell.size(); ++i)
-      if (out[i] == decimal_mark) out[i] = '.';
-    first = out;
-    last = out + cell.size();
+  const char* last = first + cell.size();
+  while (first < last && (*first == ' ' || *first == '\t')) ++first;
+  while (last > first && (last[-1] == ' ' || last[-1] == '\t')) --last;
+  if (first == last) return std::nullopt;
+  const char* digits = first;
+  if (*first == '+') {
+    ++first;  // fast_float takes '-' but not '+'
+    digits = first;
+  } else if (*first == '-') {
+    ++digits;
   }
-  const auto [ptr, ec] = std::from_chars(first, last, value);
-  if (ptr != last) return std::nullopt;
-  if (ec == std::errc::result_out_of_range) {
-    // libstdc++ reports gradual underflow as out of range; strtod (ISO C 7.22.1.3) returns the
-    // denormal or zero, which is a sample value. Overflow to infinity is not.
-    const std::string z(first, last);
-    const double v = std::strtod(z.c_str(), nullptr);
-    if (std::isinf(v)) return std::nullopt;
-    return v;
-  }
-  if (ec != std::errc()) return std::nullopt;
+  if (digits == last || !((*digits >= '0' && *digits <= '9') || *digits == decimal_mark))
+    return std::nullopt;
+  double value = 0.0;
+  const auto r = fast_float::from_chars_advanced(
+      first, last, value,
+      fast_float::parse_options(fast_float::chars_format::general, decimal_mark));
+  if (r.ec != std::errc() || r.ptr != last) return std::nullopt;
+  // Beyond the double range: fast_float gives ±inf where strtod gives HUGE_VAL with ERANGE; no
+  // recorder prints a sample there. Gradual underflow yields the denormal or zero, as strtod.
+  if (std::isinf(value)) return std::nullopt;
   return value;
 }
 
@@ -114,7 +88,16 @@ double printed_resolution(std::string_view cell, char decimal_mark) {
     if (!e.empty() && e.front() == '+') e.remove_prefix(1);
     std::from_chars(e.data(), e.data() + e.size(), exponent);
   }
-  return std::pow(10.0, exponent - decimals);
+  // Called once per row of a text capture: the powers a scope prints come from a table built
+  // with the same std::pow, so the values are those of the call they replace.
+  static const std::array<double, 129> powers = [] {
+    std::array<double, 129> p{};
+    for (int e = -64; e <= 64; ++e) p[static_cast<std::size_t>(e + 64)] = std::pow(10.0, e);
+    return p;
+  }();
+  const int e = exponent - decimals;
+  if (e >= -64 && e <= 64) return powers[static_cast<std::size_t>(e + 64)];
+  return std::pow(10.0, e);
 }
 
 }  // namespace lopside

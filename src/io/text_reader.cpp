@@ -27,6 +27,7 @@
 #include <cstdio>
 #include <cstring>
 #include <deque>
+#include <future>
 #include <istream>
 #include <sstream>
 #include <string>
@@ -125,6 +126,50 @@ class LineReader {
     }
   }
 
+  /// The next run of whole lines (each ending in LF), about `want` bytes (at most 2·kChunkBytes)
+  /// and at least one line, for readers that parse many rows at once; `first_line` is the
+  /// number of its first line. False when next() must go on line by line instead: no whole
+  /// line is buffered, lines end in CR alone, or the first line holds a control byte (next()
+  /// places it). A run stops before a line with a control byte, so that line comes next.
+  /// The view is valid until the next call of either method.
+  bool next_lines(std::size_t want, std::string_view& run, std::uint64_t& first_line) {
+    if (cr_mode_) return false;
+    while (!eof_ && buffer_.size() - pos_ < want) refill();
+    const char* begin = buffer_.data() + pos_;
+    std::size_t len = buffer_.size() - pos_;
+    // The lines before the first control byte other than tab, CR and LF.
+    std::size_t clean = len;
+    for (std::size_t i = 0; i < len; i += kCheckStride) {
+      const std::size_t n = std::min(kCheckStride, len - i);
+      unsigned bad = 0;
+      for (std::size_t j = 0; j < n; ++j) {
+        const auto c = static_cast<unsigned char>(begin[i + j]);
+        bad |= static_cast<unsigned>(c < 0x20) & static_cast<unsigned>(c != '\t') &
+               static_cast<unsigned>(c != '\r') & static_cast<unsigned>(c != '\n');
+      }
+      if (bad == 0) continue;
+      for (std::size_t j = i; j < i + n; ++j) {
+        const auto c = static_cast<unsigned char>(begin[j]);
+        if (c < 0x20 && c != '\t' && c != '\r' && c != '\n') {
+          clean = j;
+          break;
+        }
+      }
+      break;
+    }
+    len = std::min(len, clean);
+    // Whole lines only: up to the last LF.
+    while (len > 0 && begin[len - 1] != '\n') --len;
+    if (len == 0) return false;
+    run = std::string_view(begin, len);
+    first_line = line_no_ + 1;
+    line_no_ += static_cast<std::uint64_t>(std::count(run.begin(), run.end(), '\n'));
+    pos_ += len;
+    line_start_ = consumed_ + pos_;
+    unterminated_ = false;
+    return true;
+  }
+
   std::uint64_t line_number() const { return line_no_; }
   std::uint64_t line_start_byte() const { return line_start_; }
   /// True when the line last returned is the file's last and had no line end.
@@ -161,6 +206,15 @@ class LineReader {
 
   // Control bytes other than tab and CR never occur in text exports; a NUL means binary data.
   void check_text(std::string_view line) const {
+    // Every line passes here: the common case is decided by a branch-free pass the compiler
+    // can vectorise; only a line that holds a control byte is walked again to place it.
+    unsigned bad = 0;
+    for (const char ch : line) {
+      const auto c = static_cast<unsigned char>(ch);
+      bad |= static_cast<unsigned>(c < 0x20) & static_cast<unsigned>(c != '\t') &
+             static_cast<unsigned>(c != '\r');
+    }
+    if (bad == 0) return;
     for (std::size_t i = 0; i < line.size(); ++i) {
       const auto c = static_cast<unsigned char>(line[i]);
       if (c < 0x20 && c != '\t' && c != '\r') {
@@ -178,6 +232,7 @@ class LineReader {
   std::string path_;
   std::string buffer_;
   std::size_t pos_ = 0;
+  static constexpr std::size_t kCheckStride = 4096;
   std::uint64_t consumed_ = 0;
   std::uint64_t line_no_ = 0;
   std::uint64_t line_start_ = 0;
@@ -226,18 +281,26 @@ void split_cells(std::string_view line, char delimiter, std::vector<std::string_
     }
     return;
   }
-  if (line.find('"') == std::string_view::npos) {
+  // One pass over the bytes for the common unquoted row: a row's cells are short, and a
+  // library search per cell (plus one for a quote) cost more than the walk itself.
+  bool quoted = false;
+  {
     std::size_t start = 0;
-    for (;;) {
-      const auto at = line.find(delimiter, start);
-      if (at == std::string_view::npos) {
-        cells.push_back(line.substr(start));
+    const char* p = line.data();
+    const std::size_t n = line.size();
+    for (std::size_t i = 0; i < n; ++i) {
+      if (p[i] == delimiter) {
+        cells.push_back(line.substr(start, i - start));
+        start = i + 1;
+      } else if (p[i] == '"') {
+        quoted = true;
         break;
       }
-      cells.push_back(line.substr(start, at - start));
-      start = at + 1;
     }
-  } else {
+    if (!quoted) cells.push_back(line.substr(start));
+  }
+  if (quoted) {
+    cells.clear();
     // Quoted cells are unescaped into `scratch`, whose storage is reserved up front so the
     // views stay valid.
     scratch.clear();
@@ -533,7 +596,9 @@ class TimeFit {
   }
   long double intercept() const { return (sy_ - slope() * sx_) / static_cast<long double>(n_); }
   long double predict(double k) const {
-    return intercept() + slope() * static_cast<long double>(k);
+    // Once per row: the slope (a division) is formed once, not once more for the intercept.
+    const long double b = slope();
+    return (sy_ - b * sx_) / static_cast<long double>(n_) + b * static_cast<long double>(k);
   }
 
  private:
@@ -589,12 +654,14 @@ class TextReader final : public SampleSource {
         f += take;
         if (pending_at_ >= pending_.size()) {
           pending_.clear();
-          pending_.shrink_to_fit();
+          // The look-ahead's rows may be many; a batch's storage is reused.
+          if (pending_.capacity() > 4 * kBatchBytes) pending_.shrink_to_fit();
           pending_at_ = 0;
         }
         continue;
       }
       if (finished_) break;
+      if (parse_batch()) continue;
       if (!parse_next_row(block.data.data() + f * nch)) break;
       ++f;
     }
@@ -1677,31 +1744,171 @@ class TextReader final : public SampleSource {
         return bad_cell(line_no, channel_column_[c], cell);
       out[c] = *v * gains_[c];
     }
+    double index = 0, time = 0, resolution = 0;
     if (index_column_ >= 0) {
       const std::string_view cell = cells_[static_cast<std::size_t>(index_column_)];
       const auto v = parse_cell(cell, dialect_.decimal);
       if (!v) return bad_cell(line_no, static_cast<std::size_t>(index_column_), cell);
-      const double expected = index_origin_ + static_cast<double>(row_index_);
-      if (*v != expected) {
-        throw InputError(
-            path_, InputLocation::at_line(line_no),
-            "the sample index is " + format_g(*v, 15) + " where " + format_g(expected, 15) +
-                " was expected; expected an index rising by one per row (" +
-                (*v > expected ? "samples are missing" : "it repeats or steps back") + ")");
-      }
+      index = *v;
     }
     if (time_column_ >= 0) {
       const auto tc = static_cast<std::size_t>(time_column_);
       auto v = parse_cell(cells_[tc], dialect_.decimal);
       if (!v && decimal_open_) v = reparse_with_other_mark(cells_[tc]);
       if (!v) return bad_cell(line_no, tc, cells_[tc]);
-      track_time(*v * column_factor_[tc],
-                 printed_resolution(cells_[tc], dialect_.decimal) * column_factor_[tc], line_no);
+      time = *v;
+      resolution = printed_resolution(cells_[tc], dialect_.decimal);
+    }
+    finish_row(line_no, index, time, resolution);
+    last_row_line_.assign(line);
+    return true;
+  }
+
+  // What every accepted row goes through, in file order: the index must rise by one, the time
+  // must follow its line (index and time as printed, in the column's unit).
+  void finish_row(std::uint64_t line_no, double index, double time, double resolution) {
+    if (index_column_ >= 0) {
+      const double expected = index_origin_ + static_cast<double>(row_index_);
+      if (index != expected) {
+        throw InputError(
+            path_, InputLocation::at_line(line_no),
+            "the sample index is " + format_g(index, 15) + " where " + format_g(expected, 15) +
+                " was expected; expected an index rising by one per row (" +
+                (index > expected ? "samples are missing" : "it repeats or steps back") + ")");
+      }
+    }
+    if (time_column_ >= 0) {
+      const auto tc = static_cast<std::size_t>(time_column_);
+      track_time(time * column_factor_[tc], resolution * column_factor_[tc], line_no);
     }
     end_of_footer(line_no);
-    last_row_line_.assign(line);
     ++rows_;
     ++row_index_;
+  }
+
+  // --- rows in batches -------------------------------------------------------------------
+  // The rows of a run of lines, parsed without touching the reader's state so that two halves
+  // of a run can be parsed at once. A line the plain path must judge (quoted or odd cells, a
+  // form other than a plain number, a blank or comment line) is marked and left to it.
+  struct RowBatch {
+    enum Kind : std::uint8_t { row, skip, other };
+    std::vector<Kind> kind;                       // one per line
+    std::vector<std::string_view> text;           // one per line
+    std::vector<double> values;                   // channels per row, as printed (before gains)
+    std::vector<double> index, time, resolution;  // one per line
+    void clear() {
+      kind.clear();
+      text.clear();
+      values.clear();
+      index.clear();
+      time.clear();
+      resolution.clear();
+    }
+  };
+
+  void parse_lines(std::string_view run, RowBatch& out) const {
+    out.clear();
+    std::vector<std::string_view> cells;
+    std::string scratch;
+    const std::size_t nch = channel_column_.size();
+    const char mark = dialect_.decimal;
+    while (!run.empty()) {
+      const std::size_t nl = run.find('\n');
+      std::string_view line = run.substr(0, nl);
+      run.remove_prefix(nl + 1);  // every line of a run ends in LF
+      while (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+      out.text.push_back(line);
+      const std::size_t at = out.values.size();
+      out.values.resize(at + nch);
+      out.index.push_back(0);
+      out.time.push_back(0);
+      out.resolution.push_back(0);
+      out.kind.push_back(RowBatch::other);
+      if (is_blank(line) || is_comment(line)) {
+        out.kind.back() = RowBatch::skip;
+        continue;
+      }
+      split_cells(line, dialect_.delimiter, cells, scratch);
+      if (cells.size() != columns_) continue;
+      bool plain = true;
+      for (std::size_t c = 0; plain && c < nch; ++c) {
+        const auto v = parse_number(cells[channel_column_[c]], mark);
+        plain = v && std::fabs(*v) < kOverflowMarker;
+        if (plain) out.values[at + c] = *v;
+      }
+      if (plain && index_column_ >= 0) {
+        const auto v = parse_number(cells[static_cast<std::size_t>(index_column_)], mark);
+        plain = v.has_value();
+        if (plain) out.index.back() = *v;
+      }
+      if (plain && time_column_ >= 0) {
+        const std::string_view cell = cells[static_cast<std::size_t>(time_column_)];
+        const auto v = parse_number(cell, mark);
+        plain = v.has_value();
+        if (plain) {
+          out.time.back() = *v;
+          out.resolution.back() = printed_resolution(cell, mark);
+        }
+      }
+      if (plain) out.kind.back() = RowBatch::row;
+    }
+  }
+
+  // Reads the next run of lines as a batch into pending_: its second half is parsed on a
+  // second thread while this one parses the first, then every row is accepted in file order
+  // exactly as the plain path would (finish_row). False when the plain path must go on: the
+  // decimal mark still open, or no run of whole lines (next_lines()).
+  bool parse_batch() {
+    if (decimal_open_ || footer_active_) return false;
+    std::string_view run;
+    std::uint64_t first_line = 0;
+    if (!lines_.next_lines(kBatchBytes, run, first_line)) return false;
+    // Split at a line end near the middle; a short run is parsed here alone.
+    std::string_view head = run, tail;
+    if (run.size() >= kParallelBytes) {
+      const std::size_t cut = run.find('\n', run.size() / 2);
+      if (cut != std::string_view::npos && cut + 1 < run.size()) {
+        head = run.substr(0, cut + 1);
+        tail = run.substr(cut + 1);
+      }
+    }
+    std::future<void> second;
+    if (!tail.empty())
+      second = std::async(std::launch::async, [&] { parse_lines(tail, batch_[1]); });
+    parse_lines(head, batch_[0]);
+    if (second.valid()) {
+      second.get();
+    } else {
+      batch_[1].clear();
+    }
+    const std::size_t nch = channel_column_.size();
+    pending_.reserve(pending_.size() + (batch_[0].kind.size() + batch_[1].kind.size()) * nch);
+    std::uint64_t line_no = first_line;
+    std::string_view last_row;
+    for (const RowBatch& b : batch_) {
+      for (std::size_t r = 0; r < b.kind.size(); ++r, ++line_no) {
+        if (b.kind[r] == RowBatch::skip) continue;
+        if (b.kind[r] == RowBatch::other) {
+          // The plain path judges it (and may throw, skip it or start a footer).
+          const std::size_t at = pending_.size();
+          pending_.resize(at + nch);
+          if (parse_row(b.text[r], line_no, pending_.data() + at, false)) {
+            last_row = b.text[r];
+          } else {
+            pending_.resize(at);
+          }
+          continue;
+        }
+        finish_row(line_no, b.index[r], b.time[r], b.resolution[r]);
+        const double* v = b.values.data() + r * nch;
+        const std::size_t at = pending_.size();
+        pending_.resize(at + nch);
+        double* out = pending_.data() + at;
+        for (std::size_t c = 0; c < nch; ++c) out[c] = v[c] * gains_[c];
+        last_row = b.text[r];
+      }
+    }
+    if (!last_row.empty()) last_row_line_.assign(last_row);
     return true;
   }
 
@@ -2062,6 +2269,11 @@ class TextReader final : public SampleSource {
   std::string scratch_;
   std::vector<double> pending_;
   std::size_t pending_at_ = 0;
+  // Rows are parsed a run of about kBatchBytes at a time, in two halves on two threads when
+  // the run is at least kParallelBytes (below that a thread costs more than it saves).
+  static constexpr std::size_t kBatchBytes = std::size_t{1} << 20;
+  static constexpr std::size_t kParallelBytes = std::size_t{64} << 10;
+  RowBatch batch_[2];
   std::uint64_t rows_ = 0;       // rows handed out
   std::uint64_t row_index_ = 0;  // rows including skipped ones: the time base index
   std::uint64_t skipped_ = 0;

@@ -1,0 +1,75 @@
+// Read-ahead (read_ahead.hpp): a ring of kSlots blocks between one reading thread and the
+// measuring caller. std::thread and one mutex are all a two-stage pipeline needs; the blocks
+// are large (kBlockFrames), so the lock is taken a few hundred times per second at most.
+#include "lopside/read_ahead.hpp"
+
+namespace lopside {
+
+ReadAhead::ReadAhead(SampleSource& source, std::size_t max_frames)
+    : source_(source), max_frames_(max_frames), thread_([this] { run(); }) {}
+
+ReadAhead::~ReadAhead() {
+  {
+    std::lock_guard<std::mutex> lock(mutex_);
+    stop_ = true;
+  }
+  changed_.notify_all();
+  thread_.join();
+}
+
+void ReadAhead::run() {
+  for (std::size_t n = 0;; ++n) {
+    {
+      // Wait for a free slot: the caller's block and the ready ones stay untouched.
+      std::unique_lock<std::mutex> lock(mutex_);
+      changed_.wait(lock, [&] { return stop_ || n < consumed_count_ + kSlots; });
+      if (stop_) return;
+    }
+    SampleBlock& block = slots_[n % kSlots];
+    std::size_t got = 0;
+    std::exception_ptr error;
+    try {
+      got = source_.read(block, max_frames_);
+      slot_progress_[n % kSlots] = source_.progress();
+    } catch (...) {
+      error = std::current_exception();
+    }
+    {
+      std::lock_guard<std::mutex> lock(mutex_);
+      if (error) {
+        error_ = error;
+        ended_ = true;
+      } else if (got == 0) {
+        ended_ = true;
+      } else {
+        ++read_count_;
+      }
+    }
+    changed_.notify_all();
+    if (error || got == 0) return;
+  }
+}
+
+bool ReadAhead::next(const SampleBlock*& block) {
+  std::unique_lock<std::mutex> lock(mutex_);
+  if (holding_) {
+    ++consumed_count_;
+    holding_ = false;
+    changed_.notify_all();
+  }
+  changed_.wait(lock, [&] { return consumed_count_ < read_count_ || ended_; });
+  if (consumed_count_ < read_count_) {
+    holding_ = true;
+    block = &slots_[consumed_count_ % kSlots];
+    progress_ = slot_progress_[consumed_count_ % kSlots];
+    return true;
+  }
+  if (error_) {
+    std::exception_ptr e = error_;
+    error_ = nullptr;
+    std::rethrow_exception(e);
+  }
+  return false;
+}
+
+}  // namespace lopside
