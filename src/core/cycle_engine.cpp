@@ -19,6 +19,7 @@
 
 #include "lopside/clipping.hpp"
 #include "lopside/edge_weights.hpp"
+#include "lopside/harmonic_feed.hpp"
 
 namespace lopside {
 namespace {
@@ -48,7 +49,6 @@ constexpr double kSwingSmoothing = 1.0 / 16;
 
 struct Frame {
   double ref = 0, i = 0, v = 0;
-  bool bad = false;  // not finite in the file; held at the last finite value
 };
 
 // Integrands whose integral over a cycle the engine needs, in samples (× dt gives seconds):
@@ -175,6 +175,9 @@ struct CycleEngine::Impl {
   // Acquisition.
   bool acquiring = true;
   std::vector<Frame> held;
+  // Which held frames were not finite in the file (held at the last finite value), apart from
+  // the frames: a flag in each would pad a frame from 24 to 32 bytes, 8 MB of the look-ahead.
+  std::vector<bool> held_bad;
 
   // Levels of the reference: running mean and half swing.
   double level_mean = 0, half_swing = 0;
@@ -223,7 +226,8 @@ struct CycleEngine::Impl {
   // needs it at nearly every sample of a rising or falling half.
   std::uint64_t flank_h = flank_spacing(680.0);
   bool finished = false;
-  std::optional<HarmonicAnalyzer> harmonic;
+  // The harmonics run on a thread of their own (harmonic_feed.hpp), fed in the engine's order.
+  std::unique_ptr<HarmonicFeed> harmonic;
   bool last_cycle_excluded = false;
 
   // Outliers and regularity (issue 9, items 5 and 6).
@@ -249,13 +253,14 @@ struct CycleEngine::Impl {
 
   // A NaN or infinite sample is held at the last finite value, so that no sum turns to NaN and
   // no crossing is invented, and is marked: every cycle it reaches is left out.
-  Frame frame_of(const SampleBlock& block, std::size_t f) {
+  Frame frame_of(const SampleBlock& block, std::size_t f, bool& bad) {
     Frame fr;
+    bad = false;
     double i = block.value(f, cfg.current_channel);
     double v = cfg.voltage_channel ? block.value(f, *cfg.voltage_channel) : 0.0;
     const std::uint64_t index = consumed++;
     if (!std::isfinite(i) || !std::isfinite(v)) {
-      fr.bad = true;
+      bad = true;
       ++summary.not_finite_samples;
       if (!bad_runs.empty() && bad_runs.back().second + 1 == index) {
         bad_runs.back().second = index;
@@ -291,13 +296,13 @@ struct CycleEngine::Impl {
     bool regular() const { return intervals >= 3 && regular_share >= 0.8; }
   };
 
-  static Look look(const std::vector<Frame>& frames, bool voltage) {
+  static Look look(const std::vector<Frame>& frames, const std::vector<bool>& bad, bool voltage) {
     Look k;
     const auto val = [voltage](const Frame& f) { return voltage ? f.v : f.i; };
     std::vector<double> v;
     v.reserve(frames.size());
-    for (const Frame& f : frames) {
-      if (!f.bad) v.push_back(val(f));
+    for (std::size_t j = 0; j < frames.size(); ++j) {
+      if (!bad[j]) v.push_back(val(frames[j]));
     }
     if (v.size() < 2) return k;
     // Robust extremes, the 0.1 % and 99.9 % quantiles: one glitch cannot set the band.
@@ -308,14 +313,15 @@ struct CycleEngine::Impl {
     };
     const double lo = quantile(0.001), hi = quantile(0.999);
     const double mid = 0.5 * (lo + hi), half = 0.5 * (hi - lo);
-    const auto plausible = [&](const Frame& f) {
-      return !f.bad && std::fabs(val(f) - mid) <= CycleEngine::kGlitchFactor * half;
+    // Frames are passed by their index: the flags live apart from them (held_bad).
+    const auto plausible = [&](std::size_t j) {
+      return !bad[j] && std::fabs(val(frames[j]) - mid) <= CycleEngine::kGlitchFactor * half;
     };
     double sum = 0;
     std::size_t n = 0;
-    for (const Frame& f : frames) {
-      if (plausible(f)) {
-        sum += val(f);
+    for (std::size_t j = 0; j < frames.size(); ++j) {
+      if (plausible(j)) {
+        sum += val(frames[j]);
         ++n;
       }
     }
@@ -326,7 +332,7 @@ struct CycleEngine::Impl {
     bool arm = val(frames.front()) < k.mean + band;
     std::vector<std::uint64_t> trig;
     for (std::size_t j = 1; j < frames.size(); ++j) {
-      if (!plausible(frames[j])) continue;
+      if (!plausible(j)) continue;
       const double r = val(frames[j]);
       if (r < k.mean - band) arm = true;
       if (arm && r > k.mean + band) {
@@ -349,7 +355,7 @@ struct CycleEngine::Impl {
     for (std::size_t c = 0; c + 1 < trig.size(); ++c) {
       double c_lo = std::numeric_limits<double>::infinity(), c_hi = -c_lo;
       for (std::uint64_t j = trig[c]; j < trig[c + 1]; ++j) {
-        if (!plausible(frames[j])) continue;
+        if (!plausible(j)) continue;
         const double x = val(frames[j]);
         whole_sum += x;
         ++whole_n;
@@ -398,8 +404,9 @@ struct CycleEngine::Impl {
       block.data.resize(2 * n);
       for (std::size_t j = 0; j < n; ++j) {
         const Frame& f = frames[first + j];
-        block.data[2 * j] = f.bad ? nan : f.i;
-        block.data[2 * j + 1] = f.bad ? nan : f.v;
+        const bool bad = held_bad[first + j];
+        block.data[2 * j] = bad ? nan : f.i;
+        block.data[2 * j + 1] = bad ? nan : f.v;
       }
       trial.consume(block);
     }
@@ -428,11 +435,11 @@ struct CycleEngine::Impl {
           "switches (--reference voltage insists on the voltage)";
     }
     for (Frame& f : frames) f.ref = ref_is_voltage ? f.v : f.i;
-    const Look k = look(frames, ref_is_voltage);
+    const Look k = look(frames, held_bad, ref_is_voltage);
     level_mean = k.mean;
     half_swing = k.half_swing;
     level_known = true;
-    typical_i = ref_is_voltage ? look(frames, false).half_swing : k.half_swing;
+    typical_i = ref_is_voltage ? look(frames, held_bad, false).half_swing : k.half_swing;
     // The fit's half-width is fixed for the whole capture from the period seen here: a width
     // that changed between boundaries would change the fit's (small, curvature) bias between
     // them and so the periods. Without two crossings here the period exceeds the look-ahead,
@@ -1367,11 +1374,12 @@ CycleEngine::CycleEngine(const CycleConfig& config, Sink sink) : impl_(std::make
   if (config.harmonics) {
     HarmonicConfig h = *config.harmonics;
     h.sample_rate_hz = config.sample_rate_hz;
-    impl_->harmonic.emplace(h);
+    impl_->harmonic = std::make_unique<HarmonicFeed>(h);
   }
   // Reserved whole: pages are only resident once written, and growing by doubling would hold
   // the old and the new storage at once (1.5× the look-ahead at its peak).
   impl_->held.reserve(kAcquireFrames);
+  impl_->held_bad.reserve(kAcquireFrames);
 }
 
 void CycleEngine::consume(const SampleBlock& block) {
@@ -1382,14 +1390,17 @@ void CycleEngine::consume(const SampleBlock& block) {
     throw std::invalid_argument("CycleEngine: block has too few channels");
   }
   for (std::size_t f = 0; f < block.frames; ++f) {
-    const Frame fr = m.frame_of(block, f);
+    bool bad = false;
+    const Frame fr = m.frame_of(block, f, bad);
     if (m.acquiring) {
       m.held.push_back(fr);
+      m.held_bad.push_back(bad);
       if (m.held.size() >= kAcquireFrames) {
         m.acquiring = false;
         m.learn_levels(m.held);
         for (const Frame& h : m.held) m.push(h);
         std::vector<Frame>().swap(m.held);
+        std::vector<bool>().swap(m.held_bad);
       }
     } else {
       m.push(fr);
@@ -1405,6 +1416,7 @@ const CycleSummary& CycleEngine::finish() {
     m.learn_levels(m.held);
     for (const Frame& h : m.held) m.push(h);
     std::vector<Frame>().swap(m.held);
+    std::vector<bool>().swap(m.held_bad);
   }
   m.pending.clear();  // a crossing too close to the end for its fit is not used
   if (m.next_index > 0) m.integrate_up_to(m.next_index - 1);

@@ -1882,7 +1882,9 @@ class TextReader final : public SampleSource {
       batch_[1].clear();
     }
     const std::size_t nch = channel_column_.size();
-    pending_.reserve(pending_.size() + (batch_[0].kind.size() + batch_[1].kind.size()) * nch);
+    // Room for every row of the run at once; trimmed to the rows accepted at the end.
+    std::size_t used = pending_.size();
+    pending_.resize(used + (batch_[0].kind.size() + batch_[1].kind.size()) * nch);
     std::uint64_t line_no = first_line;
     std::string_view last_row;
     for (const RowBatch& b : batch_) {
@@ -1890,24 +1892,21 @@ class TextReader final : public SampleSource {
         if (b.kind[r] == RowBatch::skip) continue;
         if (b.kind[r] == RowBatch::other) {
           // The plain path judges it (and may throw, skip it or start a footer).
-          const std::size_t at = pending_.size();
-          pending_.resize(at + nch);
-          if (parse_row(b.text[r], line_no, pending_.data() + at, false)) {
+          if (parse_row(b.text[r], line_no, pending_.data() + used, false)) {
             last_row = b.text[r];
-          } else {
-            pending_.resize(at);
+            used += nch;
           }
           continue;
         }
         finish_row(line_no, b.index[r], b.time[r], b.resolution[r]);
         const double* v = b.values.data() + r * nch;
-        const std::size_t at = pending_.size();
-        pending_.resize(at + nch);
-        double* out = pending_.data() + at;
+        double* out = pending_.data() + used;
         for (std::size_t c = 0; c < nch; ++c) out[c] = v[c] * gains_[c];
+        used += nch;
         last_row = b.text[r];
       }
     }
+    pending_.resize(used);
     if (!last_row.empty()) last_row_line_.assign(last_row);
     return true;
   }
