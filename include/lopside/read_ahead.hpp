@@ -21,8 +21,9 @@ namespace lopside {
 
 class ReadAhead {
  public:
-  /// Blocks in flight: one being measured, one ready, one being read.
-  static constexpr std::size_t kSlots = 3;
+  /// Blocks in flight: one being measured, one being read, and up to six ready, so the reader
+  /// runs on while the engine works through its look-ahead at once (CycleEngine acquisition).
+  static constexpr std::size_t kSlots = 8;
 
   /// Starts reading at once. `source` must outlive this object.
   ReadAhead(SampleSource& source, std::size_t max_frames);

@@ -48,7 +48,7 @@ constexpr double kLevelSmoothing = 0.25;
 constexpr double kSwingSmoothing = 1.0 / 16;
 
 struct Frame {
-  double ref = 0, i = 0, v = 0;
+  double i = 0, v = 0;  // the reference is one of them (Impl::ref)
 };
 
 // Integrands whose integral over a cycle the engine needs, in samples (× dt gives seconds):
@@ -253,6 +253,10 @@ struct CycleEngine::Impl {
 
   // A NaN or infinite sample is held at the last finite value, so that no sum turns to NaN and
   // no crossing is invented, and is marked: every cycle it reaches is left out.
+  // The reference channel's value: not stored in each frame (8 MB of the look-ahead), and
+  // chosen once before the first frame is pushed (learn_levels).
+  double ref(const Frame& f) const { return ref_is_voltage ? f.v : f.i; }
+
   Frame frame_of(const SampleBlock& block, std::size_t f, bool& bad) {
     Frame fr;
     bad = false;
@@ -274,7 +278,6 @@ struct CycleEngine::Impl {
     last_good_v = v;
     fr.i = i - cfg.current_zero_a;
     fr.v = v;
-    fr.ref = ref_is_voltage ? fr.v : fr.i;
     return fr;
   }
 
@@ -434,7 +437,6 @@ struct CycleEngine::Impl {
           "are: the current sets the cycles, and the voltage is no evidence of how the supply "
           "switches (--reference voltage insists on the voltage)";
     }
-    for (Frame& f : frames) f.ref = ref_is_voltage ? f.v : f.i;
     const Look k = look(frames, held_bad, ref_is_voltage);
     level_mean = k.mean;
     half_swing = k.half_swing;
@@ -465,7 +467,7 @@ struct CycleEngine::Impl {
 
   // --- detector ---------------------------------------------------------------------------
   void detect(std::uint64_t n) {
-    const double r = at(n).ref;
+    const double r = ref(at(n));
     // The band-limited crossing (refine()) needs kEdgeHalfTaps samples past the trigger.
     const std::uint64_t wait = std::max<std::uint64_t>(fit_half_width, kEdgeHalfTaps + 1);
     while (!pending.empty() && n >= pending.front().index + wait) {
@@ -501,7 +503,7 @@ struct CycleEngine::Impl {
       const auto k = static_cast<std::uint64_t>(
           std::clamp(std::lround(0.01 * spc), 2L, static_cast<long>(kEdgeHalfTaps + 1)));
       for (std::uint64_t j = t; j < t + k && j < next_index; ++j) {
-        if (at(j).ref <= trigger_level - 0.5 * trigger.band) {
+        if (ref(at(j)) <= trigger_level - 0.5 * trigger.band) {
           --crossings;
           armed = true;  // the samples before the spike had armed the detector
           return;
@@ -518,7 +520,7 @@ struct CycleEngine::Impl {
       const double n = static_cast<double>(2 * w);
       for (std::uint64_t j = t - w; j < t + w; ++j) {
         const double xj = static_cast<double>(j) - static_cast<double>(t);
-        const double yj = at(j).ref;
+        const double yj = ref(at(j));
         sx += xj;
         sy += yj;
         sxx += xj * xj;
@@ -547,7 +549,7 @@ struct CycleEngine::Impl {
       }
     }
     if (!std::isfinite(x)) {
-      const double a = at(t - 1).ref, b = at(t).ref;
+      const double a = ref(at(t - 1)), b = ref(at(t));
       x = static_cast<double>(t - 1) + (trigger_level - a) / (b - a);
     }
     // With few samples per cycle the fit is a straight line through two or four samples that
@@ -564,7 +566,7 @@ struct CycleEngine::Impl {
       const double level = trigger_level;
       x = secant_root(
           [this, level](double at_x) {
-            return reconstruct(at_x, [](const Frame& f) { return f.ref; }) - level;
+            return reconstruct(at_x, [this](const Frame& f) { return ref(f); }) - level;
           },
           x, x - 1.0, x + 1.0);
     }

@@ -91,6 +91,46 @@ std::string format_g(double v, int digits = 6) {
 // LF, CRLF, CR CR LF (all CRs before the LF are dropped) and, in a file with no LF at all, a
 // lone CR. Tracks line numbers and each line's byte offset; refuses binary data with the
 // offset of the first bad byte.
+// Two passes over every byte of a text capture, written with GCC's vector extensions (16
+// lanes, SSE2 on x86-64, NEON on arm64) because the compiler does not vectorise the plain
+// loops at -O2: the position of the first control byte other than tab, CR and LF (len if
+// none), and the count of line feeds.
+using Bytes16 = unsigned char __attribute__((vector_size(16)));
+
+std::size_t first_control_byte(const char* p, std::size_t len) {
+  std::size_t i = 0;
+  for (; i + 16 <= len; i += 16) {
+    Bytes16 c;
+    std::memcpy(&c, p + i, 16);
+    const Bytes16 bad = (c < 0x20) & (c != '\t') & (c != '\r') & (c != '\n');
+    unsigned long long lanes[2];
+    std::memcpy(lanes, &bad, 16);
+    if ((lanes[0] | lanes[1]) != 0) break;
+  }
+  for (; i < len; ++i) {
+    const auto c = static_cast<unsigned char>(p[i]);
+    if (c < 0x20 && c != '\t' && c != '\r' && c != '\n') return i;
+  }
+  return len;
+}
+
+std::uint64_t count_line_feeds(const char* p, std::size_t len) {
+  std::uint64_t total = 0;
+  std::size_t i = 0;
+  while (i + 16 <= len) {
+    // Lanes count up to 255 before they are summed.
+    Bytes16 counts = {};
+    for (int k = 0; k < 255 && i + 16 <= len; ++k, i += 16) {
+      Bytes16 c;
+      std::memcpy(&c, p + i, 16);
+      counts -= static_cast<Bytes16>(c == '\n');  // a true lane is all ones: −1
+    }
+    for (int k = 0; k < 16; ++k) total += counts[k];
+  }
+  for (; i < len; ++i) total += p[i] == '\n' ? 1 : 0;
+  return total;
+}
+
 class LineReader {
  public:
   LineReader(std::istream& in, std::string path) : in_(in), path_(std::move(path)) {
@@ -138,32 +178,14 @@ class LineReader {
     const char* begin = buffer_.data() + pos_;
     std::size_t len = buffer_.size() - pos_;
     // The lines before the first control byte other than tab, CR and LF.
-    std::size_t clean = len;
-    for (std::size_t i = 0; i < len; i += kCheckStride) {
-      const std::size_t n = std::min(kCheckStride, len - i);
-      unsigned bad = 0;
-      for (std::size_t j = 0; j < n; ++j) {
-        const auto c = static_cast<unsigned char>(begin[i + j]);
-        bad |= static_cast<unsigned>(c < 0x20) & static_cast<unsigned>(c != '\t') &
-               static_cast<unsigned>(c != '\r') & static_cast<unsigned>(c != '\n');
-      }
-      if (bad == 0) continue;
-      for (std::size_t j = i; j < i + n; ++j) {
-        const auto c = static_cast<unsigned char>(begin[j]);
-        if (c < 0x20 && c != '\t' && c != '\r' && c != '\n') {
-          clean = j;
-          break;
-        }
-      }
-      break;
-    }
+    const std::size_t clean = first_control_byte(begin, len);
     len = std::min(len, clean);
     // Whole lines only: up to the last LF.
     while (len > 0 && begin[len - 1] != '\n') --len;
     if (len == 0) return false;
     run = std::string_view(begin, len);
     first_line = line_no_ + 1;
-    line_no_ += static_cast<std::uint64_t>(std::count(run.begin(), run.end(), '\n'));
+    line_no_ += count_line_feeds(run.data(), run.size());
     pos_ += len;
     line_start_ = consumed_ + pos_;
     unterminated_ = false;
@@ -232,7 +254,6 @@ class LineReader {
   std::string path_;
   std::string buffer_;
   std::size_t pos_ = 0;
-  static constexpr std::size_t kCheckStride = 4096;
   std::uint64_t consumed_ = 0;
   std::uint64_t line_no_ = 0;
   std::uint64_t line_start_ = 0;
