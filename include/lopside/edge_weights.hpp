@@ -44,4 +44,13 @@ double kaiser_sinc(double u, int half_taps);
 /// within 4e-7 of the exact normalised kernel.
 std::array<double, kEdgeTaps> interpolation_weights(double p);
 
+/// The same weights as two tabulated rows, row[j] + share·step[j], for callers that fold the
+/// interpolation into their own sums (Σ row·y + share·Σ step·y) instead of forming the weights.
+struct InterpolationRows {
+  const double* row;
+  const double* step;
+  double share;
+};
+InterpolationRows interpolation_rows(double p);
+
 }  // namespace lopside

@@ -621,15 +621,20 @@ struct CycleEngine::Impl {
   template <typename Field>
   double reconstruct(double x, Field field) const {
     const double base = std::floor(x);
-    const std::array<double, kEdgeTaps> k = interpolation_weights(x - base);
+    const InterpolationRows k = interpolation_rows(x - base);
     const auto n0 = static_cast<std::uint64_t>(base);
-    // Two partial sums halve the chain of dependent additions.
-    double y0 = 0, y1 = 0;
+    // Σ (row + share·step)·y as two sums, each in two partial sums (shorter chains of
+    // dependent additions), without forming the 32 weights.
+    double r0 = 0, r1 = 0, s0 = 0, s1 = 0;
     for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
-      y0 += k[j] * field(at(n0 + j + 1 - kEdgeHalfTaps));
-      y1 += k[j + 1] * field(at(n0 + j + 2 - kEdgeHalfTaps));
+      const double ya = field(at(n0 + j + 1 - kEdgeHalfTaps));
+      const double yb = field(at(n0 + j + 2 - kEdgeHalfTaps));
+      r0 += k.row[j] * ya;
+      s0 += k.step[j] * ya;
+      r1 += k.row[j + 1] * yb;
+      s1 += k.step[j + 1] * yb;
     }
-    return y0 + y1;
+    return (r0 + r1) + k.share * (s0 + s1);
   }
 
   // Where `f` − level crosses zero near x, on the band-limited reconstruction: secant steps from

@@ -92,17 +92,19 @@ double kaiser_sinc(double u, int half_taps) {
   return sinc * bessel_i0(kBeta * std::sqrt(1 - r * r)) / i0_beta;
 }
 
-std::array<double, kEdgeTaps> interpolation_weights(double p) {
-  // φ tabulated at kPhases + 1 phases, each row normalised to unit sum, and interpolated
-  // linearly: |φ''| ≤ π²/3, so the weights are off by at most (1/kPhases)²/8 · π²/3 ≈ 4e-7 of a
-  // sample's weight, and each row still sums to 1. Evaluating the Bessel series at every call
-  // cost more than the rest of the measurement (32 series per reconstructed value, ~10 values
-  // per cycle at few samples per cycle).
-  static const std::vector<std::array<double, kEdgeTaps>> rows = [] {
-    std::vector<std::array<double, kEdgeTaps>> r(kPhases + 1);
+namespace {
+
+// φ tabulated at kPhases + 1 phases, each row normalised to unit sum, with each row's step to
+// the next (the linear interpolation's slope): |φ''| ≤ π²/3, so the interpolated weights are
+// off by at most (1/kPhases)²/8 · π²/3 ≈ 4e-7 of a sample's weight, and each row still sums
+// to 1. Evaluating the Bessel series at every call cost more than the rest of the measurement
+// (32 series per reconstructed value, ~10 values per cycle at few samples per cycle).
+struct InterpolationTable {
+  std::vector<std::array<double, kEdgeTaps>> rows, steps;
+  InterpolationTable() : rows(kPhases + 1), steps(kPhases) {
     for (int q = 0; q <= kPhases; ++q) {
       const double ph = static_cast<double>(q) / kPhases;
-      auto& w = r[static_cast<std::size_t>(q)];
+      auto& w = rows[static_cast<std::size_t>(q)];
       double sum = 0;
       for (int j = -kEdgeHalfTaps + 1; j <= kEdgeHalfTaps; ++j) {
         const auto idx = static_cast<std::size_t>(j + kEdgeHalfTaps - 1);
@@ -111,15 +113,29 @@ std::array<double, kEdgeTaps> interpolation_weights(double p) {
       }
       for (double& v : w) v /= sum;
     }
-    return r;
-  }();
+    for (std::size_t q = 0; q < static_cast<std::size_t>(kPhases); ++q)
+      for (std::size_t j = 0; j < kEdgeTaps; ++j) steps[q][j] = rows[q + 1][j] - rows[q][j];
+  }
+};
+
+const InterpolationTable& interpolation_table() {
+  static const InterpolationTable t;
+  return t;
+}
+
+}  // namespace
+
+InterpolationRows interpolation_rows(double p) {
+  const InterpolationTable& t = interpolation_table();
   const double x = std::clamp(p, 0.0, 1.0) * kPhases;
-  const auto q = std::min(static_cast<int>(x), kPhases - 1);
-  const double f = x - q;
-  const auto& a = rows[static_cast<std::size_t>(q)];
-  const auto& b = rows[static_cast<std::size_t>(q) + 1];
+  const auto q = static_cast<std::size_t>(std::min(static_cast<int>(x), kPhases - 1));
+  return {t.rows[q].data(), t.steps[q].data(), x - static_cast<double>(q)};
+}
+
+std::array<double, kEdgeTaps> interpolation_weights(double p) {
+  const InterpolationRows r = interpolation_rows(p);
   std::array<double, kEdgeTaps> w{};
-  for (std::size_t j = 0; j < kEdgeTaps; ++j) w[j] = a[j] + f * (b[j] - a[j]);
+  for (std::size_t j = 0; j < kEdgeTaps; ++j) w[j] = r.row[j] + r.share * r.step[j];
   return w;
 }
 

@@ -2088,6 +2088,9 @@ class TextReader final : public SampleSource {
     // rounding of width q (standard deviation q/√12) predicts the next row with a standard
     // deviation of (q/√12)·2/√n (least-squares prediction variance σ²(1/n + (x − x̄)²/Sxx) at the
     // end of the range); four of those are allowed.
+    // The fit's error only lowers `beyond`: a row within printing plus 2 % of a step needs no
+    // square root (every row of a clean capture).
+    if (std::fabs(residual) - printed <= 0.02 * dt_s_) return;
     const double n = std::max<double>(2.0, static_cast<double>(fit_n));
     const double fit_error = 4.0 * (q / std::sqrt(12.0)) * 2.0 / std::sqrt(n);
     const double beyond = std::fabs(residual) - printed - fit_error;
