@@ -1,7 +1,5 @@
 #include "lopside/number_parse.hpp"
 
-#include <fast_float/fast_float.h>
-
 #include <array>
 #include <charconv>
 #include <cmath>
@@ -10,6 +8,7 @@
 #include <string>
 
 #include "lopside/units.hpp"
+#include "number_parse_inline.hpp"
 
 namespace lopside {
 namespace {
@@ -31,37 +30,8 @@ bool iequals(std::string_view a, std::string_view b) {
 
 }  // namespace
 
-// The grammar accepted: [+-] digits [mark digits] [(e|E) [+-] digits], at least one digit in
-// the mantissa. fast_float (Lemire, "Number Parsing at a Gigabyte per Second", Software:
-// Practice and Experience 51(8), 2021) checks all of it but the sign and rounds correctly, as
-// strtod does in the "C" locale; what it takes beyond the grammar ("inf", "nan") starts with
-// a letter and is refused here before it is called. It is called directly on the cell, with
-// the caller's decimal mark, so no copy is made: the wrapper used to cost as much as the
-// conversion.
 std::optional<double> parse_number(std::string_view cell, char decimal_mark) {
-  const char* first = cell.data();
-  const char* last = first + cell.size();
-  while (first < last && (*first == ' ' || *first == '\t')) ++first;
-  while (last > first && (last[-1] == ' ' || last[-1] == '\t')) --last;
-  if (first == last) return std::nullopt;
-  const char* digits = first;
-  if (*first == '+') {
-    ++first;  // fast_float takes '-' but not '+'
-    digits = first;
-  } else if (*first == '-') {
-    ++digits;
-  }
-  if (digits == last || !((*digits >= '0' && *digits <= '9') || *digits == decimal_mark))
-    return std::nullopt;
-  double value = 0.0;
-  const auto r = fast_float::from_chars_advanced(
-      first, last, value,
-      fast_float::parse_options(fast_float::chars_format::general, decimal_mark));
-  if (r.ec != std::errc() || r.ptr != last) return std::nullopt;
-  // Beyond the double range: fast_float gives ±inf where strtod gives HUGE_VAL with ERANGE; no
-  // recorder prints a sample there. Gradual underflow yields the denormal or zero, as strtod.
-  if (std::isinf(value)) return std::nullopt;
-  return value;
+  return detail::parse_number_inline(cell, decimal_mark);
 }
 
 bool is_nan_or_inf_text(std::string_view cell) {
@@ -77,11 +47,16 @@ double printed_resolution(std::string_view cell, char decimal_mark) {
   cell = trim(cell);
   int decimals = 0;
   int exponent = 0;
-  const auto mark = cell.find(decimal_mark);
-  auto epos = cell.find_first_of("eE");
-  const std::string_view mantissa = cell.substr(0, epos);
-  if (mark != std::string_view::npos && mark < mantissa.size()) {
-    decimals = static_cast<int>(mantissa.size() - mark - 1);
+  // The first decimal mark and the first exponent letter, in one pass (called once per row).
+  std::size_t mark = std::string_view::npos, epos = std::string_view::npos;
+  for (std::size_t i = 0; i < cell.size(); ++i) {
+    const char c = cell[i];
+    if (c == decimal_mark && mark == std::string_view::npos) mark = i;
+    if ((c == 'e' || c == 'E') && epos == std::string_view::npos) epos = i;
+  }
+  const std::size_t mantissa = std::min(epos, cell.size());
+  if (mark != std::string_view::npos && mark < mantissa) {
+    decimals = static_cast<int>(mantissa - mark - 1);
   }
   if (epos != std::string_view::npos) {
     std::string_view e = cell.substr(epos + 1);

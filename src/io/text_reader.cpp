@@ -40,6 +40,7 @@
 #include "lopside/number_parse.hpp"
 #include "lopside/text_metadata.hpp"
 #include "lopside/units.hpp"
+#include "number_parse_inline.hpp"
 
 namespace lopside {
 namespace {
@@ -656,6 +657,13 @@ class TextReader final : public SampleSource {
       : lines_(in, path), path_(path), options_(options) {
     info_.path = path;
     open();
+  }
+
+  // The parsing threads read the reader's layout: they end before any member does.
+  ~TextReader() override {
+    for (Run& r : runs_)
+      for (auto& f : r.parsed)
+        if (f.valid()) f.wait();
   }
 
   const CaptureInfo& info() const override { return info_; }
@@ -1827,16 +1835,75 @@ class TextReader final : public SampleSource {
     }
   };
 
+  // What each column of a plain row is for: kSkipColumn, kIndexColumn, kTimeColumn, or the
+  // channel number (≥ 0).
+  static constexpr int kSkipColumn = -1, kIndexColumn = -2, kTimeColumn = -3;
+  std::vector<int> column_roles() const {
+    std::vector<int> role(columns_, kSkipColumn);
+    for (std::size_t c = 0; c < channel_column_.size(); ++c)
+      role[channel_column_[c]] = static_cast<int>(c);
+    if (index_column_ >= 0) role[static_cast<std::size_t>(index_column_)] = kIndexColumn;
+    if (time_column_ >= 0) role[static_cast<std::size_t>(time_column_)] = kTimeColumn;
+    return role;
+  }
+
+  // One unquoted row split and converted in a single walk over its bytes, as split_cells and
+  // parse_number would: the same cells (trailing blank cells dropped), the same numbers. False
+  // for anything else (a quote, another cell count, a cell that is not a plain number), which
+  // the row-by-row path then judges.
+  bool plain_row(std::string_view line, const std::vector<int>& role, double* values, double& index,
+                 double& time, double& resolution) const {
+    const char delimiter = dialect_.delimiter, mark = dialect_.decimal;
+    const char* p = line.data();
+    const char* const end = p + line.size();
+    std::size_t col = 0, cells = 0;
+    for (;;) {
+      const char* q = p;
+      while (q < end && *q != delimiter) {
+        if (*q == '"') return false;
+        ++q;
+      }
+      const std::string_view cell(p, static_cast<std::size_t>(q - p));
+      if (col < columns_) {
+        const int r = role[col];
+        if (r != kSkipColumn) {
+          const auto v = detail::parse_number_inline(cell, mark);
+          if (!v) return false;
+          if (r >= 0) {
+            if (!(std::fabs(*v) < kOverflowMarker)) return false;
+            values[r] = *v;
+          } else if (r == kIndexColumn) {
+            index = *v;
+          } else {
+            time = *v;
+            resolution = printed_resolution(cell, mark);
+          }
+        }
+      }
+      ++col;
+      if (!trim(cell).empty()) cells = col;
+      if (q == end) break;
+      p = q + 1;
+    }
+    return cells == columns_;
+  }
+
   void parse_lines(std::string_view run, RowBatch& out) const {
     out.clear();
     std::vector<std::string_view> cells;
     std::string scratch;
     const std::size_t nch = channel_column_.size();
     const char mark = dialect_.decimal;
+    const std::vector<int> role = column_roles();
+    // Runs of blanks as the delimiter need split_cells' own rule.
+    const bool walk = dialect_.delimiter != ' ';
     while (!run.empty()) {
-      const std::size_t nl = run.find('\n');
+      // Every line of a run ends in LF. A plain loop: a library search per short line costs
+      // more than the bytes it looks at.
+      std::size_t nl = 0;
+      while (run[nl] != '\n') ++nl;
       std::string_view line = run.substr(0, nl);
-      run.remove_prefix(nl + 1);  // every line of a run ends in LF
+      run.remove_prefix(nl + 1);
       while (!line.empty() && line.back() == '\r') line.remove_suffix(1);
       out.text.push_back(line);
       const std::size_t at = out.values.size();
@@ -1845,8 +1912,15 @@ class TextReader final : public SampleSource {
       out.time.push_back(0);
       out.resolution.push_back(0);
       out.kind.push_back(RowBatch::other);
-      if (is_blank(line) || is_comment(line)) {
+      const std::string_view body = trim(line);
+      if (body.empty() || body.front() == '#') {  // is_blank, is_comment
         out.kind.back() = RowBatch::skip;
+        continue;
+      }
+      if (walk) {
+        if (plain_row(line, role, out.values.data() + at, out.index.back(), out.time.back(),
+                      out.resolution.back()))
+          out.kind.back() = RowBatch::row;
         continue;
       }
       split_cells(line, dialect_.delimiter, cells, scratch);
@@ -1875,33 +1949,60 @@ class TextReader final : public SampleSource {
     }
   }
 
-  // Reads the next run of lines as a batch into pending_: its second half is parsed on a
-  // second thread while this one parses the first, then every row is accepted in file order
-  // exactly as the plain path would (finish_row). False when the plain path must go on: the
-  // decimal mark still open, or no run of whole lines (next_lines()).
-  bool parse_batch() {
-    if (decimal_open_ || footer_active_) return false;
-    std::string_view run;
+  // A run of whole lines copied out of the line reader (whose buffer moves on), and its rows
+  // as parsed by two threads.
+  struct Run {
+    std::string bytes;
     std::uint64_t first_line = 0;
-    if (!lines_.next_lines(kBatchBytes, run, first_line)) return false;
-    // Split at a line end near the middle; a short run is parsed here alone.
-    std::string_view head = run, tail;
-    if (run.size() >= kParallelBytes) {
-      const std::size_t cut = run.find('\n', run.size() / 2);
-      if (cut != std::string_view::npos && cut + 1 < run.size()) {
-        head = run.substr(0, cut + 1);
-        tail = run.substr(cut + 1);
+    RowBatch halves[2];
+    std::future<void> parsed[2];
+    bool loaded = false;
+  };
+
+  // Takes the next run of lines into `run` and starts parsing its two halves on two threads;
+  // false when the line reader has no run to give (next_lines()).
+  bool start_run(Run& run) {
+    std::string_view text;
+    if (!lines_.next_lines(kBatchBytes, text, run.first_line)) return false;
+    run.bytes.assign(text);
+    run.loaded = true;
+    const std::string_view all(run.bytes);
+    std::string_view head = all, tail;
+    if (all.size() >= kParallelBytes) {
+      const std::size_t cut = all.find('\n', all.size() / 2);
+      if (cut != std::string_view::npos && cut + 1 < all.size()) {
+        head = all.substr(0, cut + 1);
+        tail = all.substr(cut + 1);
       }
     }
-    std::future<void> second;
-    if (!tail.empty())
-      second = std::async(std::launch::async, [&] { parse_lines(tail, batch_[1]); });
-    parse_lines(head, batch_[0]);
-    if (second.valid()) {
-      second.get();
-    } else {
-      batch_[1].clear();
+    run.halves[1].clear();
+    run.parsed[0] =
+        std::async(std::launch::async, [this, head, &run] { parse_lines(head, run.halves[0]); });
+    if (!tail.empty()) {
+      run.parsed[1] =
+          std::async(std::launch::async, [this, tail, &run] { parse_lines(tail, run.halves[1]); });
     }
+    return true;
+  }
+
+  // Reads the next run of lines as a batch into pending_. Runs are parsed ahead: while this
+  // thread accepts the rows of one run in file order exactly as the row-by-row path would
+  // (finish_row, or parse_row itself for a line that is not a plain row), two threads parse
+  // the next. False when the plain path must go on: the decimal mark still open, or no run of
+  // whole lines (next_lines()); then no run is held.
+  bool parse_batch() {
+    Run& now = runs_[run_at_];
+    if (!now.loaded) {
+      if (decimal_open_ || footer_active_ || !start_run(now)) return false;
+    }
+    for (auto& f : now.parsed)
+      if (f.valid()) f.get();
+    run_at_ ^= 1;
+    // The next run is parsed while this one is accepted.
+    if (!decimal_open_ && !footer_active_) start_run(runs_[run_at_]);
+    now.loaded = false;
+    const RowBatch(&batch_)[2] = now.halves;
+    const std::uint64_t first_line = now.first_line;
     const std::size_t nch = channel_column_.size();
     // Room for every row of the run at once; trimmed to the rows accepted at the end.
     std::size_t used = pending_.size();
@@ -2296,7 +2397,8 @@ class TextReader final : public SampleSource {
   // the run is at least kParallelBytes (below that a thread costs more than it saves).
   static constexpr std::size_t kBatchBytes = std::size_t{1} << 20;
   static constexpr std::size_t kParallelBytes = std::size_t{64} << 10;
-  RowBatch batch_[2];
+  Run runs_[2];
+  std::size_t run_at_ = 0;
   std::uint64_t rows_ = 0;       // rows handed out
   std::uint64_t row_index_ = 0;  // rows including skipped ones: the time base index
   std::uint64_t skipped_ = 0;
