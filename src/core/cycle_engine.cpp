@@ -177,7 +177,7 @@ struct CycleEngine::Impl {
   std::vector<Frame> held;
   // Which held frames were not finite in the file (held at the last finite value), apart from
   // the frames: a flag in each would pad a frame from 24 to 32 bytes, 8 MB of the look-ahead.
-  std::vector<bool> held_bad;
+  std::vector<std::uint8_t> held_bad;  // bytes, not bits: read a million times in look()
 
   // Levels of the reference: running mean and half swing.
   double level_mean = 0, half_swing = 0;
@@ -299,7 +299,8 @@ struct CycleEngine::Impl {
     bool regular() const { return intervals >= 3 && regular_share >= 0.8; }
   };
 
-  static Look look(const std::vector<Frame>& frames, const std::vector<bool>& bad, bool voltage) {
+  static Look look(const std::vector<Frame>& frames, const std::vector<std::uint8_t>& bad,
+                   bool voltage) {
     Look k;
     const auto val = [voltage](const Frame& f) { return voltage ? f.v : f.i; };
     std::vector<double> v;
@@ -715,7 +716,7 @@ struct CycleEngine::Impl {
         }
         from = x;
       }
-      pass_zero(to + 1);
+      if (std::isfinite(zero)) pass_zero(to + 1);  // (a call per sample otherwise)
       add_piece(a, b, m - 1, from, to);
     } else {
       while (!boundaries.empty() && boundaries.front() <= 0.0) boundaries.pop_front();
@@ -1401,13 +1402,13 @@ void CycleEngine::consume(const SampleBlock& block) {
     const Frame fr = m.frame_of(block, f, bad);
     if (m.acquiring) {
       m.held.push_back(fr);
-      m.held_bad.push_back(bad);
+      m.held_bad.push_back(bad ? 1 : 0);
       if (m.held.size() >= kAcquireFrames) {
         m.acquiring = false;
         m.learn_levels(m.held);
         for (const Frame& h : m.held) m.push(h);
         std::vector<Frame>().swap(m.held);
-        std::vector<bool>().swap(m.held_bad);
+        std::vector<std::uint8_t>().swap(m.held_bad);
       }
     } else {
       m.push(fr);
@@ -1423,7 +1424,7 @@ const CycleSummary& CycleEngine::finish() {
     m.learn_levels(m.held);
     for (const Frame& h : m.held) m.push(h);
     std::vector<Frame>().swap(m.held);
-    std::vector<bool>().swap(m.held_bad);
+    std::vector<std::uint8_t>().swap(m.held_bad);
   }
   m.pending.clear();  // a crossing too close to the end for its fit is not used
   if (m.next_index > 0) m.integrate_up_to(m.next_index - 1);
