@@ -19,6 +19,9 @@ inline constexpr int bad_input = 2;  ///< unreadable, malformed or unusable inpu
 /// full, /dev/full, a closed standard output, a reader that went away: EPIPE). Kept apart from
 /// bad_input because the input was fine and a retry with room to write will succeed.
 inline constexpr int output_failed = 3;
+/// `lopside lot`: the lot was judged, and at least one unit did not pass (failed, conditional
+/// or not measured). Kept apart from bad_input: the command itself was fine.
+inline constexpr int lot_not_passed = 4;
 }  // namespace exit_code
 
 /// Where in a file an error sits: a line as an editor counts it (first line = 1), or a byte

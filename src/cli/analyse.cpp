@@ -57,8 +57,7 @@ void add_analysis_flags(CLI::App& app, AnalysisOptions& options) {
   add_reader_flags(app, options.reader);
 }
 
-MeasureResult analyse_capture(const AnalysisOptions& o,
-                              const std::function<void(const CycleRecord&)>& per_cycle) {
+MeasureSettings measure_settings(const AnalysisOptions& o) {
   MeasureSettings settings;
   settings.capture_name = o.capture_path;
   settings.probe_offset_a = o.probe_offset_a;
@@ -76,6 +75,12 @@ MeasureResult analyse_capture(const AnalysisOptions& o,
   settings.max_order = o.max_order;
   if (o.reference == "voltage") settings.reference = CycleReference::voltage;
   if (o.reference == "current") settings.reference = CycleReference::current;
+  return settings;
+}
+
+MeasureResult analyse_capture(const AnalysisOptions& o,
+                              const std::function<void(const CycleRecord&)>& per_cycle) {
+  const MeasureSettings settings = measure_settings(o);
   ProgressBar progress;
   MeasureCallbacks callbacks;
   callbacks.per_cycle = per_cycle;

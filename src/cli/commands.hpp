@@ -8,6 +8,7 @@
 #include <functional>
 #include <optional>
 #include <string>
+#include <vector>
 
 #include "lopside/measure_report.hpp"
 #include "lopside/reader_options.hpp"
@@ -45,6 +46,9 @@ struct AnalysisOptions {
 /// Binds --probe-offset, --probe-gain-pct, --zero, --block-cycles, --max-order and the reader
 /// flags (not the capture path) to `options`.
 void add_analysis_flags(CLI::App& app, AnalysisOptions& options);
+
+/// The flags as the library's MeasureSettings (the capture's name included).
+MeasureSettings measure_settings(const AnalysisOptions& options);
 
 /// Measures one capture by the library's measure_capture() (pipeline.hpp): the flags become
 /// MeasureSettings, the reader flags open the capture, a progress bar shows on a terminal;
@@ -88,5 +92,26 @@ void setup_swap(CLI::App& app);
 /// into the supply's and the electrodes' parts and prints the verdict (text, and JSON where
 /// `--json` says).
 void run_swap(const SwapOptions& options);
+
+/// `lopside lot CAPTURE... --limits FILE [--jobs N] [--lot NAME] [--json FILE|-] [--csv FILE|-]
+/// [analysis flags]`
+struct LotOptions {
+  std::vector<std::string> captures;  ///< paths, glob patterns, directories, or @LIST files
+  std::string limits_path;            ///< the TOML limits file
+  unsigned jobs = 0;                  ///< captures measured at once; 0: one per core
+  std::string lot;                    ///< the lot's name, for the report
+  std::string json_path;              ///< empty for none, "-" for standard output
+  std::string csv_path;               ///< empty for none, "-" for standard output
+  AnalysisOptions analysis;           ///< the same flags for every capture
+};
+
+void setup_lot(CLI::App& app);
+
+/// Measures every capture (in parallel), judges each unit against the limits and prints the
+/// lot report; returns the exit status: ok when every unit passed, lot_not_passed otherwise.
+int run_lot(const LotOptions& options);
+
+/// The exit status a command asks main() to return after a normal end (ok unless set).
+extern int command_status;
 
 }  // namespace lopside::cli

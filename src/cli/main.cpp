@@ -61,6 +61,7 @@ int main(int argc, char** argv) {
   lopside::cli::setup_inspect(app);
   lopside::cli::setup_measure(app);
   lopside::cli::setup_swap(app);
+  lopside::cli::setup_lot(app);
 
   // The one place where errors become exit statuses (lopside/error.hpp): bad usage and bad
   // input are the user's to fix (2), an output that could not be written is 3, anything else
@@ -69,6 +70,7 @@ int main(int argc, char** argv) {
     lopside::StandardOutput::check_open();
     app.parse(argc, argv);
     lopside::flush_standard_output();
+    if (lopside::cli::command_status != lopside::exit_code::ok) return lopside::cli::command_status;
   } catch (const CLI::ParseError& e) {
     // --help and --version arrive here too, as "errors" whose exit code is 0.
     const int status = app.exit(e);

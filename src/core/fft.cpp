@@ -3,6 +3,7 @@
 #include <fftw3.h>
 
 #include <complex>
+#include <mutex>
 #include <new>
 #include <stdexcept>
 
@@ -11,6 +12,18 @@ namespace lopside {
 struct RealFft::Plan {
   fftw_plan plan = nullptr;
 };
+
+namespace {
+
+// FFTW's planner is not thread-safe: only fftw_execute may be called from several threads at
+// once (FFTW 3 manual, 5.4 "Thread safety"). Plans are made and destroyed under this lock, so
+// captures measured at once (`lot --jobs`) and the harmonics' own thread never plan together.
+std::mutex& planner_mutex() {
+  static std::mutex m;
+  return m;
+}
+
+}  // namespace
 
 RealFft::RealFft(std::size_t length) : length_(length), plan_(std::make_unique<Plan>()) {
   if (length < 2) throw std::invalid_argument("RealFft: length must be at least 2");
@@ -23,8 +36,11 @@ RealFft::RealFft(std::size_t length) : length_(length), plan_(std::make_unique<P
     fftw_free(out_);
     throw std::bad_alloc();
   }
-  plan_->plan = fftw_plan_dft_r2c_1d(static_cast<int>(length), in_,
-                                     reinterpret_cast<fftw_complex*>(out_), FFTW_ESTIMATE);
+  {
+    const std::lock_guard<std::mutex> lock(planner_mutex());
+    plan_->plan = fftw_plan_dft_r2c_1d(static_cast<int>(length), in_,
+                                       reinterpret_cast<fftw_complex*>(out_), FFTW_ESTIMATE);
+  }
   if (!plan_->plan) {
     fftw_free(in_);
     fftw_free(out_);
@@ -33,7 +49,10 @@ RealFft::RealFft(std::size_t length) : length_(length), plan_(std::make_unique<P
 }
 
 RealFft::~RealFft() {
-  if (plan_ && plan_->plan) fftw_destroy_plan(plan_->plan);
+  if (plan_ && plan_->plan) {
+    const std::lock_guard<std::mutex> lock(planner_mutex());
+    fftw_destroy_plan(plan_->plan);
+  }
   fftw_free(in_);
   fftw_free(out_);
 }

@@ -1908,9 +1908,13 @@ class TextReader final : public SampleSource {
       out.text.push_back(line);
       const std::size_t at = out.values.size();
       out.values.resize(at + nch);
-      out.index.push_back(0);
-      out.time.push_back(0);
-      out.resolution.push_back(0);
+      // The index and time columns take room only when the capture has them.
+      if (index_column_ >= 0) out.index.push_back(0);
+      if (time_column_ >= 0) {
+        out.time.push_back(0);
+        out.resolution.push_back(0);
+      }
+      double index = 0, time = 0, resolution = 0;
       out.kind.push_back(RowBatch::other);
       const std::string_view body = trim(line);
       if (body.empty() || body.front() == '#') {  // is_blank, is_comment
@@ -1918,9 +1922,14 @@ class TextReader final : public SampleSource {
         continue;
       }
       if (walk) {
-        if (plain_row(line, role, out.values.data() + at, out.index.back(), out.time.back(),
-                      out.resolution.back()))
+        if (plain_row(line, role, out.values.data() + at, index, time, resolution)) {
           out.kind.back() = RowBatch::row;
+          if (index_column_ >= 0) out.index.back() = index;
+          if (time_column_ >= 0) {
+            out.time.back() = time;
+            out.resolution.back() = resolution;
+          }
+        }
         continue;
       }
       split_cells(line, dialect_.delimiter, cells, scratch);
@@ -2020,7 +2029,8 @@ class TextReader final : public SampleSource {
           }
           continue;
         }
-        finish_row(line_no, b.index[r], b.time[r], b.resolution[r]);
+        finish_row(line_no, index_column_ >= 0 ? b.index[r] : 0.0,
+                   time_column_ >= 0 ? b.time[r] : 0.0, time_column_ >= 0 ? b.resolution[r] : 0.0);
         const double* v = b.values.data() + r * nch;
         double* out = pending_.data() + used;
         for (std::size_t c = 0; c < nch; ++c) out[c] = v[c] * gains_[c];
@@ -2395,7 +2405,7 @@ class TextReader final : public SampleSource {
   std::size_t pending_at_ = 0;
   // Rows are parsed a run of about kBatchBytes at a time, in two halves on two threads when
   // the run is at least kParallelBytes (below that a thread costs more than it saves).
-  static constexpr std::size_t kBatchBytes = std::size_t{1} << 20;
+  static constexpr std::size_t kBatchBytes = std::size_t{512} << 10;
   static constexpr std::size_t kParallelBytes = std::size_t{64} << 10;
   Run runs_[2];
   std::size_t run_at_ = 0;

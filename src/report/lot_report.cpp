@@ -1,0 +1,254 @@
+// The lot command's outputs (lot_report.hpp).
+#include "lopside/lot_report.hpp"
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <cstdio>
+
+#include "lopside/report_format.hpp"
+#include "report_support.hpp"
+
+namespace lopside {
+
+using report_detail::json;
+using report_detail::pad;
+
+std::string figure_unit(const std::string& name) {
+  static const std::array<std::pair<const char*, const char*>, 7> suffixes = {{
+      {"_hz", "Hz"},
+      {"_a", "A"},
+      {"_v", "V"},
+      {"_c", "C"},
+      {"_w", "W"},
+      {"_j", "J"},
+      {"_s", "s"},
+  }};
+  for (const auto& [suffix, unit] : suffixes) {
+    const std::string s(suffix);
+    if (name.size() > s.size() && name.compare(name.size() - s.size(), s.size(), s) == 0)
+      return unit;
+  }
+  return "";
+}
+
+namespace {
+
+std::string number(double v) {
+  std::array<char, 48> buf{};
+  std::snprintf(buf.data(), buf.size(), "%.6g", v);
+  return buf.data();
+}
+
+// A value as people read it: with its unit and SI prefix, and its u95 where known.
+std::string shown(const std::string& name, const FigureValue& v) {
+  const std::string unit = figure_unit(name);
+  if (v.u95) {
+    if (unit.empty()) return format_ratio_with_uncertainty(v.value, *v.u95, false);
+    return format_with_uncertainty(v.value, *v.u95, unit, false);
+  }
+  return number(v.value) + (unit.empty() ? "" : " " + unit);
+}
+
+std::string limit_text(const std::string& name, const Limit& l) {
+  const std::string unit = figure_unit(name);
+  const std::string u = unit.empty() ? "" : " " + unit;
+  if (l.min && l.max) return "[" + number(*l.min) + ", " + number(*l.max) + "]" + u;
+  if (l.min) return "≥ " + number(*l.min) + u;
+  return "≤ " + number(*l.max) + u;
+}
+
+std::string deciding_text(const LotUnit& u) {
+  if (u.verdict == LotVerdict::not_measured && u.figures.empty()) return u.reason;
+  if (!u.deciding) return "";
+  const LotFigure& f = u.figures[*u.deciding];
+  if (!f.value) return f.name + ": not in the measurement";
+  const std::string unit = figure_unit(f.name);
+  return f.name + " " + shown(f.name, *f.value) + ", margin " + number(f.decision.margin) +
+         (unit.empty() ? "" : " " + unit) + " to " + (f.decision.at_min ? "min" : "max");
+}
+
+json optional_number(const std::optional<double>& v) {
+  return v && std::isfinite(*v) ? json(*v) : json(nullptr);
+}
+
+json limit_json(const Limit& l) {
+  return json{{"min", optional_number(l.min)}, {"max", optional_number(l.max)}};
+}
+
+}  // namespace
+
+void write_lot_text(std::ostream& out, const LotReport& r) {
+  out << "lopside lot" << (r.lot.empty() ? "" : ": " + r.lot) << '\n';
+  if (!r.product.empty()) report_detail::line(out, "product", r.product);
+  report_detail::line(out, "limits", r.limits_path + " (" + to_string(r.rule) + " decisions)");
+  for (const auto& [name, limit] : r.limits)
+    report_detail::line(out, "  " + name, limit_text(name, limit));
+  out << '\n';
+  std::size_t id_width = 4;
+  for (const LotUnit& u : r.units) id_width = std::max(id_width, u.id.size());
+  out << "  " << pad("unit", id_width) << "  " << pad("verdict", 13) << "deciding\n";
+  for (const LotUnit& u : r.units) {
+    out << "  " << pad(u.id, id_width) << "  " << pad(to_string(u.verdict), 13) << deciding_text(u)
+        << '\n';
+  }
+  const LotSummary& s = r.summary;
+  out << '\n';
+  report_detail::line(out, "units",
+                      std::to_string(s.count) + ": " + std::to_string(s.passed) + " passed, " +
+                          std::to_string(s.failed) + " failed, " + std::to_string(s.conditional) +
+                          " conditional, " + std::to_string(s.not_measured) + " not measured");
+  // The units that did not pass, failures first.
+  for (const LotVerdict v : {LotVerdict::fail, LotVerdict::conditional, LotVerdict::not_measured}) {
+    for (const LotUnit& u : r.units) {
+      if (u.verdict == v)
+        report_detail::line(out, std::string("  ") + to_string(v), u.id + ": " + deciding_text(u));
+    }
+  }
+  for (const auto& [name, st] : s.figures) {
+    out << '\n';
+    const std::string unit = figure_unit(name);
+    const std::string u = unit.empty() ? "" : " " + unit;
+    report_detail::line(out, name,
+                        std::to_string(st.count) + " values, mean " + number(st.mean) + u +
+                            ", sd " + number(st.sd) + u + ", min " + number(st.min) + u + ", max " +
+                            number(st.max) + u);
+    std::string idx = "yield " + report_detail::fixed(100 * st.yield, 1) + " %";
+    const auto opt = [](const char* label, const std::optional<double>& v) {
+      return std::string(", ") + label + " " + (v ? report_detail::fixed(*v, 2) : "n/a");
+    };
+    idx += opt("Cp", st.cp) + opt("Cpk", st.cpk) + opt("Pp", st.pp) + opt("Ppk", st.ppk);
+    report_detail::line(out, "", idx);
+    if (st.chart) {
+      const ControlChart& c = *st.chart;
+      std::string chart =
+          "I chart " + number(c.lcl) + " … " + number(c.ucl) + u + ", MR ≤ " + number(c.mr_ucl) + u;
+      if (!c.beyond.empty() || !c.mr_beyond.empty()) {
+        chart += "; beyond:";
+        for (const std::size_t i : c.beyond) chart += " #" + std::to_string(i + 1);
+        for (const std::size_t i : c.mr_beyond) chart += " MR#" + std::to_string(i + 1);
+      }
+      report_detail::line(out, "", chart);
+    }
+  }
+}
+
+void write_lot_json(std::ostream& out, const LotReport& r) {
+  json doc;
+  doc["schema"] = "lopside.lot/1";
+  doc["lot"] = r.lot.empty() ? json(nullptr) : json(r.lot);
+  doc["product"] = r.product.empty() ? json(nullptr) : json(r.product);
+  doc["limits_file"] = r.limits_path;
+  doc["decision_rule"] = to_string(r.rule);
+  json limits = json::object();
+  for (const auto& [name, l] : r.limits) limits[name] = limit_json(l);
+  doc["limits"] = limits;
+  json units = json::array();
+  for (const LotUnit& u : r.units) {
+    json ju;
+    ju["id"] = u.id;
+    ju["path"] = u.path;
+    ju["verdict"] = to_string(u.verdict);
+    if (u.deciding) {
+      const LotFigure& f = u.figures[*u.deciding];
+      ju["deciding"] =
+          json{{"figure", f.name},
+               {"margin", f.value ? json(f.decision.margin) : json(nullptr)},
+               {"relative_margin", f.value ? json(f.decision.relative_margin) : json(nullptr)},
+               {"limit", f.decision.at_min ? "min" : "max"}};
+    } else {
+      ju["deciding"] = nullptr;
+    }
+    json figures = json::object();
+    for (const LotFigure& f : u.figures) {
+      json jf;
+      jf["value"] = f.value ? json(f.value->value) : json(nullptr);
+      jf["u95"] = f.value ? optional_number(f.value->u95) : json(nullptr);
+      jf["verdict"] = to_string(f.decision.verdict);
+      jf["margin"] = f.value ? json(f.decision.margin) : json(nullptr);
+      figures[f.name] = jf;
+    }
+    ju["figures"] = figures;
+    ju["reason"] = u.reason.empty() ? json(nullptr) : json(u.reason);
+    units.push_back(ju);
+  }
+  doc["units"] = units;
+  const LotSummary& s = r.summary;
+  json sum;
+  sum["count"] = s.count;
+  sum["passed"] = s.passed;
+  sum["failed"] = s.failed;
+  sum["conditional"] = s.conditional;
+  sum["not_measured"] = s.not_measured;
+  json figs = json::object();
+  for (const auto& [name, st] : s.figures) {
+    json jf;
+    jf["count"] = st.count;
+    jf["mean"] = st.count ? json(st.mean) : json(nullptr);
+    jf["sd"] = st.count >= 2 ? json(st.sd) : json(nullptr);
+    jf["min"] = st.count ? json(st.min) : json(nullptr);
+    jf["max"] = st.count ? json(st.max) : json(nullptr);
+    jf["yield"] = st.yield;
+    jf["sigma_within"] = st.count >= 2 ? json(st.sigma_within) : json(nullptr);
+    jf["cp"] = optional_number(st.cp);
+    jf["cpk"] = optional_number(st.cpk);
+    jf["pp"] = optional_number(st.pp);
+    jf["ppk"] = optional_number(st.ppk);
+    if (st.chart) {
+      const ControlChart& c = *st.chart;
+      jf["control_chart"] =
+          json{{"center", c.center},       {"ucl", c.ucl},       {"lcl", c.lcl},
+               {"mr_center", c.mr_center}, {"mr_ucl", c.mr_ucl}, {"beyond", c.beyond},
+               {"mr_beyond", c.mr_beyond}};
+    } else {
+      jf["control_chart"] = nullptr;
+    }
+    figs[name] = jf;
+  }
+  sum["figures"] = figs;
+  doc["summary"] = sum;
+  out << doc.dump(2) << '\n';
+}
+
+namespace {
+
+// RFC 4180: a field with a comma, quote or line end is quoted, quotes doubled.
+std::string csv_field(const std::string& s) {
+  if (s.find_first_of(",\"\r\n") == std::string::npos) return s;
+  std::string q = "\"";
+  for (const char c : s) q += c == '"' ? std::string("\"\"") : std::string(1, c);
+  return q + "\"";
+}
+
+std::string csv_number(double v) {
+  std::array<char, 48> buf{};
+  std::snprintf(buf.data(), buf.size(), "%.17g", v);
+  return buf.data();
+}
+
+}  // namespace
+
+void write_lot_csv(std::ostream& out, const LotReport& r) {
+  out << "id,path,verdict,deciding_figure,deciding_margin,reason";
+  for (const auto& [name, l] : r.limits)
+    out << ',' << csv_field(name) << ',' << csv_field(name + "_u95");
+  out << '\n';
+  for (const LotUnit& u : r.units) {
+    out << csv_field(u.id) << ',' << csv_field(u.path) << ',' << to_string(u.verdict) << ',';
+    if (u.deciding) {
+      const LotFigure& f = u.figures[*u.deciding];
+      out << csv_field(f.name) << ',' << (f.value ? csv_number(f.decision.margin) : "");
+    } else {
+      out << ',';
+    }
+    out << ',' << csv_field(u.reason);
+    for (std::size_t k = 0; k < r.limits.size(); ++k) {
+      const LotFigure* f = k < u.figures.size() ? &u.figures[k] : nullptr;
+      out << ',' << (f && f->value ? csv_number(f->value->value) : "") << ','
+          << (f && f->value && f->value->u95 ? csv_number(*f->value->u95) : "");
+    }
+    out << '\n';
+  }
+}
+
+}  // namespace lopside
