@@ -102,6 +102,8 @@ struct LotOptions {
   std::string lot;                    ///< the lot's name, for the report
   std::string json_path;              ///< empty for none, "-" for standard output
   std::string csv_path;               ///< empty for none, "-" for standard output
+  std::string history;                ///< the history store (an SQLite file); empty for none
+  std::string station;                ///< the test station recorded with each unit
   AnalysisOptions analysis;           ///< the same flags for every capture
 };
 

@@ -4,8 +4,12 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <array>
 #include <atomic>
 #include <cctype>
+#include <chrono>
+#include <cstdio>
+#include <ctime>
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -13,6 +17,7 @@
 #include <mutex>
 #include <optional>
 #include <regex>
+#include <sstream>
 #include <thread>
 
 #include "commands.hpp"
@@ -20,6 +25,7 @@
 #include "lopside/capture_reader.hpp"
 #include "lopside/error.hpp"
 #include "lopside/figures.hpp"
+#include "lopside/history.hpp"
 #include "lopside/limits_file.hpp"
 #include "lopside/lot_report.hpp"
 #include "lopside/pipeline.hpp"
@@ -148,6 +154,98 @@ std::string unit_id(const std::string& path, const LotSettings& lot, const Measu
   return stem_of(path);
 }
 
+std::string hostname() {
+  std::array<char, 256> name{};
+  if (::gethostname(name.data(), name.size() - 1) != 0) return "unknown";
+  return name.data();
+}
+
+std::string utc_now() {
+  const std::time_t t = std::chrono::system_clock::to_time_t(std::chrono::system_clock::now());
+  std::tm tm{};
+  ::gmtime_r(&t, &tm);
+  std::array<char, 32> buf{};
+  std::strftime(buf.data(), buf.size(), "%Y-%m-%dT%H:%M:%SZ", &tm);
+  return buf.data();
+}
+
+std::string canonical_number(double v) {
+  std::array<char, 48> buf{};
+  std::snprintf(buf.data(), buf.size(), "%.17g", v);
+  return buf.data();
+}
+
+// Every setting that changes a figure, one per line in a fixed order: equal text, equal
+// settings (its SHA-256 identifies them in the history).
+std::string canonical_settings(const AnalysisOptions& a) {
+  std::ostringstream s;
+  s << "probe_offset_a=" << canonical_number(a.probe_offset_a) << '\n'
+    << "probe_gain_pct=" << canonical_number(a.probe_gain_pct) << '\n'
+    << "zero=" << a.zero << '\n'
+    << "block_cycles=" << a.block_cycles << '\n'
+    << "max_order=" << a.max_order << '\n'
+    << "reference=" << a.reference << '\n'
+    << "current=" << a.reader.current.value_or("") << '\n'
+    << "voltage=" << a.reader.voltage.value_or("") << '\n'
+    << "rate_hz=" << (a.reader.rate_hz ? canonical_number(*a.reader.rate_hz) : "") << '\n'
+    << "skip_bad_rows=" << (a.reader.skip_bad_rows ? 1 : 0) << '\n';
+  for (const auto& [ch, g] : a.reader.gains)
+    s << "gain " << ch << '=' << canonical_number(g) << '\n';
+  for (const auto& [ch, u] : a.reader.units) s << "unit " << ch << '=' << u << '\n';
+  for (const auto& [ch, v] : a.reader.scales)
+    s << "scale " << ch << '=' << canonical_number(v) << '\n';
+  for (const std::string& w : a.reader.with_paths) s << "with=" << w << '\n';
+  return s.str();
+}
+
+std::string canonical_limits(const LimitList& limits) {
+  std::string s;
+  for (const auto& [name, l] : limits) {
+    s += name + " min=" + (l.min ? canonical_number(*l.min) : "") +
+         " max=" + (l.max ? canonical_number(*l.max) : "") + "\n";
+  }
+  return s;
+}
+
+HistoryLot history_lot(const LotReport& r, const LotOptions& o,
+                       const std::vector<std::string>& hashes,
+                       const std::vector<std::uint64_t>& sizes) {
+  HistoryLot h;
+  h.name = o.lot;
+  h.product = r.product;
+  h.station = o.station.empty() ? hostname() : o.station;
+  h.decision_rule = to_string(r.rule);
+  h.limits = canonical_limits(r.limits);
+  h.settings = canonical_settings(o.analysis);
+  h.settings_sha256 = text_sha256(h.settings + "\n" + h.limits + "\n" + h.decision_rule);
+  h.tool_version = LOPSIDE_VERSION;
+  h.judged_utc = utc_now();
+  for (std::size_t k = 0; k < r.units.size(); ++k) {
+    const LotUnit& u = r.units[k];
+    HistoryUnit hu;
+    hu.unit_id = u.id;
+    hu.path = u.path;
+    hu.capture_sha256 = hashes[k];
+    hu.capture_bytes = sizes[k];
+    hu.verdict = to_string(u.verdict);
+    hu.deciding_figure = u.deciding ? u.figures[*u.deciding].name : "";
+    hu.reason = u.reason;
+    for (const LotFigure& f : u.figures) {
+      HistoryFigure hf;
+      hf.name = f.name;
+      if (f.value) {
+        hf.value = f.value->value;
+        hf.u95 = f.value->u95;
+        hf.margin = f.decision.margin;
+      }
+      hf.verdict = to_string(f.decision.verdict);
+      hu.figures.push_back(hf);
+    }
+    h.units.push_back(std::move(hu));
+  }
+  return h;
+}
+
 }  // namespace
 
 void setup_lot(CLI::App& app) {
@@ -177,12 +275,23 @@ void setup_lot(CLI::App& app) {
                   "Write one row per unit as CSV to FILE ('-': "
                   "standard output)")
       ->type_name("FILE|-");
+  sub->add_option("--history", options->history,
+                  "Record every judged unit in this history store (an SQLite file, created if "
+                  "absent); needs --lot")
+      ->type_name("FILE");
+  sub->add_option("--station", options->station,
+                  "The test station recorded with each unit (default: this machine's name)");
   add_analysis_flags(*sub, options->analysis);
   sub->callback([options]() { command_status = run_lot(*options); });
 }
 
 int run_lot(const LotOptions& o) {
   const LimitsFile limits = read_limits_file(o.limits_path, limitable_figures());
+  if (!o.history.empty() && o.lot.empty())
+    throw InputError(o.history, "--history records units by lot; expected --lot NAME");
+  // Opened first, so that an unusable store fails before a long lot.
+  std::unique_ptr<HistoryStore> history;
+  if (!o.history.empty()) history = open_history(o.history);
   const std::vector<std::string> captures = expand_captures(o.captures);
   if (captures.empty()) throw InputError(o.limits_path, "no capture given; expected CAPTURE...");
 
@@ -201,6 +310,8 @@ int run_lot(const LotOptions& o) {
   const unsigned jobs =
       std::min<unsigned>(o.jobs ? o.jobs : cores, static_cast<unsigned>(captures.size()));
   std::vector<LotUnit> units(captures.size());
+  std::vector<std::string> hashes(captures.size());
+  std::vector<std::uint64_t> sizes(captures.size(), 0);
   std::atomic<std::size_t> next{0}, done{0};
   std::mutex progress_mutex;
   const bool show_progress = ::isatty(STDERR_FILENO) != 0;
@@ -215,9 +326,25 @@ int run_lot(const LotOptions& o) {
             measure_capture([&a] { return open_capture(a.capture_path, a.reader); }, settings);
         units[k] = judge_unit(unit_id(path, limits.lot, &r), path, measure_figures(r),
                               limits.limits, limits.lot.decision);
+      } catch (const InputError& e) {
+        // One capture that cannot be read or measured does not stop the lot; the reason
+        // leaves out the path the row already shows, and keeps the place (line or byte).
+        std::string why = e.message();
+        if (e.where().line) why = "line " + std::to_string(*e.where().line) + ": " + why;
+        if (e.where().byte_offset)
+          why = "byte " + std::to_string(*e.where().byte_offset) + ": " + why;
+        units[k] = unmeasured_unit(unit_id(path, limits.lot, nullptr), path, why);
       } catch (const std::exception& e) {
-        // One capture that cannot be read or measured does not stop the lot.
         units[k] = unmeasured_unit(unit_id(path, limits.lot, nullptr), path, e.what());
+      }
+      if (history) {
+        // The capture's identity in the history; a capture that cannot be read has none and
+        // is not recorded.
+        try {
+          hashes[k] = file_sha256(path, sizes[k]);
+        } catch (const std::exception&) {
+          hashes[k].clear();
+        }
       }
       const std::size_t n = ++done;
       if (show_progress) {
@@ -241,6 +368,13 @@ int run_lot(const LotOptions& o) {
   report.units = std::move(units);
   report.summary = summarize_lot(report.units, report.limits);
 
+  if (history) {
+    const RecordOutcome rec = history->record(history_lot(report, o, hashes, sizes));
+    std::cerr << "lopside lot: history " << o.history << ": " << rec.added << " unit(s) recorded, "
+              << rec.already << " already there (same capture, same settings)";
+    if (rec.unhashed > 0) std::cerr << ", " << rec.unhashed << " without a readable capture";
+    std::cerr << '\n';
+  }
   if (csv_out) {
     write_lot_csv(csv_out->stream(), report);
     csv_out->commit();

@@ -34,10 +34,33 @@ std::string figure_unit(const std::string& name) {
 
 namespace {
 
-std::string number(double v) {
+// A number in the figure's unit with an SI prefix chosen by its size ("0.49 mA", "1.2 kV"),
+// four significant digits; a plain number for a figure without a unit.
+std::string si(double v, const std::string& unit) {
+  if (unit.empty() || v == 0 || !std::isfinite(v)) {
+    std::array<char, 48> buf{};
+    std::snprintf(buf.data(), buf.size(), "%.4g", v);
+    return std::string(buf.data()) + (unit.empty() ? "" : " " + unit);
+  }
+  static const std::array<std::pair<double, const char*>, 7> prefixes = {{
+      {1e9, "G"},
+      {1e6, "M"},
+      {1e3, "k"},
+      {1, ""},
+      {1e-3, "m"},
+      {1e-6, "\xC2\xB5"},
+      {1e-9, "n"},
+  }};
+  std::pair<double, const char*> p = prefixes.back();
+  for (const auto& candidate : prefixes) {
+    if (std::fabs(v) >= candidate.first * (1 - 1e-12)) {
+      p = candidate;
+      break;
+    }
+  }
   std::array<char, 48> buf{};
-  std::snprintf(buf.data(), buf.size(), "%.6g", v);
-  return buf.data();
+  std::snprintf(buf.data(), buf.size(), "%.4g", v / p.first);
+  return std::string(buf.data()) + " " + p.second + unit;
 }
 
 // A value as people read it: with its unit and SI prefix, and its u95 where known.
@@ -47,15 +70,14 @@ std::string shown(const std::string& name, const FigureValue& v) {
     if (unit.empty()) return format_ratio_with_uncertainty(v.value, *v.u95, false);
     return format_with_uncertainty(v.value, *v.u95, unit, false);
   }
-  return number(v.value) + (unit.empty() ? "" : " " + unit);
+  return si(v.value, unit);
 }
 
 std::string limit_text(const std::string& name, const Limit& l) {
   const std::string unit = figure_unit(name);
-  const std::string u = unit.empty() ? "" : " " + unit;
-  if (l.min && l.max) return "[" + number(*l.min) + ", " + number(*l.max) + "]" + u;
-  if (l.min) return "≥ " + number(*l.min) + u;
-  return "≤ " + number(*l.max) + u;
+  if (l.min && l.max) return si(*l.min, unit) + " … " + si(*l.max, unit);
+  if (l.min) return "≥ " + si(*l.min, unit);
+  return "≤ " + si(*l.max, unit);
 }
 
 std::string deciding_text(const LotUnit& u) {
@@ -63,9 +85,17 @@ std::string deciding_text(const LotUnit& u) {
   if (!u.deciding) return "";
   const LotFigure& f = u.figures[*u.deciding];
   if (!f.value) return f.name + ": not in the measurement";
-  const std::string unit = figure_unit(f.name);
-  return f.name + " " + shown(f.name, *f.value) + ", margin " + number(f.decision.margin) +
-         (unit.empty() ? "" : " " + unit) + " to " + (f.decision.at_min ? "min" : "max");
+  return f.name + " " + shown(f.name, *f.value) + ", margin " +
+         si(f.decision.margin, figure_unit(f.name)) + " to " + (f.decision.at_min ? "min" : "max");
+}
+
+// The ids of the units that have limited figure k, in lot order: the statistics' values, so
+// the chart's point i is unit ids[i].
+std::vector<std::string> ids_with_figure(const LotReport& r, std::size_t k) {
+  std::vector<std::string> ids;
+  for (const LotUnit& u : r.units)
+    if (k < u.figures.size() && u.figures[k].value) ids.push_back(u.id);
+  return ids;
 }
 
 json optional_number(const std::optional<double>& v) {
@@ -105,14 +135,14 @@ void write_lot_text(std::ostream& out, const LotReport& r) {
         report_detail::line(out, std::string("  ") + to_string(v), u.id + ": " + deciding_text(u));
     }
   }
-  for (const auto& [name, st] : s.figures) {
+  for (std::size_t k = 0; k < s.figures.size(); ++k) {
+    const auto& [name, st] = s.figures[k];
     out << '\n';
     const std::string unit = figure_unit(name);
-    const std::string u = unit.empty() ? "" : " " + unit;
     report_detail::line(out, name,
-                        std::to_string(st.count) + " values, mean " + number(st.mean) + u +
-                            ", sd " + number(st.sd) + u + ", min " + number(st.min) + u + ", max " +
-                            number(st.max) + u);
+                        std::to_string(st.count) + " values, mean " + si(st.mean, unit) + ", sd " +
+                            si(st.sd, unit) + ", min " + si(st.min, unit) + ", max " +
+                            si(st.max, unit));
     std::string idx = "yield " + report_detail::fixed(100 * st.yield, 1) + " %";
     const auto opt = [](const char* label, const std::optional<double>& v) {
       return std::string(", ") + label + " " + (v ? report_detail::fixed(*v, 2) : "n/a");
@@ -121,12 +151,17 @@ void write_lot_text(std::ostream& out, const LotReport& r) {
     report_detail::line(out, "", idx);
     if (st.chart) {
       const ControlChart& c = *st.chart;
-      std::string chart =
-          "I chart " + number(c.lcl) + " … " + number(c.ucl) + u + ", MR ≤ " + number(c.mr_ucl) + u;
-      if (!c.beyond.empty() || !c.mr_beyond.empty()) {
-        chart += "; beyond:";
-        for (const std::size_t i : c.beyond) chart += " #" + std::to_string(i + 1);
-        for (const std::size_t i : c.mr_beyond) chart += " MR#" + std::to_string(i + 1);
+      const std::vector<std::string> ids = ids_with_figure(r, k);
+      std::string chart = "individuals " + si(c.lcl, unit) + " … " + si(c.ucl, unit) +
+                          ", moving range ≤ " + si(c.mr_ucl, unit);
+      // Points named by their unit; a moving range by the unit that ends it.
+      if (!c.beyond.empty()) {
+        chart += "; outside:";
+        for (const std::size_t i : c.beyond) chart += " " + ids[i];
+      }
+      if (!c.mr_beyond.empty()) {
+        chart += "; jump at:";
+        for (const std::size_t i : c.mr_beyond) chart += " " + ids[i];
       }
       report_detail::line(out, "", chart);
     }
@@ -181,7 +216,8 @@ void write_lot_json(std::ostream& out, const LotReport& r) {
   sum["conditional"] = s.conditional;
   sum["not_measured"] = s.not_measured;
   json figs = json::object();
-  for (const auto& [name, st] : s.figures) {
+  for (std::size_t k = 0; k < s.figures.size(); ++k) {
+    const auto& [name, st] = s.figures[k];
     json jf;
     jf["count"] = st.count;
     jf["mean"] = st.count ? json(st.mean) : json(nullptr);
@@ -196,10 +232,19 @@ void write_lot_json(std::ostream& out, const LotReport& r) {
     jf["ppk"] = optional_number(st.ppk);
     if (st.chart) {
       const ControlChart& c = *st.chart;
-      jf["control_chart"] =
-          json{{"center", c.center},       {"ucl", c.ucl},       {"lcl", c.lcl},
-               {"mr_center", c.mr_center}, {"mr_ucl", c.mr_ucl}, {"beyond", c.beyond},
-               {"mr_beyond", c.mr_beyond}};
+      jf["control_chart"] = json{{"center", c.center},
+                                 {"ucl", c.ucl},
+                                 {"lcl", c.lcl},
+                                 {"mr_center", c.mr_center},
+                                 {"mr_ucl", c.mr_ucl}};
+      // The points beyond, by unit id (an index into the lot's units would skip those without
+      // the figure).
+      const std::vector<std::string> ids = ids_with_figure(r, k);
+      json beyond = json::array(), mr_beyond = json::array();
+      for (const std::size_t i : c.beyond) beyond.push_back(ids[i]);
+      for (const std::size_t i : c.mr_beyond) mr_beyond.push_back(ids[i]);
+      jf["control_chart"]["beyond_units"] = beyond;
+      jf["control_chart"]["moving_range_beyond_units"] = mr_beyond;
     } else {
       jf["control_chart"] = nullptr;
     }
