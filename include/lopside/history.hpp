@@ -21,6 +21,8 @@
 #include <string>
 #include <vector>
 
+#include "lopside/trend.hpp"
+
 namespace lopside {
 
 struct HistoryFigure {
@@ -63,6 +65,9 @@ class HistoryStore {
   virtual RecordOutcome record(const HistoryLot& lot) = 0;
   /// Units recorded, all lots (for tests and the trend command).
   virtual std::uint64_t unit_count() = 0;
+  /// Every recorded unit of `product` (all products when empty), lots in the order of their
+  /// first judgement, units in the order they were recorded.
+  virtual std::vector<RecordedUnit> recorded_units(const std::string& product) = 0;
 };
 
 /// Opens (creating when absent, migrating an older schema) the SQLite store at `path`.

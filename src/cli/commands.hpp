@@ -113,6 +113,16 @@ void setup_lot(CLI::App& app);
 /// lot report; returns the exit status: ok when every unit passed, lot_not_passed otherwise.
 int run_lot(const LotOptions& options);
 
+/// `lopside trend --history FILE [--product NAME] [--json FILE|-] [--csv FILE|-]`
+struct TrendOptions {
+  std::string history;  ///< the store written by `lot --history`
+  std::string product;  ///< only this product's lots; empty for all
+  std::string json_path, csv_path;
+};
+
+void setup_trend(CLI::App& app);
+void run_trend(const TrendOptions& options);
+
 /// The exit status a command asks main() to return after a normal end (ok unless set).
 extern int command_status;
 

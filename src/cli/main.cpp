@@ -62,6 +62,7 @@ int main(int argc, char** argv) {
   lopside::cli::setup_measure(app);
   lopside::cli::setup_swap(app);
   lopside::cli::setup_lot(app);
+  lopside::cli::setup_trend(app);
 
   // The one place where errors become exit statuses (lopside/error.hpp): bad usage and bad
   // input are the user's to fix (2), an output that could not be written is 3, anything else

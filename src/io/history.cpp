@@ -134,6 +134,14 @@ class Statement {
     db_.fail(sqlite3_errmsg(db_.db()));
   }
   std::int64_t column_int(int i) { return sqlite3_column_int64(s_, i); }
+  std::string column_text(int i) {
+    const auto* t = sqlite3_column_text(s_, i);
+    return t ? std::string(reinterpret_cast<const char*>(t)) : std::string();
+  }
+  std::optional<double> column_double(int i) {
+    if (sqlite3_column_type(s_, i) == SQLITE_NULL) return std::nullopt;
+    return sqlite3_column_double(s_, i);
+  }
 
  private:
   void check(int rc) {
@@ -207,6 +215,44 @@ class SqliteHistory final : public HistoryStore {
     } catch (...) {
       sqlite3_exec(db_.db(), "ROLLBACK", nullptr, nullptr, nullptr);
       throw;
+    }
+    return out;
+  }
+
+  std::vector<RecordedUnit> recorded_units(const std::string& product) override {
+    std::vector<RecordedUnit> out;
+    Statement units(db_,
+                    "SELECT u.id, l.name, l.product, l.station, l.first_judged_utc, l.limits, "
+                    "u.unit_id, u.verdict, u.deciding_figure, u.judged_utc FROM units u JOIN lots "
+                    "l ON u.lot_id = l.id WHERE ? = '' OR l.product = ? ORDER BY "
+                    "l.first_judged_utc, l.id, u.id");
+    units.bind(1, product);
+    units.bind(2, product);
+    Statement figures(db_,
+                      "SELECT name, value, u95, verdict FROM figures WHERE unit_row = ? ORDER BY "
+                      "rowid");
+    while (units.step()) {
+      RecordedUnit u;
+      u.lot = units.column_text(1);
+      u.product = units.column_text(2);
+      u.station = units.column_text(3);
+      u.lot_first_judged_utc = units.column_text(4);
+      u.limits = units.column_text(5);
+      u.unit_id = units.column_text(6);
+      u.verdict = units.column_text(7);
+      u.deciding_figure = units.column_text(8);
+      u.judged_utc = units.column_text(9);
+      figures.reset();
+      figures.bind(1, units.column_int(0));
+      while (figures.step()) {
+        RecordedFigure f;
+        f.name = figures.column_text(0);
+        f.value = figures.column_double(1);
+        f.u95 = figures.column_double(2);
+        f.verdict = figures.column_text(3);
+        u.figures.push_back(std::move(f));
+      }
+      out.push_back(std::move(u));
     }
     return out;
   }

@@ -1,0 +1,69 @@
+// `lopside trend`: the process across lots, from the lot history (issue 11, item 7).
+#include <iostream>
+#include <memory>
+#include <optional>
+
+#include "commands.hpp"
+#include "lopside/atomic_file.hpp"
+#include "lopside/error.hpp"
+#include "lopside/history.hpp"
+#include "lopside/trend_report.hpp"
+#include "output_paths.hpp"
+
+namespace lopside::cli {
+
+void setup_trend(CLI::App& app) {
+  auto options = std::make_shared<TrendOptions>();
+  CLI::App* sub = app.add_subcommand(
+      "trend",
+      "Show each limited figure lot by lot (mean, spread, Cpk, yield) from the lot history, a "
+      "control chart of the lot means with run rules flagging drift, and the units that failed "
+      "most often");
+  sub->add_option("--history", options->history, "The history store written by `lot --history`")
+      ->required()
+      ->type_name("FILE");
+  sub->add_option("--product", options->product, "Only this product's lots");
+  sub->add_option("--json", options->json_path,
+                  "Also write the trend as JSON to FILE; '-' writes it alone to standard output")
+      ->type_name("FILE|-");
+  sub->add_option("--csv", options->csv_path, "Write one row per lot and figure as CSV to FILE")
+      ->type_name("FILE|-");
+  sub->callback([options]() { run_trend(*options); });
+}
+
+void run_trend(const TrendOptions& o) {
+  std::error_code ec;
+  if (!std::filesystem::exists(o.history, ec))
+    throw InputError(o.history,
+                     "no such history store; expected a file written by "
+                     "`lopside lot --history`");
+  const bool csv_replaces = o.json_path.empty() && o.csv_path == "-";
+  check_output_paths({o.history},
+                     {{"--json", o.json_path, true}, {"--csv", o.csv_path, csv_replaces}});
+  std::optional<AtomicOutput> json_out, csv_out;
+  if (!o.json_path.empty()) json_out.emplace(o.json_path);
+  if (!o.csv_path.empty()) csv_out.emplace(o.csv_path);
+  const auto store = open_history(o.history);
+  const std::vector<RecordedUnit> units = store->recorded_units(o.product);
+  if (units.empty()) {
+    throw InputError(o.history, o.product.empty()
+                                    ? "the history holds no unit yet"
+                                    : "the history holds no unit of product '" + o.product + "'");
+  }
+  const Trend t = build_trend(units);
+  if (csv_out) {
+    write_trend_csv(csv_out->stream(), t);
+    csv_out->commit();
+  }
+  if (json_out) {
+    write_trend_json(json_out->stream(), t, o.history);
+    json_out->commit();
+  }
+  const bool stdout_taken =
+      (json_out && json_out->is_stdout()) || (csv_out && csv_out->is_stdout());
+  if (!stdout_taken) write_trend_text(std::cout, t, o.history);
+  std::cout.flush();
+  if (!std::cout) throw std::runtime_error("cannot write to standard output");
+}
+
+}  // namespace lopside::cli
