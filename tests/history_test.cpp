@@ -13,6 +13,7 @@
 #include <thread>
 #include <vector>
 
+#include "history_support.hpp"
 #include "lopside/error.hpp"
 
 namespace lopside {
@@ -44,48 +45,22 @@ TEST(Sha256, FipsTestVectors) {
   EXPECT_THROW(file_sha256((f.string() + ".missing"), bytes), InputError);
 }
 
-// A lot of `n` units whose captures' hashes are made from `tag` and the unit number.
-HistoryLot lot(const std::string& name, const std::string& tag, int n) {
-  HistoryLot h;
-  h.name = name;
-  h.product = "tube supply 32 kHz";
-  h.station = "bench-7";
-  h.decision_rule = "guarded";
-  h.limits = "dc_to_rms min=-0.01 max=0.01\n";
-  h.settings = "max_order=40\n";
-  h.settings_sha256 = text_sha256(h.settings + h.limits);
-  h.tool_version = "test";
-  h.judged_utc = "2026-12-02T10:00:00Z";
-  for (int k = 0; k < n; ++k) {
-    HistoryUnit u;
-    u.unit_id = "u" + std::to_string(k);
-    u.path = u.unit_id + ".csv";
-    u.capture_sha256 = text_sha256(tag + std::to_string(k));
-    u.capture_bytes = 1000;
-    u.verdict = k % 7 == 0 ? "fail" : "pass";
-    u.deciding_figure = "dc_to_rms";
-    u.figures.push_back({"dc_to_rms", 0.001 * k, 0.0001, u.verdict, 0.01 - 0.001 * k});
-    h.units.push_back(u);
-  }
-  return h;
-}
-
 TEST(History, ReRunsAddNothingAndNewCapturesAreAdded) {
   const fs::path db = temp("rerun.sqlite");
   auto store = open_history(db.string());
-  RecordOutcome r = store->record(lot("L48", "a", 20));
+  RecordOutcome r = store->record(test::history_lot("L48", "a", 20));
   EXPECT_EQ(r.added, 20u);
-  r = store->record(lot("L48", "a", 20));
+  r = store->record(test::history_lot("L48", "a", 20));
   EXPECT_EQ(r.added, 0u);
   EXPECT_EQ(r.already, 20u);
-  r = store->record(lot("L48", "a", 25));  // five more units of the same lot
+  r = store->record(test::history_lot("L48", "a", 25));  // five more units of the same lot
   EXPECT_EQ(r.added, 5u);
   EXPECT_EQ(store->unit_count(), 25u);
   // Reopened: the same rows, the schema not made again.
   store.reset();
   EXPECT_EQ(open_history(db.string())->unit_count(), 25u);
   // A unit without a readable capture is not recorded.
-  HistoryLot unreadable = lot("L49", "b", 1);
+  HistoryLot unreadable = test::history_lot("L49", "b", 1);
   unreadable.units[0].capture_sha256.clear();
   EXPECT_EQ(open_history(db.string())->record(unreadable).unhashed, 1u);
 }
@@ -97,7 +72,8 @@ TEST(History, TwoStationsWritingAtOnceLoseAndDoubleNothing) {
   // lot at once.
   const auto station = [&db](const std::string& name, const std::string& tag) {
     auto s = open_history(db.string());
-    for (int batch = 0; batch < 10; ++batch) s->record(lot(name, tag, 20 * (batch + 1)));
+    for (int batch = 0; batch < 10; ++batch)
+      s->record(test::history_lot(name, tag, 20 * (batch + 1)));
   };
   std::thread a(station, "L50", "a");
   std::thread b(station, "L51", "b");

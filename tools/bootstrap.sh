@@ -8,7 +8,7 @@ root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 packages=(cmake make g++ pkg-config libfftw3-dev libsndfile1-dev libcli11-dev
           nlohmann-json3-dev libgtest-dev libgmock-dev libbenchmark-dev python3 python3-numpy
           zlib1g-dev liblzma-dev libzstd-dev libfast-float-dev libtomlplusplus-dev
-          libsqlite3-dev libssl-dev)
+          libsqlite3-dev libssl-dev libpq-dev postgresql)
 missing=()
 for p in "${packages[@]}"; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing+=("$p")

@@ -276,8 +276,8 @@ void setup_lot(CLI::App& app) {
                   "standard output)")
       ->type_name("FILE|-");
   sub->add_option("--history", options->history,
-                  "Record every judged unit in this history store (an SQLite file, created if "
-                  "absent); needs --lot")
+                  "Record every judged unit in this history store: an SQLite file (created if "
+                  "absent) or a postgresql:// URI; needs --lot")
       ->type_name("FILE");
   sub->add_option("--station", options->station,
                   "The test station recorded with each unit (default: this machine's name)");

@@ -33,12 +33,14 @@ void setup_trend(CLI::App& app) {
 
 void run_trend(const TrendOptions& o) {
   std::error_code ec;
-  if (!std::filesystem::exists(o.history, ec))
+  const bool uri = o.history.find("://") != std::string::npos;
+  if (!uri && !std::filesystem::exists(o.history, ec))
     throw InputError(o.history,
                      "no such history store; expected a file written by "
                      "`lopside lot --history`");
   const bool csv_replaces = o.json_path.empty() && o.csv_path == "-";
-  check_output_paths({o.history},
+  // A database URI is no file an output could overwrite.
+  check_output_paths(uri ? std::vector<std::string>{} : std::vector<std::string>{o.history},
                      {{"--json", o.json_path, true}, {"--csv", o.csv_path, csv_replaces}});
   std::optional<AtomicOutput> json_out, csv_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);

@@ -40,11 +40,12 @@ std::vector<std::pair<std::string, Limit>> parse_recorded_limits(const std::stri
 
 Trend build_trend(const std::vector<RecordedUnit>& units) {
   Trend t;
-  // Lots in the order their units come (the store's order), keyed by name, product, station.
+  // Lots in the order their units come (the store's order), keyed by name, product, limits.
   std::vector<std::vector<const RecordedUnit*>> groups;
   std::map<std::string, std::size_t> index;
   for (const RecordedUnit& u : units) {
-    const std::string key = u.lot + '\x1f' + u.product + '\x1f' + u.station + '\x1f' + u.limits;
+    // A lot judged in shards on several stations (README: several machines) is one lot.
+    const std::string key = u.lot + '\x1f' + u.product + '\x1f' + u.limits;
     auto [it, fresh] = index.emplace(key, groups.size());
     if (fresh) groups.emplace_back();
     groups[it->second].push_back(&u);
@@ -56,6 +57,8 @@ Trend build_trend(const std::vector<RecordedUnit>& units) {
     lot.name = first.lot;
     lot.product = first.product;
     lot.station = first.station;
+    for (const RecordedUnit* u : g)
+      if (u->station != first.station) lot.station = "several";
     lot.first_judged_utc = first.lot_first_judged_utc;
     lot.units = g.size();
     for (const RecordedUnit* u : g) {

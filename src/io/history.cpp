@@ -14,6 +14,7 @@
 #include <stdexcept>
 #include <thread>
 
+#include "history_postgres.hpp"
 #include "lopside/error.hpp"
 
 namespace lopside {
@@ -334,11 +335,9 @@ class SqliteHistory final : public HistoryStore {
 }  // namespace
 
 std::unique_ptr<HistoryStore> open_history(const std::string& where) {
-  if (where.rfind("postgresql://", 0) == 0 || where.rfind("postgres://", 0) == 0) {
-    throw InputError(where,
-                     "a PostgreSQL history store is not supported yet; expected the path "
-                     "of an SQLite file");
-  }
+  // A plant's stations share one PostgreSQL database, named by a libpq connection URI.
+  if (where.rfind("postgresql://", 0) == 0 || where.rfind("postgres://", 0) == 0)
+    return detail::open_postgres_history(where);
   return std::make_unique<SqliteHistory>(where);
 }
 
