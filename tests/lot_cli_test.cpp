@@ -81,6 +81,8 @@ TEST_F(Lot, EachUnitGetsItsVerdictAndTheLotStatusSaysNotAllPassed) {
                 s["not_measured"].get<int>(),
             5);
   EXPECT_EQ(s["not_measured"], 1);
+  // The lot's yield: units passing on every figure over all units.
+  EXPECT_DOUBLE_EQ(s["yield"].get<double>(), s["passed"].get<double>() / 5.0);
   EXPECT_EQ(j["decision_rule"], "guarded");
   EXPECT_EQ(j["product"], "tube supply 32 kHz");
 }
@@ -234,6 +236,25 @@ TEST_F(Lot, TheDemoLotGivesTheVerdictsItWasMadeFor) {
     if (id == "0497") expected = "not_measured";
     EXPECT_EQ(u["verdict"], expected) << id;
   }
+}
+
+TEST_F(Lot, UnitIdsFromAPatternOrAPreambleKey) {
+  const fs::path p = dir_ / "bench7-inv-0042-run2.csv";
+  const RunResult g = run({"-o", p.string(), "--frequency", "32000", "--rate", "1e6", "--duration",
+                           "0.005", "--peak", "0.025", "--preamble", "--meta", "Serial=SN-77-0042"},
+                          LOPSIDE_SYNTH);
+  ASSERT_EQ(g.status, 0) << g.err;
+  const std::string limits = "\n[limits.rms_a]\nmin = 0.010\nmax = 0.030\n";
+  const fs::path by_key =
+      file("key.toml", "[lot]\nunit_id = \"key\"\nunit_id_key = \"serial\"\n" + limits);
+  EXPECT_EQ(lot_json({p.string(), "--limits", by_key.string()}, 0)["units"][0]["id"], "SN-77-0042");
+  const fs::path by_pattern =
+      file("pattern.toml",
+           "[lot]\nunit_id = \"pattern\"\nunit_id_pattern = \"inv-(\\\\d+)\"\n" + limits);
+  EXPECT_EQ(lot_json({p.string(), "--limits", by_pattern.string()}, 0)["units"][0]["id"], "0042");
+  const fs::path by_stem = file("stem.toml", limits);
+  EXPECT_EQ(lot_json({p.string(), "--limits", by_stem.string()}, 0)["units"][0]["id"],
+            "bench7-inv-0042-run2");
 }
 
 TEST_F(Lot, BadLimitsOrNoCapturesAreBadInput) {

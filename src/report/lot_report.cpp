@@ -124,10 +124,17 @@ void write_lot_text(std::ostream& out, const LotReport& r) {
   }
   const LotSummary& s = r.summary;
   out << '\n';
-  report_detail::line(out, "units",
-                      std::to_string(s.count) + ": " + std::to_string(s.passed) + " passed, " +
-                          std::to_string(s.failed) + " failed, " + std::to_string(s.conditional) +
-                          " conditional, " + std::to_string(s.not_measured) + " not measured");
+  report_detail::line(
+      out, "units",
+      std::to_string(s.count) + ": " + std::to_string(s.passed) + " passed, " +
+          std::to_string(s.failed) + " failed, " + std::to_string(s.conditional) +
+          " conditional, " + std::to_string(s.not_measured) + " not measured" +
+          (s.count
+               ? "; yield " +
+                     report_detail::fixed(
+                         100.0 * static_cast<double>(s.passed) / static_cast<double>(s.count), 1) +
+                     " %"
+               : std::string()));
   // The units that did not pass, failures first.
   for (const LotVerdict v : {LotVerdict::fail, LotVerdict::conditional, LotVerdict::not_measured}) {
     for (const LotUnit& u : r.units) {
@@ -215,6 +222,8 @@ void write_lot_json(std::ostream& out, const LotReport& r) {
   sum["failed"] = s.failed;
   sum["conditional"] = s.conditional;
   sum["not_measured"] = s.not_measured;
+  // The lot's yield: units that passed on every limited figure, over all units judged.
+  sum["yield"] = s.count ? static_cast<double>(s.passed) / static_cast<double>(s.count) : 0.0;
   json figs = json::object();
   for (std::size_t k = 0; k < s.figures.size(); ++k) {
     const auto& [name, st] = s.figures[k];
