@@ -21,7 +21,7 @@ namespace lopside::test {
 namespace {
 
 // Rows of a 1 MS/s capture, "time,current,voltage", numbers of our own: enough rows that the
-// reader's runs (512 KiB) are split in halves and there are several runs.
+// reader's runs (256 KiB) are split in halves and there are several runs.
 constexpr int kRows = 120000;
 
 std::string row(int n) {

@@ -22,8 +22,8 @@ namespace lopside {
 
 class HarmonicFeed {
  public:
-  static constexpr std::size_t kBatchSamples = std::size_t{1} << 16;
-  static constexpr std::size_t kBatches = 4;
+  static constexpr std::size_t kBatchSamples = std::size_t{1} << 15;
+  static constexpr std::size_t kBatches = 3;
 
   explicit HarmonicFeed(const HarmonicConfig& config);
   /// Stops the thread without finishing (after an error elsewhere).

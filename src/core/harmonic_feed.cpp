@@ -87,7 +87,7 @@ void HarmonicFeed::run() {
     {
       std::lock_guard<std::mutex> lock(mutex_);
       if (error) error_ = error;
-      if (spare_.size() < kBatches) spare_.push_back(std::move(b));
+      if (spare_.size() < 2) spare_.push_back(std::move(b));  // reused storage, bounded
     }
     changed_.notify_all();
     if (error) return;

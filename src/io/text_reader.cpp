@@ -2405,7 +2405,7 @@ class TextReader final : public SampleSource {
   std::size_t pending_at_ = 0;
   // Rows are parsed a run of about kBatchBytes at a time, in two halves on two threads when
   // the run is at least kParallelBytes (below that a thread costs more than it saves).
-  static constexpr std::size_t kBatchBytes = std::size_t{512} << 10;
+  static constexpr std::size_t kBatchBytes = std::size_t{256} << 10;
   static constexpr std::size_t kParallelBytes = std::size_t{64} << 10;
   Run runs_[2];
   std::size_t run_at_ = 0;
