@@ -17,6 +17,10 @@ std::string format_with_uncertainty(double value, double u95, std::string_view u
 /// A dimensionless ratio as a percentage with its uncertainty: "50.17 % ± 0.05 %".
 std::string format_percent_with_uncertainty(double share, double u95, bool signed_always);
 
+/// A value without an uncertainty, with the SI prefix its size calls for and four significant
+/// digits: "495.1 µA", "1.021 kV"; a plain number ("0.00761") when `unit` is empty.
+std::string format_si(double value, std::string_view unit);
+
 /// A dimensionless figure with its uncertainty: "+0.0078 ± 0.0002".
 std::string format_ratio_with_uncertainty(double value, double u95, bool signed_always);
 

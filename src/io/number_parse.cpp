@@ -3,9 +3,6 @@
 #include <array>
 #include <charconv>
 #include <cmath>
-#include <cstdlib>
-#include <cstring>
-#include <string>
 
 #include "lopside/units.hpp"
 #include "number_parse_inline.hpp"

@@ -11,7 +11,9 @@
 
 namespace lopside {
 
+using report_detail::csv_field;
 using report_detail::json;
+using report_detail::optional_number;
 using report_detail::pad;
 
 std::string figure_unit(const std::string& name) {
@@ -34,35 +36,6 @@ std::string figure_unit(const std::string& name) {
 
 namespace {
 
-// A number in the figure's unit with an SI prefix chosen by its size ("0.49 mA", "1.2 kV"),
-// four significant digits; a plain number for a figure without a unit.
-std::string si(double v, const std::string& unit) {
-  if (unit.empty() || v == 0 || !std::isfinite(v)) {
-    std::array<char, 48> buf{};
-    std::snprintf(buf.data(), buf.size(), "%.4g", v);
-    return std::string(buf.data()) + (unit.empty() ? "" : " " + unit);
-  }
-  static const std::array<std::pair<double, const char*>, 7> prefixes = {{
-      {1e9, "G"},
-      {1e6, "M"},
-      {1e3, "k"},
-      {1, ""},
-      {1e-3, "m"},
-      {1e-6, "\xC2\xB5"},
-      {1e-9, "n"},
-  }};
-  std::pair<double, const char*> p = prefixes.back();
-  for (const auto& candidate : prefixes) {
-    if (std::fabs(v) >= candidate.first * (1 - 1e-12)) {
-      p = candidate;
-      break;
-    }
-  }
-  std::array<char, 48> buf{};
-  std::snprintf(buf.data(), buf.size(), "%.4g", v / p.first);
-  return std::string(buf.data()) + " " + p.second + unit;
-}
-
 // A value as people read it: with its unit and SI prefix, and its u95 where known.
 std::string shown(const std::string& name, const FigureValue& v) {
   const std::string unit = figure_unit(name);
@@ -70,14 +43,14 @@ std::string shown(const std::string& name, const FigureValue& v) {
     if (unit.empty()) return format_ratio_with_uncertainty(v.value, *v.u95, false);
     return format_with_uncertainty(v.value, *v.u95, unit, false);
   }
-  return si(v.value, unit);
+  return format_si(v.value, unit);
 }
 
 std::string limit_text(const std::string& name, const Limit& l) {
   const std::string unit = figure_unit(name);
-  if (l.min && l.max) return si(*l.min, unit) + " … " + si(*l.max, unit);
-  if (l.min) return "≥ " + si(*l.min, unit);
-  return "≤ " + si(*l.max, unit);
+  if (l.min && l.max) return format_si(*l.min, unit) + " … " + format_si(*l.max, unit);
+  if (l.min) return "≥ " + format_si(*l.min, unit);
+  return "≤ " + format_si(*l.max, unit);
 }
 
 std::string deciding_text(const LotUnit& u) {
@@ -86,7 +59,8 @@ std::string deciding_text(const LotUnit& u) {
   const LotFigure& f = u.figures[*u.deciding];
   if (!f.value) return f.name + ": not in the measurement";
   return f.name + " " + shown(f.name, *f.value) + ", margin " +
-         si(f.decision.margin, figure_unit(f.name)) + " to " + (f.decision.at_min ? "min" : "max");
+         format_si(f.decision.margin, figure_unit(f.name)) + " to " +
+         (f.decision.at_min ? "min" : "max");
 }
 
 // The ids of the units that have limited figure k, in lot order: the statistics' values, so
@@ -96,10 +70,6 @@ std::vector<std::string> ids_with_figure(const LotReport& r, std::size_t k) {
   for (const LotUnit& u : r.units)
     if (k < u.figures.size() && u.figures[k].value) ids.push_back(u.id);
   return ids;
-}
-
-json optional_number(const std::optional<double>& v) {
-  return v && std::isfinite(*v) ? json(*v) : json(nullptr);
 }
 
 json limit_json(const Limit& l) {
@@ -147,9 +117,9 @@ void write_lot_text(std::ostream& out, const LotReport& r) {
     out << '\n';
     const std::string unit = figure_unit(name);
     report_detail::line(out, name,
-                        std::to_string(st.count) + " values, mean " + si(st.mean, unit) + ", sd " +
-                            si(st.sd, unit) + ", min " + si(st.min, unit) + ", max " +
-                            si(st.max, unit));
+                        std::to_string(st.count) + " values, mean " + format_si(st.mean, unit) +
+                            ", sd " + format_si(st.sd, unit) + ", min " + format_si(st.min, unit) +
+                            ", max " + format_si(st.max, unit));
     std::string idx = "yield " + report_detail::fixed(100 * st.yield, 1) + " %";
     const auto opt = [](const char* label, const std::optional<double>& v) {
       return std::string(", ") + label + " " + (v ? report_detail::fixed(*v, 2) : "n/a");
@@ -159,8 +129,8 @@ void write_lot_text(std::ostream& out, const LotReport& r) {
     if (st.chart) {
       const ControlChart& c = *st.chart;
       const std::vector<std::string> ids = ids_with_figure(r, k);
-      std::string chart = "individuals " + si(c.lcl, unit) + " … " + si(c.ucl, unit) +
-                          ", moving range ≤ " + si(c.mr_ucl, unit);
+      std::string chart = "individuals " + format_si(c.lcl, unit) + " … " + format_si(c.ucl, unit) +
+                          ", moving range ≤ " + format_si(c.mr_ucl, unit);
       // Points named by their unit; a moving range by the unit that ends it.
       if (!c.beyond.empty()) {
         chart += "; outside:";
@@ -265,14 +235,6 @@ void write_lot_json(std::ostream& out, const LotReport& r) {
 }
 
 namespace {
-
-// RFC 4180: a field with a comma, quote or line end is quoted, quotes doubled.
-std::string csv_field(const std::string& s) {
-  if (s.find_first_of(",\"\r\n") == std::string::npos) return s;
-  std::string q = "\"";
-  for (const char c : s) q += c == '"' ? std::string("\"\"") : std::string(1, c);
-  return q + "\"";
-}
 
 std::string csv_number(double v) {
   std::array<char, 48> buf{};

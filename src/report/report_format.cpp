@@ -88,4 +88,11 @@ std::string format_ratio_with_uncertainty(double value, double u95, bool signed_
   return out;
 }
 
+std::string format_si(double value, std::string_view unit) {
+  if (unit.empty()) return printf_string("%.*g", 4, value);
+  const SiPrefix p = prefix_for(std::fabs(value));
+  return printf_string("%.*g", 4, value / p.factor) + " " + std::string(p.symbol) +
+         std::string(unit);
+}
+
 }  // namespace lopside

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <cstdio>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <ostream>
 #include <string>
 #include <utility>
@@ -48,6 +49,19 @@ inline json metadata_json(const std::vector<std::pair<std::string, std::string>>
     j[k] = value;
   }
   return j;
+}
+
+/// A number that may be missing or not finite: null in JSON.
+inline json optional_number(const std::optional<double>& v) {
+  return v && std::isfinite(*v) ? json(*v) : json(nullptr);
+}
+
+/// A CSV field (RFC 4180): quoted when it holds a comma, quote or line end, quotes doubled.
+inline std::string csv_field(const std::string& s) {
+  if (s.find_first_of(",\"\r\n") == std::string::npos) return s;
+  std::string q = "\"";
+  for (const char c : s) q += c == '"' ? std::string("\"\"") : std::string(1, c);
+  return q + "\"";
 }
 
 inline std::string fixed(double v, int decimals) {

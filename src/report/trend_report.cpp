@@ -10,7 +10,9 @@
 
 namespace lopside {
 
+using report_detail::csv_field;
 using report_detail::json;
+using report_detail::optional_number;
 using report_detail::pad;
 
 namespace {
@@ -23,10 +25,6 @@ std::string g(double v, int digits = 4) {
 
 std::string index_text(const std::optional<double>& v) {
   return v ? report_detail::fixed(*v, 2) : std::string("n/a");
-}
-
-json optional_number(const std::optional<double>& v) {
-  return v && std::isfinite(*v) ? json(*v) : json(nullptr);
 }
 
 std::string yield_pct(const TrendLot& l) {
@@ -153,19 +151,13 @@ void write_trend_json(std::ostream& out, const Trend& t, const std::string& stor
 
 void write_trend_csv(std::ostream& out, const Trend& t) {
   out << "lot,product,station,first_judged_utc,figure,count,mean,sd,cpk,ppk,yield\n";
-  const auto field = [](const std::string& s) {
-    if (s.find_first_of(",\"\r\n") == std::string::npos) return s;
-    std::string q = "\"";
-    for (const char c : s) q += c == '"' ? std::string("\"\"") : std::string(1, c);
-    return q + "\"";
-  };
   const auto num = [](const std::optional<double>& v) {
     return v && std::isfinite(*v) ? g(*v, 17) : std::string();
   };
   for (const TrendLot& l : t.lots) {
     for (const auto& [name, st] : l.figures) {
-      out << field(l.name) << ',' << field(l.product) << ',' << field(l.station) << ','
-          << l.first_judged_utc << ',' << field(name) << ',' << st.count << ','
+      out << csv_field(l.name) << ',' << csv_field(l.product) << ',' << csv_field(l.station) << ','
+          << l.first_judged_utc << ',' << csv_field(name) << ',' << st.count << ','
           << (st.count ? g(st.mean, 17) : "") << ',' << (st.count >= 2 ? g(st.sd, 17) : "") << ','
           << num(st.cpk) << ',' << num(st.ppk) << ',' << g(st.yield, 17) << '\n';
     }
