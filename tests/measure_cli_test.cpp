@@ -1,6 +1,8 @@
 // `lopside measure` run as a user runs it, on the shipped samples (whose truth samples/README.md
 // derives from the generator's formulas) and on bad input.
+#include <array>
 #include <cmath>
+#include <cstdio>
 #include <fstream>
 #include <regex>
 #include <string>
@@ -113,7 +115,7 @@ TEST_F(Measure, ClippedSampleIsFlagged) {
 }
 
 TEST_F(Measure, TextSummaryShowsSignedFiguresWithUncertainty) {
-  const RunResult r = run({"measure", kSamples + "bt32k-unit0417-dc-fault.csv"});
+  const RunResult r = run({"measure", kSamples + "bt32k-unit0417-dc-fault.csv", "--full"});
   ASSERT_EQ(r.status, 0) << r.err;
   EXPECT_NE(r.out.find("DC offset           +1.0"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find(" mA \xC2\xB1 "), std::string::npos);
@@ -292,7 +294,7 @@ TEST_F(Measure, DiagnosisOfEachSample) {
 }
 
 TEST_F(Measure, TextEndsWithVerdictNextStepsAndCaution) {
-  const RunResult r = run({"measure", kSamples + "bt32k-unit0417-dc-fault.csv"});
+  const RunResult r = run({"measure", kSamples + "bt32k-unit0417-dc-fault.csv", "--full"});
   ASSERT_EQ(r.status, 0) << r.err;
   EXPECT_NE(r.out.find("VERDICT             driver_imbalance"), std::string::npos) << r.out;
   EXPECT_NE(r.out.find("next: Check the inverter's switch timing"), std::string::npos);
@@ -369,7 +371,7 @@ TEST_F(MeasureDcShare, PureSineDcShareIsNotSignificant) {
 }
 
 TEST_F(MeasureDcShare, TextShowsDcSharesAndFundamentalDigitsItsU95Supports) {
-  const RunResult r = run({"measure", synth_sine("text.csv", "0.001").string()});
+  const RunResult r = run({"measure", synth_sine("text.csv", "0.001").string(), "--full"});
   ASSERT_EQ(r.status, 0) << r.err;
   // "DC / RMS            +7.05 % ± 0.0x %" (the value is 7.052 %, analytic, see above).
   EXPECT_NE(r.out.find("DC / RMS            +7.0"), std::string::npos) << r.out;
@@ -403,7 +405,7 @@ namespace {
 // the fundamental's u95 is rounding, ~4e-13 of the value: it is bounded, not printed as
 // "± 4.3e-13 kHz", and the value shows 10 significant digits.
 TEST_F(Measure, FundamentalWithNegligibleU95IsBounded) {
-  const RunResult r = run({"measure", kSamples + "bt40k-unit0521-export.csv"});
+  const RunResult r = run({"measure", kSamples + "bt40k-unit0521-export.csv", "--full"});
   ASSERT_EQ(r.status, 0) << r.err;
   EXPECT_NE(r.out.find("fundamental         40.00000000 kHz \xC2\xB1 < 1e-9 relative"),
             std::string::npos)
@@ -414,6 +416,96 @@ TEST_F(Measure, FundamentalWithNegligibleU95IsBounded) {
   const double truth = 0.0012 / std::sqrt(0.018 * 0.018 / 2 + 0.0012 * 0.0012 + 0.0001 * 0.0001);
   EXPECT_NEAR(j["dc_to_rms"]["value"].get<double>(), truth,
               j["dc_to_rms"]["u95"].get<double>() + 3e-4 * 0.018 / 0.0128);
+}
+
+// Issue 12, item 4: the default summary fits a 25 × 100 screen with its warnings, verdict
+// first, warnings on standard error after it; --full keeps the whole listing.
+std::vector<std::string> lines_of(const std::string& text) {
+  std::vector<std::string> lines;
+  std::size_t at = 0;
+  while (at < text.size()) {
+    const std::size_t end = text.find('\n', at);
+    lines.push_back(text.substr(at, end == std::string::npos ? std::string::npos : end - at));
+    at = end == std::string::npos ? text.size() : end + 1;
+  }
+  return lines;
+}
+
+std::size_t terminal_columns(const std::string& line) {
+  std::size_t n = 0;
+  for (const char c : line) n += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
+  return n;
+}
+
+TEST_F(Measure, DefaultSummaryFitsAScreen) {
+  for (const char* sample :
+       {"bt32k-unit0412-healthy.csv", "bt32k-unit0417-dc-fault.csv", "bt32k-unit0433-clipped.tsv",
+        "bt40k-unit0521-export.csv", "bt60hz-xfmr-glow.csv"}) {
+    const RunResult r = run({"measure", kSamples + sample});
+    ASSERT_EQ(r.status, 0) << r.err;
+    const auto out = lines_of(r.out), err = lines_of(r.err);
+    EXPECT_LE(out.size() + err.size(), 25u) << sample << "\n" << r.out << r.err;
+    for (const auto& l : out) EXPECT_LE(terminal_columns(l), 100u) << sample << ": " << l;
+    for (const auto& l : err) EXPECT_LE(terminal_columns(l), 100u) << sample << ": " << l;
+    // The verdict comes before the figures; the caution is there; nothing mentions fV.
+    const auto verdict = r.out.find("VERDICT"), dc = r.out.find("DC offset");
+    ASSERT_NE(verdict, std::string::npos) << r.out;
+    ASSERT_NE(dc, std::string::npos) << r.out;
+    EXPECT_LT(verdict, dc);
+    EXPECT_NE(r.out.find("High voltage can kill"), std::string::npos);
+    EXPECT_EQ(r.out.find(" fV"), std::string::npos) << r.out;
+    EXPECT_EQ(r.out.find("e-1"), std::string::npos) << r.out;  // no "± 3.9e-16"
+    EXPECT_EQ(r.out.find("warning"), std::string::npos) << "warnings belong on stderr";
+    for (const auto& l : err) EXPECT_EQ(l.rfind("warning: ", 0), 0u) << l;
+  }
+}
+
+TEST_F(Measure, SummaryShowsTheFiguresOfTheJsonWithU95) {
+  // The dc-fault sample: DC +1.072 mA ± 0.013 mA in the JSON (see UnequalHalfPeriodsSample);
+  // the summary prints the same value rounded to its u95's second digit (GUM 7.2.6).
+  const RunResult r = run({"measure", kSamples + "bt32k-unit0417-dc-fault.csv"});
+  const json j = measure_json(kSamples + "bt32k-unit0417-dc-fault.csv");
+  const double dc_ma = 1e3 * j["dc_offset_a"]["value"].get<double>();
+  const double u_ma = 1e3 * j["dc_offset_a"]["u95"].get<double>();
+  std::array<char, 96> want{};
+  std::snprintf(want.data(), want.size(), "DC offset           %+.3f mA \xC2\xB1 %.3f mA", dc_ma,
+                u_ma);
+  EXPECT_NE(r.out.find(want.data()), std::string::npos) << want.data() << "\n" << r.out;
+  EXPECT_NE(r.out.find("VERDICT  The supply switches unevenly"), std::string::npos) << r.out;
+}
+
+TEST_F(Measure, HtmlReportIsWrittenAtomicallyAndSelfContained) {
+  const fs::path out_dir = dir_ / "out";
+  fs::create_directories(out_dir);
+  const fs::path html = out_dir / "report.html";
+  const RunResult r = run({"measure", kSamples + "bt60hz-xfmr-glow.csv", "--html", html.string()});
+  ASSERT_EQ(r.status, 0) << r.err;
+  std::ifstream in(html);
+  const std::string page((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+  EXPECT_EQ(page.rfind("<!DOCTYPE html>", 0), 0u);
+  EXPECT_NE(page.find("</html>"), std::string::npos);
+  for (const char* id :
+       {"chart-average-cycle", "chart-average-voltage", "chart-cycle-strip", "chart-course-dc",
+        "chart-course-asymmetry", "chart-spectrum", "chart-heating"}) {
+    EXPECT_NE(page.find(std::string("id=\"") + id + "\""), std::string::npos) << id;
+  }
+  // No request: the only URL is the SVG namespace; no link, no src, a CSP that forbids loads.
+  std::size_t at = 0, urls = 0;
+  while ((at = page.find("://", at)) != std::string::npos) {
+    at = page.rfind("http", at);
+    EXPECT_EQ(page.compare(at, 26, "http://www.w3.org/2000/svg"), 0) << page.substr(at, 60);
+    ++urls;
+    at += 7;
+  }
+  EXPECT_GT(urls, 0u);
+  EXPECT_EQ(page.find("<link"), std::string::npos);
+  EXPECT_EQ(page.find(" src="), std::string::npos);
+  EXPECT_NE(page.find("default-src 'none'"), std::string::npos);
+  EXPECT_NE(page.find("High voltage can kill"), std::string::npos);
+  // No temporary file left beside it.
+  std::size_t files = 0;
+  for ([[maybe_unused]] const auto& e : fs::directory_iterator(out_dir)) ++files;
+  EXPECT_EQ(files, 1u);
 }
 
 }  // namespace

@@ -151,7 +151,7 @@ TEST_P(NonPeriodicVoltage, DefaultUsesTheCurrentAndSaysWhy) {
   EXPECT_EQ(j["partial_cycles"].get<long>(), 2);
   EXPECT_NEAR(j["dc_offset_a"]["value"].get<double>(), kDc, 3e-4 * kPeak);
   // The text output says it too.
-  const RunResult t = run({"measure", p.string()});
+  const RunResult t = run({"measure", p.string(), "--full"});
   ASSERT_EQ(t.status, 0) << t.err;
   EXPECT_NE(t.out.find("rising crossings of the current"), std::string::npos) << t.out;
   EXPECT_NE(t.out.find("not periodic"), std::string::npos) << t.out;
@@ -220,7 +220,7 @@ TEST_F(RecordSanity, GlitchIsLeftOutAndSaidInEveryOutput) {
                       j["left_out_cycles"]["neighbour"].get<long>();
   EXPECT_GE(pieces, 500);
   EXPECT_LE(pieces, 501);
-  const RunResult t = run({"measure", p.string()});
+  const RunResult t = run({"measure", p.string(), "--full"});
   ASSERT_EQ(t.status, 0) << t.err;
   EXPECT_NE(t.out.find("glitch"), std::string::npos) << t.out;
 }
@@ -260,7 +260,7 @@ TEST_F(RecordSanity, TwoWholeCyclesWarnAndCarryAnHonestU95) {
   EXPECT_GT(u95, 0.0);
   EXPECT_NEAR(j["fundamental_hz"]["value"].get<double>(), kF, u95);
   EXPECT_TRUE(any_warning_has(j, "poorly determined")) << j["warnings"];
-  const RunResult t = run({"measure", p.string()});
+  const RunResult t = run({"measure", p.string(), "--full"});
   ASSERT_EQ(t.status, 0) << t.err;
   EXPECT_NE(t.out.find("poorly determined"), std::string::npos) << t.out;
 }

@@ -9,6 +9,12 @@ packages=(cmake make g++ pkg-config libfftw3-dev libsndfile1-dev libcli11-dev
           nlohmann-json3-dev libgtest-dev libgmock-dev libbenchmark-dev python3 python3-numpy
           zlib1g-dev liblzma-dev libzstd-dev libfast-float-dev libtomlplusplus-dev
           libsqlite3-dev libssl-dev libpq-dev postgresql)
+# The test suite also opens the HTML reports in a real browser (tests/browser/): Debian's
+# Chromium and a font, installed only when the tests will run (tools/test-all sets this), so the
+# quick start's first command stays small.
+if [ "${LOPSIDE_BROWSER_TESTS:-0}" = 1 ]; then
+  packages+=(chromium fonts-dejavu-core)
+fi
 missing=()
 for p in "${packages[@]}"; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing+=("$p")

@@ -3,6 +3,7 @@
 /// What `lopside measure` found, and its renderings: a text summary for the bench, a versioned
 /// JSON document, and the streamed per-cycle CSV table.
 
+#include <cstddef>
 #include <iosfwd>
 #include <optional>
 #include <string>
@@ -24,6 +25,20 @@ inline constexpr const char* kHighVoltageCaution =
 /// Aligned lines with SI prefixes, signs shown, each figure with its u95; ends with warnings
 /// and the sign convention.
 void write_measure_text(std::ostream& out, const MeasureResult& result);
+
+/// The default terminal summary, made to fit one screen: the verdict first, then the figures
+/// that matter with their u95, the caution; warnings go to `warn` (standard error) after it.
+/// Together at most `max_lines` lines of at most `width` columns: warnings beyond the room left
+/// are counted, each cut to one line (the full listing and the JSON have them whole).
+void write_measure_summary(std::ostream& out, std::ostream& warn, const MeasureResult& result,
+                           std::size_t max_lines = 25, std::size_t width = 100);
+
+/// The whole result as one self-contained HTML page (inline SVG and CSS, no request): verdict,
+/// evidence, next steps and the caution first; the average cycle with its mirrored negative
+/// half and a strip of real cycles (when result.picture is set); the DC and the charge
+/// asymmetry over the record; the spectrum; the electrode heating; every figure with its u95;
+/// the capture's metadata and warnings. Figures carry data-key (their JSON path) and data-value.
+void write_measure_html(std::ostream& out, const MeasureResult& result);
 
 /// One JSON object, schema kMeasureSchema, SI units with unit suffixes in the keys; a figure
 /// with an uncertainty is {value, u95, k}.

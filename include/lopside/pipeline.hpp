@@ -16,6 +16,7 @@
 #include <vector>
 
 #include "lopside/cycle_engine.hpp"
+#include "lopside/cycle_picture.hpp"
 #include "lopside/diagnosis.hpp"
 #include "lopside/sample_source.hpp"
 #include "lopside/time_course.hpp"
@@ -39,6 +40,7 @@ struct MeasureResult {
   Diagnosis diagnosis;
   std::optional<HeatingShare> heating;  ///< measure fills it; swap does not
   std::vector<std::string> warnings;    ///< reader's, then the engine's
+  std::optional<CyclePicture> picture;  ///< the waveform to draw, when settings.picture asked
 };
 
 /// How one capture is measured.
@@ -52,6 +54,8 @@ struct MeasureSettings {
   std::size_t block_cycles = 10;  ///< harmonic block length for non-mains captures
   std::size_t max_order = 40;     ///< highest harmonic order; 0 skips the harmonics
   CycleReference reference = CycleReference::automatic;
+  /// Keep the average cycle and a strip of real cycles for a report's plots (4 MiB more).
+  bool picture = false;
 };
 
 /// Opens the capture afresh (from its start) each time it is called.

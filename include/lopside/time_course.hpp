@@ -26,6 +26,10 @@ struct CoursePoint {
   double dc_offset_a = 0;
   double charge_asymmetry = 0;
   std::uint64_t cycles = 0;
+  /// The extremes of the single cycles' values the point stands for: the envelope a plot draws
+  /// so that one odd cycle in a million still shows after decimation.
+  double dc_min_a = 0, dc_max_a = 0;
+  double asymmetry_min = 0, asymmetry_max = 0;
 };
 
 /// y(t) = plateau + (initial − plateau)·e^(−(t − t0)/τ), fitted by least squares.

@@ -75,6 +75,7 @@ MeasureSettings measure_settings(const AnalysisOptions& o) {
   settings.max_order = o.max_order;
   if (o.reference == "voltage") settings.reference = CycleReference::voltage;
   if (o.reference == "current") settings.reference = CycleReference::current;
+  settings.picture = o.picture;
   return settings;
 }
 

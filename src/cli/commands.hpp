@@ -41,6 +41,7 @@ struct AnalysisOptions {
   std::size_t max_order = 40;      ///< highest harmonic order asked for; 0: no harmonics
   std::string reference = "auto";  ///< "auto", "current" or "voltage": what sets the cycles
   ReaderOptions reader;
+  bool picture = false;  ///< keep the average cycle and a strip of cycles (an HTML report)
 };
 
 /// Binds --probe-offset, --probe-gain-pct, --zero, --block-cycles, --max-order and the reader
@@ -66,6 +67,8 @@ struct MeasureOptions {
   std::string regime = "glow";             ///< electrode heating split: glow (70:30) or arc (30:70)
   std::optional<double> cathode_share;     ///< overrides the regime's cathode share, 0…1
   std::optional<double> erosion_ug_per_c;  ///< cathode erosion rate for the erosion estimate
+  bool full = false;                       ///< the full listing instead of the summary
+  std::string html_path;                   ///< the HTML report; empty for none
 };
 
 void setup_measure(CLI::App& app);

@@ -27,6 +27,9 @@ void setup_measure(CLI::App& app) {
          "--json", options->json_path,
          "Also write the results as JSON to FILE; '-' writes them alone to standard output")
       ->type_name("FILE|-");
+  sub->add_option("--html", options->html_path,
+                  "Also write a self-contained HTML report with plots to FILE (printable on A4)")
+      ->type_name("FILE.html");
   sub->add_option("--cycles", options->cycles_path, "Write the per-cycle table as CSV to FILE")
       ->type_name("FILE.csv");
   sub->add_option("--spectrum", options->spectrum_path,
@@ -42,6 +45,9 @@ void setup_measure(CLI::App& app) {
   sub->add_option("--erosion-ug-per-c", options->erosion_ug_per_c,
                   "Cathode erosion per coulomb [µg/C], for an erosion estimate per hour")
       ->check(CLI::NonNegativeNumber);
+  sub->add_flag("--full", options->full,
+                "Print every figure, the harmonic table and the evidence (the default is a "
+                "summary that fits one screen)");
   add_analysis_flags(*sub, options->analysis);
   sub->callback([options]() { run_measure(*options); });
 }
@@ -52,9 +58,11 @@ void run_measure(const MeasureOptions& o) {
                 o.analysis.reader.with_paths.end());
   check_output_paths(inputs, {{"--json", o.json_path, true},
                               {"--cycles", o.cycles_path},
-                              {"--spectrum", o.spectrum_path}});
+                              {"--spectrum", o.spectrum_path},
+                              {"--html", o.html_path}});
   // Outputs are opened first so that an unwritable target fails before a long read.
-  std::optional<AtomicOutput> json_out, cycles_out, spectrum_out;
+  std::optional<AtomicOutput> json_out, cycles_out, spectrum_out, html_out;
+  if (!o.html_path.empty()) html_out.emplace(o.html_path);
   if (!o.json_path.empty()) json_out.emplace(o.json_path);
   if (!o.cycles_path.empty()) cycles_out.emplace(o.cycles_path);
   if (!o.spectrum_path.empty()) spectrum_out.emplace(o.spectrum_path);
@@ -67,7 +75,9 @@ void run_measure(const MeasureOptions& o) {
     if (!cycles) cycles.emplace(cycles_out->stream(), r.has_voltage);
     cycles->write(r);
   };
-  MeasureResult result = analyse_capture(o.analysis, per_cycle);
+  AnalysisOptions analysis = o.analysis;
+  analysis.picture = html_out.has_value();
+  MeasureResult result = analyse_capture(analysis, per_cycle);
   // Cathode-dominant 70:30 for glows, anode-dominant 30:70 for arcs (DOMAIN.md: common
   // practice; a parameter with a default per regime, never a constant).
   const double regime_share = o.regime == "arc" ? 0.3 : 0.7;
@@ -84,7 +94,16 @@ void run_measure(const MeasureOptions& o) {
     write_measure_json(json_out->stream(), result);
     json_out->commit();
   }
-  if (!json_out || !json_out->is_stdout()) write_measure_text(std::cout, result);
+  if (html_out) {
+    write_measure_html(html_out->stream(), result);
+    html_out->commit();
+  }
+  if (!json_out || !json_out->is_stdout()) {
+    if (o.full)
+      write_measure_text(std::cout, result);
+    else
+      write_measure_summary(std::cout, std::cerr, result);
+  }
   std::cout.flush();
   if (!std::cout) throw std::runtime_error("cannot write to standard output");
 }

@@ -134,8 +134,12 @@ MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o
   }
 
   TimeCourse course;
-  CycleEngine engine(config, [&per_cycle, &course](const CycleRecord& r) {
+  std::optional<CyclePictureBuilder> picture;
+  if (o.picture)
+    picture.emplace(info.sample_rate_hz, info.start_time_s, *current, voltage, zero.value_a);
+  CycleEngine engine(config, [&per_cycle, &course, &picture](const CycleRecord& r) {
     course.add(r);
+    if (picture) picture->on_cycle(r);
     if (per_cycle) per_cycle(r);
   });
 
@@ -151,6 +155,8 @@ MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o
     ReadAhead reader(*source, kBlockFrames / 4);
     const SampleBlock* block = nullptr;
     while (reader.next(block)) {
+      // The picture's ring first: the engine reports a cycle only once its frames are in.
+      if (picture) picture->add_block(*block);
       engine.consume(*block);
       frames += block->frames;
       const double share = stated_frames
@@ -191,6 +197,7 @@ MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o
   result.summary = summary;
   result.time_course = course.finish();
   result.diagnosis = diagnose(summary, result.time_course);
+  if (picture) result.picture = picture->finish();
   result.warnings = source->warnings();
   for (const auto& w : unit_warnings) result.warnings.push_back(w);
   for (const auto& w : summary.warnings) result.warnings.push_back(w);

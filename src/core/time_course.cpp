@@ -230,6 +230,15 @@ void TimeCourse::add(const CycleRecord& c) {
   total_ac2_t_ += c.ac_rms_a * c.ac_rms_a * c.period_s;
   total_t_ += c.period_s;
   total_q_ += q;
+  if (open_.cycles == 0) {
+    open_.dc_min_a = open_.dc_max_a = c.mean_a;
+    open_.asymmetry_min = open_.asymmetry_max = c.charge_asymmetry;
+  } else {
+    open_.dc_min_a = std::min(open_.dc_min_a, c.mean_a);
+    open_.dc_max_a = std::max(open_.dc_max_a, c.mean_a);
+    open_.asymmetry_min = std::min(open_.asymmetry_min, c.charge_asymmetry);
+    open_.asymmetry_max = std::max(open_.asymmetry_max, c.charge_asymmetry);
+  }
   ++open_.cycles;
   if (open_.cycles < per_point_) return;
   open_.time_s = sum_t_ / static_cast<double>(open_.cycles);
@@ -252,7 +261,11 @@ void TimeCourse::add(const CycleRecord& c) {
           (a.charge_asymmetry * static_cast<double>(a.cycles) +
            b.charge_asymmetry * static_cast<double>(b.cycles)) /
               w,
-          a.cycles + b.cycles};
+          a.cycles + b.cycles,
+          std::min(a.dc_min_a, b.dc_min_a),
+          std::max(a.dc_max_a, b.dc_max_a),
+          std::min(a.asymmetry_min, b.asymmetry_min),
+          std::max(a.asymmetry_max, b.asymmetry_max)};
     }
     points_.resize(kMaxPoints / 2);
     per_point_ *= 2;

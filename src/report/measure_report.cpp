@@ -290,6 +290,110 @@ void write_measure_text(std::ostream& out, const MeasureResult& r) {
   write_diagnosis_text(out, r);
 }
 
+void write_measure_summary(std::ostream& out, std::ostream& warn, const MeasureResult& r,
+                           std::size_t max_lines, std::size_t width) {
+  using report_detail::cut;
+  using report_detail::wrap;
+  const CycleSummary& s = r.summary;
+  const Diagnosis& d = r.diagnosis;
+  std::vector<std::string> lines;
+  const auto add = [&lines](std::vector<std::string> more) {
+    lines.insert(lines.end(), more.begin(), more.end());
+  };
+  const auto figure = [&lines, width](const std::string& label, const std::string& text) {
+    lines.push_back(cut("  " + pad(label, 20) + text, width));
+  };
+
+  lines.push_back(cut("lopside measure: " + r.info.path, width));
+  lines.push_back(cut("  " + r.info.format + ", " + format_si(r.info.sample_rate_hz, "Hz", 4) +
+                          ", " +
+                          format_si(static_cast<double>(s.frames) / r.info.sample_rate_hz, "s", 4) +
+                          ", " + std::to_string(s.cycles) + " whole cycles from the " +
+                          s.reference + "'s rising crossings",
+                      width));
+  lines.emplace_back();
+  add(wrap(verdict_sentence(d.verdict), width, "VERDICT  ", "         "));
+  std::string deciding;
+  for (const std::string& code : d.deciding) deciding += (deciding.empty() ? "" : ", ") + code;
+  lines.push_back(cut("         " + std::string(to_string(d.verdict)) + ", confidence " +
+                          fixed(d.confidence, 2) +
+                          (deciding.empty() ? std::string() : "; evidence: " + deciding),
+                      width));
+  for (const std::string& step : d.next_steps) add(wrap(step, width, "  next: ", "        "));
+  lines.emplace_back();
+
+  const double rms = s.rms_a.value;
+  figure("fundamental", fundamental_text(s.fundamental_hz));
+  figure("DC offset",
+         format_with_uncertainty(s.dc_offset_a.value, s.dc_offset_a.u95, "A", true, rms) +
+             (s.dc_significant ? "  significant" : "  not significant"));
+  figure("DC / AC RMS",
+         format_percent_with_uncertainty(s.dc_to_ac_rms.value, s.dc_to_ac_rms.u95, true));
+  figure("RMS", format_with_uncertainty(s.rms_a.value, s.rms_a.u95, "A", false));
+  figure("charge asymmetry",
+         format_ratio_with_uncertainty(s.charge_asymmetry.value, s.charge_asymmetry.u95, true) +
+             "  (Q+ \xE2\x88\x92 Q\xE2\x88\x92)/(Q+ + Q\xE2\x88\x92)");
+  if (s.harmonics && s.harmonics->blocks > 0) {
+    const HarmonicSummary& h = *s.harmonics;
+    if (!h.even_evidence_available) {
+      figure("even harmonics", "not assessed (no block with a noise floor)");
+    } else if (h.even_significant_orders.empty()) {
+      figure("even harmonics", "none above the noise floor; THD " + fixed(100 * h.thd, 2) + " %");
+    } else {
+      figure("even harmonics",
+             "orders " + order_list(h.even_significant_orders, 20) + ", rms " +
+                 format_with_uncertainty(h.even_significant_rms_a, h.even_rms_u95_a, "A", false) +
+                 "; THD " + fixed(100 * h.thd, 2) + " %");
+    }
+  }
+  if (s.has_voltage) {
+    figure("voltage mean", format_with_uncertainty(s.voltage_mean_v.value, s.voltage_mean_v.u95,
+                                                   "V", true, s.voltage_rms_v.value));
+    figure("voltage pos. share",
+           format_percent_with_uncertainty(s.voltage_positive_share.value,
+                                           s.voltage_positive_share.u95, false));
+  }
+  figure("time course", course_text(r.time_course));
+  if (r.heating) {
+    const HeatingShare& h = *r.heating;
+    const bool flip = h.after_last_flip.has_value();
+    const double a = flip ? h.after_last_flip->electrode_a : h.electrode_a;
+    const double b = flip ? h.after_last_flip->electrode_b : h.electrode_b;
+    figure("electrode heating", "A " + fixed(100 * a, 1) + " %, B " + fixed(100 * b, 1) + " % (" +
+                                    h.regime + ", cathode share " +
+                                    fixed(100 * h.cathode_share_used, 0) + " %" +
+                                    (flip ? ", after the last flip" : "") + ")");
+  }
+  const std::uint64_t left_out =
+      s.not_finite_cycles + s.glitch_cycles + s.irregular_cycles + s.neighbour_cycles;
+  if (left_out > 0) {
+    figure("left out", std::to_string(left_out) + " cycles (not finite " +
+                           std::to_string(s.not_finite_cycles) + ", glitch " +
+                           std::to_string(s.glitch_cycles) + ", irregular " +
+                           std::to_string(s.irregular_cycles) + ", neighbour " +
+                           std::to_string(s.neighbour_cycles) + ")");
+  }
+  lines.emplace_back();
+  add(wrap(kHighVoltageCaution, width, "", ""));
+  lines.push_back(
+      cut("\xC2\xB1 u95 (95 %). While i > 0, electrode A (the probed lead's) is the "
+          "anode. All figures: --full or --json.",
+          width));
+  for (const std::string& l : lines) out << l << '\n';
+
+  // Warnings on standard error, in the room the screen has left (at least three lines).
+  if (r.warnings.empty()) return;
+  const std::size_t room =
+      std::max<std::size_t>(1, max_lines > lines.size() ? max_lines - lines.size() : 0);
+  const std::size_t n = r.warnings.size();
+  const std::size_t shown = n <= room ? n : room - 1;
+  for (std::size_t k = 0; k < shown; ++k) warn << cut("warning: " + r.warnings[k], width) << '\n';
+  if (shown < n) {
+    warn << "warning: " << (n - shown)
+         << " more (lopside measure --full, or the JSON's \"warnings\", lists them all)\n";
+  }
+}
+
 void write_measure_json(std::ostream& out, const MeasureResult& r) {
   const CycleSummary& s = r.summary;
   json doc;

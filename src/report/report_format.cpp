@@ -45,25 +45,30 @@ int capped_decimals(int decimals, double v) {
   return std::clamp(std::min(decimals, 7 - static_cast<int>(std::floor(std::log10(m)))), 0, 12);
 }
 
-// The uncertainty at the value's decimals, or in two significant digits when it is smaller
-// than the last printed digit.
+// The uncertainty at the value's decimals; one that is smaller than the last printed digit
+// (a clean synthetic capture gives 1e-16 of the value: rounding, not measurement) is only
+// bounded by that digit, "< 0.0001", rather than printed as "3.9e-16" (issue 12, item 4).
 std::string uncertainty_text(double u, int decimals) {
-  if (u > 0 && u < 0.5 * std::pow(10.0, -decimals)) {
-    std::array<char, 32> buf{};
-    std::snprintf(buf.data(), buf.size(), "%.2g", u);
-    return buf.data();
-  }
+  if (u > 0 && u < 0.5 * std::pow(10.0, -decimals))
+    return "< " + printf_string("%.*f", decimals, std::pow(10.0, -decimals));
   return printf_string("%.*f", decimals, u);
 }
 
 }  // namespace
 
 std::string format_with_uncertainty(double value, double u95, std::string_view unit,
-                                    bool signed_always) {
+                                    bool signed_always, double scale) {
   if (!std::isfinite(value)) return "n/a";
-  const SiPrefix p = prefix_for(std::max(std::fabs(value), std::isfinite(u95) ? u95 : 0.0));
+  // A figure near zero on a clean record (a symmetric voltage's mean, 1e-15 V) is not worth
+  // "fV": below 1e-7 of its scale it is shown in the scale's prefix, to 8 digits of the scale.
+  const double floor = std::isfinite(scale) ? 1e-7 * std::fabs(scale) : 0.0;
+  const double magnitude = std::max(std::fabs(value), std::isfinite(u95) ? u95 : 0.0);
+  const SiPrefix p = prefix_for(magnitude < floor ? std::fabs(scale) : magnitude);
   const double v = value / p.factor, u = u95 / p.factor;
-  const int d = capped_decimals(decimals_for(u, v), v);
+  int d = capped_decimals(decimals_for(u, v), v);
+  if (magnitude < floor)
+    d = std::clamp(7 - static_cast<int>(std::floor(std::log10(std::fabs(scale) / p.factor))), 0,
+                   12);
   std::string out =
       printf_string(signed_always ? "%+.*f" : "%.*f", d, v) + " " + p.symbol + std::string(unit);
   if (std::isfinite(u95))

@@ -64,6 +64,53 @@ inline std::string csv_field(const std::string& s) {
   return q + "\"";
 }
 
+/// Columns a terminal gives the text (UTF-8 continuation bytes take none).
+inline std::size_t columns(const std::string& text) {
+  std::size_t shown = 0;
+  for (char c : text) shown += (static_cast<unsigned char>(c) & 0xC0) != 0x80 ? 1 : 0;
+  return shown;
+}
+
+/// The text cut to `width` columns, with "…" when cut (never inside a UTF-8 sequence).
+inline std::string cut(const std::string& text, std::size_t width) {
+  if (columns(text) <= width) return text;
+  std::string out;
+  std::size_t shown = 0;
+  for (std::size_t k = 0; k < text.size(); ++k) {
+    const bool starts = (static_cast<unsigned char>(text[k]) & 0xC0) != 0x80;
+    if (starts && ++shown > width - 1) break;
+    out += text[k];
+  }
+  return out + "\xE2\x80\xA6";
+}
+
+/// Words filled into lines of at most `width` columns: the first starts with `first`, the
+/// others with `rest` (indents); a word longer than a line is cut.
+inline std::vector<std::string> wrap(const std::string& text, std::size_t width,
+                                     const std::string& first, const std::string& rest) {
+  std::vector<std::string> lines;
+  std::string current = first;
+  bool empty = true;
+  std::size_t at = 0;
+  while (at < text.size()) {
+    const std::size_t space = text.find(' ', at);
+    const std::string word =
+        text.substr(at, space == std::string::npos ? std::string::npos : space - at);
+    at = space == std::string::npos ? text.size() : space + 1;
+    if (word.empty()) continue;
+    if (!empty && columns(current) + 1 + columns(word) > width) {
+      lines.push_back(current);
+      current = rest;
+      empty = true;
+    }
+    current += (empty ? "" : " ") + word;
+    empty = false;
+  }
+  if (!empty) lines.push_back(current);
+  for (auto& l : lines) l = cut(l, width);
+  return lines;
+}
+
 inline std::string fixed(double v, int decimals) {
   std::array<char, 48> buf{};
   std::snprintf(buf.data(), buf.size(), "%.*f", decimals, v);
