@@ -176,4 +176,42 @@ TEST(CyclePicture, NonFiniteSamplesAreSkippedAndGapsBreakTheStrip) {
   EXPECT_NEAR(p.strip_boundaries_s[2], 2 * kPeriod, 1e-12);  // cycle 2 starts 2 periods in
 }
 
+TEST(CyclePicture, FewSamplesPerCycleMergeBinsUntilNoneIsEmpty) {
+  // 40 samples per cycle locked to it leave 88 of 128 bins empty, and 24 of 64; 32 bins are
+  // 1.25 samples wide and all get one. The boundaries sit 0.3 sample before a frame, so frame j
+  // of a cycle lies (j + 0.3)/40 of a period in, never on a bin edge: bin k holds the samples
+  // with ⌊32·(j + 0.3)/40⌋ = k, whose mean the picture must show.
+  constexpr std::size_t spc = 40;
+  CyclePictureBuilder b(kRate, 0.0, 0, std::nullopt, 0.0);
+  SampleBlock block;
+  block.channels = 1;
+  block.frames = 10 * spc;
+  const auto f = [](std::size_t j) {
+    return std::sin(2 * M_PI * static_cast<double>(j % spc) / spc);
+  };
+  for (std::size_t m = 0; m < block.frames; ++m) block.data.push_back(f(m));
+  b.add_block(block);
+  for (std::size_t c = 0; c < 10; ++c) {
+    CycleRecord r;
+    r.index = c;
+    r.start_s = (static_cast<double>(c * spc) - 0.3) / kRate;
+    r.period_s = spc / kRate;
+    b.on_cycle(r);
+  }
+  const CyclePicture p = b.finish();
+  ASSERT_EQ(p.current_a.size(), 32u);
+  for (std::size_t k = 0; k < 32; ++k) {
+    double sum = 0;
+    int n = 0;
+    for (std::size_t j = 0; j < spc; ++j) {
+      if (static_cast<std::size_t>(32 * (static_cast<double>(j) + 0.3) / spc) == k) {
+        sum += f(j);
+        ++n;
+      }
+    }
+    ASSERT_GT(n, 0);
+    EXPECT_NEAR(p.current_a[k], sum / n, 1e-12) << "bin " << k;
+  }
+}
+
 }  // namespace

@@ -25,8 +25,9 @@ struct CyclePicture {
   /// Phase of each bin's centre as a share of the period, 0 … 1 from the cycle's start (the
   /// reference's rising crossing).
   std::vector<double> phase;
-  /// Mean current in each phase bin over the averaged cycles [A]; NaN where no sample fell
-  /// (few samples per cycle locked to the cycle leave bins empty).
+  /// Mean current in each phase bin over the averaged cycles [A]: kBins bins, or fewer (a
+  /// power of two ≥ 16) when few samples per cycle locked to the cycle leave bins empty; NaN
+  /// where even 16 bins leave one empty.
   std::vector<double> current_a;
   std::vector<double> voltage_v;  ///< the same for the voltage [V]; empty without one
   std::uint64_t cycles_averaged = 0;
@@ -44,7 +45,7 @@ struct CyclePicture {
 
 class CyclePictureBuilder {
  public:
-  static constexpr std::size_t kBins = 128;  ///< phase bins, even (the mirror needs T/2)
+  static constexpr std::size_t kBins = 128;  ///< phase bins, a power of two (the mirror needs T/2)
   /// Frames kept: 4 MiB of current and voltage. Cycles whose samples have left the ring when
   /// the engine reports them (those held during its first look-ahead on long captures, or
   /// cycles longer than the ring) are not averaged; the count says how many were.

@@ -74,11 +74,28 @@ CyclePicture CyclePictureBuilder::finish() const {
   const double nan = std::numeric_limits<double>::quiet_NaN();
   p.cycles_averaged = cycles_;
   p.period_s = cycles_ > 0 ? sum_period_s_ / static_cast<double>(cycles_) : 0.0;
-  for (std::size_t k = 0; k < kBins; ++k) {
-    p.phase.push_back((static_cast<double>(k) + 0.5) / static_cast<double>(kBins));
-    const double n = static_cast<double>(count_[k]);
-    p.current_a.push_back(count_[k] > 0 ? sum_i_[k] / n : nan);
-    if (voltage_channel_) p.voltage_v.push_back(count_[k] > 0 ? sum_v_[k] / n : nan);
+  // With few samples per cycle locked to the cycle (31 at 32 kHz and 1 MS/s), some of the 128
+  // bins never get a sample: neighbouring bins merge in pairs until none is empty (or 16 are
+  // left), so the curve has no holes; the bin count stays a power of two, hence even.
+  std::vector<double> si = sum_i_, sv = sum_v_;
+  std::vector<std::uint64_t> n = count_;
+  while (n.size() > 16 && std::find(n.begin(), n.end(), 0) != n.end()) {
+    const std::size_t half = n.size() / 2;
+    for (std::size_t k = 0; k < half; ++k) {
+      si[k] = si[2 * k] + si[2 * k + 1];
+      sv[k] = sv[2 * k] + sv[2 * k + 1];
+      n[k] = n[2 * k] + n[2 * k + 1];
+    }
+    si.resize(half);
+    sv.resize(half);
+    n.resize(half);
+  }
+  const std::size_t bins = n.size();
+  for (std::size_t k = 0; k < bins; ++k) {
+    p.phase.push_back((static_cast<double>(k) + 0.5) / static_cast<double>(bins));
+    const double c = static_cast<double>(n[k]);
+    p.current_a.push_back(n[k] > 0 ? si[k] / c : nan);
+    if (voltage_channel_) p.voltage_v.push_back(n[k] > 0 ? sv[k] / c : nan);
   }
 
   // The strip: the latest cycles whose samples are all still in the ring, in time order.

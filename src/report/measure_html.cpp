@@ -56,7 +56,7 @@ const char* tone_of(Verdict v, bool dc_significant) {
     case Verdict::inconclusive:
       return "info";
     default:
-      return dc_significant ? "fail" : "warn";
+      return dc_significant ? "warn" : "info";
   }
 }
 

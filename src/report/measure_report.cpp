@@ -376,8 +376,8 @@ void write_measure_summary(std::ostream& out, std::ostream& warn, const MeasureR
   lines.emplace_back();
   add(wrap(kHighVoltageCaution, width, "", ""));
   lines.push_back(
-      cut("\xC2\xB1 u95 (95 %). While i > 0, electrode A (the probed lead's) is the "
-          "anode. All figures: --full or --json.",
+      cut("\xC2\xB1 is u95 (95 %). While i > 0, electrode A (the probed lead's) is the "
+          "anode. More: --full, --json.",
           width));
   for (const std::string& l : lines) out << l << '\n';
 
