@@ -389,8 +389,8 @@ void write_measure_summary(std::ostream& out, std::ostream& warn, const MeasureR
   const std::size_t shown = n <= room ? n : room - 1;
   for (std::size_t k = 0; k < shown; ++k) warn << cut("warning: " + r.warnings[k], width) << '\n';
   if (shown < n) {
-    warn << "warning: " << (n - shown)
-         << " more (lopside measure --full, or the JSON's \"warnings\", lists them all)\n";
+    warn << "warning: " << (n - shown) << (shown > 0 ? " more" : " warnings")
+         << " (lopside measure --full, or the JSON's \"warnings\", lists them all)\n";
   }
 }
 
