@@ -102,6 +102,12 @@ ul.notes li{margin:.15em 0}
 .s-hist{fill:#0072B2;fill-opacity:.7;stroke:#0072B2;stroke-width:.75}
 .s-ok{fill:#009E73;stroke:#009E73}
 .s-bad{fill:#fff;stroke:#D55E00;stroke-width:2}
+.s-segment{stroke:#1d2327;fill:#1d2327;stroke-width:2.5;stroke-dasharray:8 3}
+.s-boundary{stroke:#9aa5ad;fill:#9aa5ad;stroke-dasharray:1 3}
+.s-zero{stroke:#9aa5ad;fill:#9aa5ad}
+.s-whisker{stroke:#1d2327}
+.s-current-fill{fill:#0072B2;fill-opacity:.45;stroke:#0072B2;stroke-width:.5}
+.s-voltage-fill{fill:#009E73;fill-opacity:.45;stroke:#009E73;stroke-width:.5}
 
 .line{fill:none;stroke-width:1.5;stroke-linejoin:round;stroke-linecap:round}
 .rule{fill:none;stroke-width:1.25}

@@ -49,14 +49,15 @@ std::vector<std::string> figure_row(const std::string& name, const std::string& 
   return {escape(name), escape(note), cell(key + ".value", e.value, text)};
 }
 
-const char* tone_of(Verdict v, bool dc_significant) {
+const char* tone_of(Verdict v) {
   switch (v) {
     case Verdict::symmetric:
       return "pass";
     case Verdict::inconclusive:
       return "info";
     default:
-      return dc_significant ? "warn" : "info";
+      // A cause was found: a DC to act on, even where flips average it out over the record.
+      return "warn";
   }
 }
 
@@ -100,7 +101,8 @@ std::vector<double> concat(std::vector<double> a, const std::vector<double>& b) 
 // The average cycle of one channel with its mirrored negative half.
 std::string average_cycle_chart(const CyclePicture& p, const std::vector<double>& f,
                                 const std::string& id, const std::string& quantity,
-                                const std::string& unit, const std::string& series_class) {
+                                const std::string& unit, const std::string& series_class,
+                                std::size_t flips) {
   svg::Chart c(kHalf, kShort);
   const std::vector<double> deg = scaled(p.phase, 360.0);
   const std::vector<double> mirror = mirrored(f);
@@ -119,7 +121,11 @@ std::string average_cycle_chart(const CyclePicture& p, const std::vector<double>
       "coincide when the halves are mirror images (no DC, no even harmonics); here they differ " +
       "by up to " + format_si(gap, unit) + " (" +
       (peak > 0 ? fixed(100 * gap / peak, 1) : std::string("0")) + " % of the peak " +
-      format_si(peak, unit) + ").";
+      format_si(peak, unit) + ")." +
+      (flips > 0 ? " The record's DC flips polarity, so the cycles before and after each flip "
+                   "average each other out here: the strip of the last cycles and the record "
+                   "below show each stretch."
+                 : "");
   return c.render(id, "Average cycle of the " + quantity + ", negative half mirrored", desc);
 }
 
@@ -289,7 +295,8 @@ std::string spectrum_chart(const HarmonicSummary& h, double f1) {
   const std::string desc =
       "Amplitude of each harmonic of the current (peak, log scale) for orders 1 to " +
       std::to_string(static_cast<std::size_t>(n)) + " of the " + format_si(f1, "Hz") +
-      " fundamental, even orders hatched, odd orders solid, u95 as whiskers, the local noise "
+      " fundamental, even orders light with an outline, odd orders solid, u95 as whiskers, the "
+      "local noise "
       "floor as a dashed line. " +
       even_text + " THD " + fixed(100 * h.thd, 2) + " %.";
   return c.render("chart-spectrum", "Harmonic spectrum of the current", desc);
@@ -358,8 +365,7 @@ void write_measure_html(std::ostream& out, const MeasureResult& r) {
           (c.electrode == "none" ? std::string("none") : "electrode " + c.electrode) + ", DC " +
           format_with_uncertainty(c.mean_dc_a, c.u95_a, "A", true)));
     }
-    html::verdict_banner(out, tone_of(d.verdict, s.dc_significant), verdict_sentence(d.verdict),
-                         lines);
+    html::verdict_banner(out, tone_of(d.verdict), verdict_sentence(d.verdict), lines);
     html::caution(out, kHighVoltageCaution);
   }
 
@@ -457,10 +463,13 @@ void write_measure_html(std::ostream& out, const MeasureResult& r) {
     const CyclePicture& p = *r.picture;
     html::section_begin(out, "waveform", "The waveform");
     html::row_begin(out);
-    out << average_cycle_chart(p, p.current_a, "chart-average-cycle", "current", "A", "s-current");
+    std::size_t flips = 0;
+    for (const Event& e : r.time_course.events) flips += e.kind == "flip" ? 1 : 0;
+    out << average_cycle_chart(p, p.current_a, "chart-average-cycle", "current", "A", "s-current",
+                               flips);
     if (!p.voltage_v.empty())
       out << average_cycle_chart(p, p.voltage_v, "chart-average-voltage", "voltage", "V",
-                                 "s-voltage");
+                                 "s-voltage", 0);
     html::row_end(out);
     if (p.strip_cycles > 0) {
       html::row_begin(out);

@@ -64,11 +64,13 @@ std::string format_with_uncertainty(double value, double u95, std::string_view u
   const double floor = std::isfinite(scale) ? 1e-7 * std::fabs(scale) : 0.0;
   const double magnitude = std::max(std::fabs(value), std::isfinite(u95) ? u95 : 0.0);
   const SiPrefix p = prefix_for(magnitude < floor ? std::fabs(scale) : magnitude);
-  const double v = value / p.factor, u = u95 / p.factor;
+  double v = value / p.factor;
+  const double u = u95 / p.factor;
   int d = capped_decimals(decimals_for(u, v), v);
   if (magnitude < floor)
     d = std::clamp(7 - static_cast<int>(std::floor(std::log10(std::fabs(scale) / p.factor))), 0,
                    12);
+  if (std::fabs(v) < 0.5 * std::pow(10.0, -d)) v = 0.0;  // a zero is printed "+0.000", not "-0.000"
   std::string out =
       printf_string(signed_always ? "%+.*f" : "%.*f", d, v) + " " + p.symbol + std::string(unit);
   if (std::isfinite(u95))
