@@ -36,8 +36,21 @@ void write_lot_json(std::ostream& out, const LotReport& report);
 /// limited figure's value and u95.
 void write_lot_csv(std::ostream& out, const LotReport& report);
 
+/// One self-contained HTML page (html_page.hpp): the lot's verdict, the unit table with each
+/// limited figure and its u95, and per limited figure a histogram with the limits and Cpk and
+/// an individuals control chart. Each headline figure in a table carries data-key (its dot path
+/// in write_lot_json's output) and data-value (that number).
+void write_lot_html(std::ostream& out, const LotReport& report);
+
 /// The SI unit a figure's name carries by its suffix ("_a" → "A", "_hz" → "Hz"), "" for a
 /// plain number (a ratio, a count).
 std::string figure_unit(const std::string& name);
+
+/// A figure's value as people read it: SI prefix and unit, with its u95 where known.
+std::string lot_figure_text(const std::string& name, const FigureValue& value);
+/// A figure's limits: "24.5 mA … 25.5 mA", "≥ 31.5 kHz", "≤ 0.01", or "none".
+std::string lot_limit_text(const std::string& name, const Limit& limit);
+/// What decided a unit: the deciding figure, its value and its margin to the nearer limit.
+std::string lot_deciding_text(const LotUnit& unit);
 
 }  // namespace lopside

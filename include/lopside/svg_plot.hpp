@@ -61,6 +61,9 @@ struct Span {
   double lo = 0, hi = 1;
 };
 Span nice_span(const std::vector<double>& values, bool include_zero = false);
+/// nice_span of the values widened first by 4 % of their range on both sides, so that a marker on
+/// an extreme is drawn whole inside the plot area (control charts, lot means). Needs a value.
+Span padded_span(const std::vector<double>& values);
 
 /// Min/max decimation: the points (x, y), x increasing, gathered into `columns` equal-width
 /// columns of x; each column keeps its x centre and the min and max of its y. Drawn as a filled

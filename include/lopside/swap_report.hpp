@@ -46,4 +46,10 @@ void write_swap_text(std::ostream& out, const SwapReport& report);
 /// `repeat` is null without a repeat of the normal capture.
 void write_swap_json(std::ostream& out, const SwapReport& report);
 
+/// One self-contained HTML page (html_page.hpp): the verdict, the captures side by side, the
+/// supply and electrode parts with their u95, the evidence, bar charts of the DCs and parts.
+/// Each headline figure in a table carries data-key (its dot path in write_swap_json's output)
+/// and data-value (that number).
+void write_swap_html(std::ostream& out, const SwapReport& report);
+
 }  // namespace lopside

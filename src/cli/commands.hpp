@@ -87,6 +87,7 @@ struct SwapOptions {
   std::string probe_on = "electrode";  ///< where the probe stayed: "electrode" or "supply"
   std::string json_path;               ///< empty for none, "-" for standard output
   AnalysisOptions analysis;            ///< shared by all captures; capture_path is set per capture
+  std::string html_path;               ///< the HTML report; empty for none, "-" for standard output
 };
 
 void setup_swap(CLI::App& app);
@@ -108,6 +109,7 @@ struct LotOptions {
   std::string history;                ///< the history store (an SQLite file); empty for none
   std::string station;                ///< the test station recorded with each unit
   AnalysisOptions analysis;           ///< the same flags for every capture
+  std::string html_path;              ///< the HTML report; empty for none, "-" for standard output
 };
 
 void setup_lot(CLI::App& app);
@@ -121,6 +123,7 @@ struct TrendOptions {
   std::string history;  ///< the store written by `lot --history`
   std::string product;  ///< only this product's lots; empty for all
   std::string json_path, csv_path;
+  std::string html_path;  ///< the HTML report; empty for none, "-" for standard output
 };
 
 void setup_trend(CLI::App& app);

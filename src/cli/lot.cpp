@@ -275,6 +275,11 @@ void setup_lot(CLI::App& app) {
                   "Write one row per unit as CSV to FILE ('-': "
                   "standard output)")
       ->type_name("FILE|-");
+  sub->add_option("--html", options->html_path,
+                  "Also write a self-contained HTML report (the unit table, a histogram with "
+                  "the limits and a control chart per limited figure) to FILE; '-' writes it "
+                  "alone to standard output")
+      ->type_name("FILE|-");
   sub->add_option("--history", options->history,
                   "Record every judged unit in this history store: an SQLite file (created if "
                   "absent) or a postgresql:// URI; needs --lot")
@@ -286,6 +291,7 @@ void setup_lot(CLI::App& app) {
 }
 
 int run_lot(const LotOptions& o) {
+  const std::string& html_path = o.html_path;
   const LimitsFile limits = read_limits_file(o.limits_path, limitable_figures());
   if (!o.history.empty() && o.lot.empty())
     throw InputError(o.history, "--history records units by lot; expected --lot NAME");
@@ -298,10 +304,13 @@ int run_lot(const LotOptions& o) {
   std::vector<std::string> inputs = captures;
   inputs.push_back(o.limits_path);
   const bool csv_replaces = o.json_path.empty() && o.csv_path == "-";
-  check_output_paths(inputs, {{"--json", o.json_path, true}, {"--csv", o.csv_path, csv_replaces}});
-  std::optional<AtomicOutput> json_out, csv_out;
+  check_output_paths(inputs, {{"--json", o.json_path, true},
+                              {"--csv", o.csv_path, csv_replaces},
+                              {"--html", html_path, true}});
+  std::optional<AtomicOutput> json_out, csv_out, html_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);
   if (!o.csv_path.empty()) csv_out.emplace(o.csv_path);
+  if (!html_path.empty()) html_out.emplace(html_path);
 
   // Captures are measured by `jobs` threads, each taking the next one; results keep the input
   // order. Each measurement holds its own bounded buffers (README: Speed and memory), so memory
@@ -383,8 +392,13 @@ int run_lot(const LotOptions& o) {
     write_lot_json(json_out->stream(), report);
     json_out->commit();
   }
-  const bool stdout_taken =
-      (json_out && json_out->is_stdout()) || (csv_out && csv_out->is_stdout());
+  if (html_out) {
+    write_lot_html(html_out->stream(), report);
+    html_out->commit();
+  }
+  const bool stdout_taken = (json_out && json_out->is_stdout()) ||
+                            (csv_out && csv_out->is_stdout()) ||
+                            (html_out && html_out->is_stdout());
   if (!stdout_taken) write_lot_text(std::cout, report);
   std::cout.flush();
   if (!std::cout) throw std::runtime_error("cannot write to standard output");

@@ -236,6 +236,11 @@ void setup_swap(CLI::App& app) {
          "--json", options->json_path,
          "Also write the results as JSON to FILE; '-' writes them alone to standard output")
       ->type_name("FILE|-");
+  sub->add_option("--html", options->html_path,
+                  "Also write a self-contained HTML report (the captures side by side, the "
+                  "supply and electrode parts with their u95, charts) to FILE; '-' writes it "
+                  "alone to standard output")
+      ->type_name("FILE|-");
   add_analysis_flags(*sub, options->analysis);
   // The harmonic settings do nothing here: no flag that is silently ignored.
   sub->remove_option(sub->get_option("--block-cycles"));
@@ -260,13 +265,15 @@ void setup_swap(CLI::App& app) {
 }
 
 void run_swap(const SwapOptions& o) {
+  const std::string& html_path = o.html_path;
   std::vector<std::string> inputs{o.normal_path, o.swapped_path};
   if (!o.again_path.empty()) inputs.push_back(o.again_path);
-  check_output_paths(inputs, {{"--json", o.json_path, true}});
+  check_output_paths(inputs, {{"--json", o.json_path, true}, {"--html", html_path, true}});
   refuse_identical_captures(o);
-  // The output is opened first so that an unwritable target fails before the long reads.
-  std::optional<AtomicOutput> json_out;
+  // The outputs are opened first so that an unwritable target fails before the long reads.
+  std::optional<AtomicOutput> json_out, html_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);
+  if (!html_path.empty()) html_out.emplace(html_path);
 
   SwapReport report;
   const SwapCapture normal = measure_one(o.analysis, o.normal_path, report.normal);
@@ -293,7 +300,13 @@ void run_swap(const SwapOptions& o) {
     write_swap_json(json_out->stream(), report);
     json_out->commit();
   }
-  if (!json_out || !json_out->is_stdout()) write_swap_text(std::cout, report);
+  if (html_out) {
+    write_swap_html(html_out->stream(), report);
+    html_out->commit();
+  }
+  const bool stdout_taken =
+      (json_out && json_out->is_stdout()) || (html_out && html_out->is_stdout());
+  if (!stdout_taken) write_swap_text(std::cout, report);
   std::cout.flush();
   if (!std::cout) throw std::runtime_error("cannot write to standard output");
 }

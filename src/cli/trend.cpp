@@ -2,6 +2,7 @@
 #include <iostream>
 #include <memory>
 #include <optional>
+#include <string>
 
 #include "commands.hpp"
 #include "lopside/atomic_file.hpp"
@@ -28,10 +29,16 @@ void setup_trend(CLI::App& app) {
       ->type_name("FILE|-");
   sub->add_option("--csv", options->csv_path, "Write one row per lot and figure as CSV to FILE")
       ->type_name("FILE|-");
+  sub->add_option("--html", options->html_path,
+                  "Also write a self-contained HTML report (each figure's lot means with their "
+                  "control limits and flagged lots, the lots, the repeat failures) to FILE; '-' "
+                  "writes it alone to standard output")
+      ->type_name("FILE|-");
   sub->callback([options]() { run_trend(*options); });
 }
 
 void run_trend(const TrendOptions& o) {
+  const std::string& html_path = o.html_path;
   std::error_code ec;
   const bool uri = o.history.find("://") != std::string::npos;
   if (!uri && !std::filesystem::exists(o.history, ec))
@@ -41,10 +48,13 @@ void run_trend(const TrendOptions& o) {
   const bool csv_replaces = o.json_path.empty() && o.csv_path == "-";
   // A database URI is no file an output could overwrite.
   check_output_paths(uri ? std::vector<std::string>{} : std::vector<std::string>{o.history},
-                     {{"--json", o.json_path, true}, {"--csv", o.csv_path, csv_replaces}});
-  std::optional<AtomicOutput> json_out, csv_out;
+                     {{"--json", o.json_path, true},
+                      {"--csv", o.csv_path, csv_replaces},
+                      {"--html", html_path, true}});
+  std::optional<AtomicOutput> json_out, csv_out, html_out;
   if (!o.json_path.empty()) json_out.emplace(o.json_path);
   if (!o.csv_path.empty()) csv_out.emplace(o.csv_path);
+  if (!html_path.empty()) html_out.emplace(html_path);
   const auto store = open_history(o.history);
   const std::vector<RecordedUnit> units = store->recorded_units(o.product);
   if (units.empty()) {
@@ -61,8 +71,13 @@ void run_trend(const TrendOptions& o) {
     write_trend_json(json_out->stream(), t, o.history);
     json_out->commit();
   }
-  const bool stdout_taken =
-      (json_out && json_out->is_stdout()) || (csv_out && csv_out->is_stdout());
+  if (html_out) {
+    write_trend_html(html_out->stream(), t, o.history);
+    html_out->commit();
+  }
+  const bool stdout_taken = (json_out && json_out->is_stdout()) ||
+                            (csv_out && csv_out->is_stdout()) ||
+                            (html_out && html_out->is_stdout());
   if (!stdout_taken) write_trend_text(std::cout, t, o.history);
   std::cout.flush();
   if (!std::cout) throw std::runtime_error("cannot write to standard output");

@@ -62,6 +62,10 @@ th,td{padding:4px 10px;border-bottom:1px solid var(--rule);text-align:left;verti
 thead th{border-bottom:2px solid #9aa5ad;font-weight:600;white-space:nowrap}
 tbody tr:nth-child(even){background:#f7f9fa}
 th.num,td.num{text-align:right;font-variant-numeric:tabular-nums lining-nums;white-space:nowrap}
+td.cell-fail,td.cell-flag{background:#fbe3d6}
+td.cell-conditional{background:#fdf3d0}
+td.verdict-cell{font-weight:600}
+strong.mark{font-weight:700}
 table.units td:first-child{font-weight:600}
 
 dl.meta{display:grid;grid-template-columns:max-content 1fr;gap:2px 16px;margin:10px 0;font-size:.93em}

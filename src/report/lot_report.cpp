@@ -34,10 +34,8 @@ std::string figure_unit(const std::string& name) {
   return "";
 }
 
-namespace {
-
 // A value as people read it: with its unit and SI prefix, and its u95 where known.
-std::string shown(const std::string& name, const FigureValue& v) {
+std::string lot_figure_text(const std::string& name, const FigureValue& v) {
   const std::string unit = figure_unit(name);
   if (v.u95) {
     if (unit.empty()) return format_ratio_with_uncertainty(v.value, *v.u95, false);
@@ -46,22 +44,25 @@ std::string shown(const std::string& name, const FigureValue& v) {
   return format_si(v.value, unit);
 }
 
-std::string limit_text(const std::string& name, const Limit& l) {
+std::string lot_limit_text(const std::string& name, const Limit& l) {
   const std::string unit = figure_unit(name);
   if (l.min && l.max) return format_si(*l.min, unit) + " … " + format_si(*l.max, unit);
   if (l.min) return "≥ " + format_si(*l.min, unit);
-  return "≤ " + format_si(*l.max, unit);
+  if (l.max) return "≤ " + format_si(*l.max, unit);
+  return "none";
 }
 
-std::string deciding_text(const LotUnit& u) {
+std::string lot_deciding_text(const LotUnit& u) {
   if (u.verdict == LotVerdict::not_measured && u.figures.empty()) return u.reason;
   if (!u.deciding) return "";
   const LotFigure& f = u.figures[*u.deciding];
   if (!f.value) return f.name + ": not in the measurement";
-  return f.name + " " + shown(f.name, *f.value) + ", margin " +
+  return f.name + " " + lot_figure_text(f.name, *f.value) + ", margin " +
          format_si(f.decision.margin, figure_unit(f.name)) + " to " +
          (f.decision.at_min ? "min" : "max");
 }
+
+namespace {
 
 // The ids of the units that have limited figure k, in lot order: the statistics' values, so
 // the chart's point i is unit ids[i].
@@ -83,14 +84,14 @@ void write_lot_text(std::ostream& out, const LotReport& r) {
   if (!r.product.empty()) report_detail::line(out, "product", r.product);
   report_detail::line(out, "limits", r.limits_path + " (" + to_string(r.rule) + " decisions)");
   for (const auto& [name, limit] : r.limits)
-    report_detail::line(out, "  " + name, limit_text(name, limit));
+    report_detail::line(out, "  " + name, lot_limit_text(name, limit));
   out << '\n';
   std::size_t id_width = 4;
   for (const LotUnit& u : r.units) id_width = std::max(id_width, u.id.size());
   out << "  " << pad("unit", id_width) << "  " << pad("verdict", 13) << "deciding\n";
   for (const LotUnit& u : r.units) {
-    out << "  " << pad(u.id, id_width) << "  " << pad(to_string(u.verdict), 13) << deciding_text(u)
-        << '\n';
+    out << "  " << pad(u.id, id_width) << "  " << pad(to_string(u.verdict), 13)
+        << lot_deciding_text(u) << '\n';
   }
   const LotSummary& s = r.summary;
   out << '\n';
@@ -109,7 +110,8 @@ void write_lot_text(std::ostream& out, const LotReport& r) {
   for (const LotVerdict v : {LotVerdict::fail, LotVerdict::conditional, LotVerdict::not_measured}) {
     for (const LotUnit& u : r.units) {
       if (u.verdict == v)
-        report_detail::line(out, std::string("  ") + to_string(v), u.id + ": " + deciding_text(u));
+        report_detail::line(out, std::string("  ") + to_string(v),
+                            u.id + ": " + lot_deciding_text(u));
     }
   }
   for (std::size_t k = 0; k < s.figures.size(); ++k) {

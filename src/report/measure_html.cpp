@@ -13,6 +13,7 @@
 #include <string>
 #include <vector>
 
+#include "html_cells.hpp"
 #include "lopside/html_page.hpp"
 #include "lopside/measure_report.hpp"
 #include "lopside/report_format.hpp"
@@ -29,17 +30,11 @@ constexpr double kWide = 1040, kHalf = 515, kTall = 280, kShort = 250;
 // Above this many samples the strip is drawn as a min/max envelope of this many columns.
 constexpr std::size_t kStripPoints = 2000;
 
-std::string exact(double v) {
-  std::array<char, 40> buf{};
-  std::snprintf(buf.data(), buf.size(), "%.17g", v);
-  return buf.data();
-}
-
 // A table cell that shows `text` and says which JSON number it is.
 std::string cell(const std::string& key, double value, const std::string& text) {
   if (!std::isfinite(value)) return escape(text);
-  return "<span data-key=\"" + escape(key) + "\" data-value=\"" + exact(value) + "\">" +
-         escape(text) + "</span>";
+  return "<span" + html_detail::key_attrs(key, html_detail::num17(value)) + ">" + escape(text) +
+         "</span>";
 }
 
 // One row of the figures table: name, value ± u95 (tagged), what it means.
@@ -464,7 +459,7 @@ void write_measure_html(std::ostream& out, const MeasureResult& r) {
     html::section_begin(out, "waveform", "The waveform");
     html::row_begin(out);
     std::size_t flips = 0;
-    for (const Event& e : r.time_course.events) flips += e.kind == "flip" ? 1 : 0;
+    for (const Event& e : r.time_course.events) flips += e.kind == "flip" ? 1u : 0u;
     out << average_cycle_chart(p, p.current_a, "chart-average-cycle", "current", "A", "s-current",
                                flips);
     if (!p.voltage_v.empty())

@@ -695,4 +695,18 @@ std::string Chart::render(const std::string& id, const std::string& title,
   return s;
 }
 
+Span padded_span(const std::vector<double>& values) {
+  if (values.empty()) return nice_span(values);
+  double lo = values.front(), hi = values.front();
+  for (const double v : values) {
+    lo = std::fmin(lo, v);
+    hi = std::fmax(hi, v);
+  }
+  const double pad = 0.04 * (hi - lo);
+  std::vector<double> ends = values;
+  ends.push_back(lo - pad);
+  ends.push_back(hi + pad);
+  return nice_span(ends);
+}
+
 }  // namespace lopside::svg
