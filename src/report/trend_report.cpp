@@ -6,6 +6,7 @@
 #include <cstdio>
 
 #include "lopside/lot_report.hpp"
+#include "lopside/report_format.hpp"
 #include "report_support.hpp"
 
 namespace lopside {
@@ -56,14 +57,14 @@ void write_trend_text(std::ostream& out, const Trend& t, const std::string& stor
       if (l.product != f.product) continue;
       for (const auto& [name, st] : l.figures) {
         if (name != f.name || st.count == 0) continue;
-        out << "    " << pad(l.name, 12) << pad(g(st.mean), 12) << pad(g(st.sd), 12)
-            << pad(index_text(st.cpk), 7) << pad(index_text(st.ppk), 7)
-            << report_detail::fixed(100 * st.yield, 1) << " %\n";
+        out << "    " << pad(l.name, 12) << pad(format_si(st.mean, unit), 12)
+            << pad(format_si(st.sd, unit), 12) << pad(index_text(st.cpk), 7)
+            << pad(index_text(st.ppk), 7) << report_detail::fixed(100 * st.yield, 1) << " %\n";
       }
     }
     if (f.chart) {
-      out << "    lot means: centre " << g(f.chart->center) << ", limits " << g(f.chart->lcl)
-          << " … " << g(f.chart->ucl) << '\n';
+      out << "    lot means: centre " << format_si(f.chart->center, unit) << ", limits "
+          << format_si(f.chart->lcl, unit) << " … " << format_si(f.chart->ucl, unit) << '\n';
     }
     for (const RunRuleHit& h : f.hits) {
       out << "    drift: lot " << f.lots[h.index] << ", rule " << h.rule << " ("
