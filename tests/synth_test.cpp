@@ -7,6 +7,9 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <cstdlib>
+#include <fstream>
+#include <iterator>
 #include <numbers>
 #include <sstream>
 #include <string>
@@ -543,3 +546,271 @@ TEST(SynthTimeCourse, BuildUpFollowsTheFirstOrderModelAndFlipNegatesTheDc) {
 }
 
 }  // namespace
+
+// ---------------------------------------------------------------------------------------------
+// Probe models (issue 13): first-order high-pass (ct, ac-coupled) and Rogowski di/dt, checked
+// against analytic answers.
+
+namespace {
+
+// Trapezoid running integral ∫₀^{tₙ} y dt of frames y spaced `dt`, starting at 0.
+std::vector<double> trapezoid(const std::vector<double>& y, double dt) {
+  std::vector<double> out(y.size(), 0.0);
+  for (std::size_t n = 1; n < y.size(); ++n) out[n] = out[n - 1] + 0.5 * dt * (y[n - 1] + y[n]);
+  return out;
+}
+
+CaptureSpec probed(Probe kind) {
+  CaptureSpec spec;
+  spec.timebase.sample_rate_hz = 100e3;
+  spec.timebase.duration_s = 0.2;
+  spec.timebase.start_frequency_hz = spec.timebase.end_frequency_hz = 1000.0;
+  spec.current.peak = 0.02;
+  spec.current.dc = 0.004;
+  spec.lead_in_s = 1e-3;
+  spec.probe.kind = kind;
+  spec.probe.tau_s = 5e-3;
+  spec.probe.rogowski_m_vs_per_a = 2e-7;
+  return spec;
+}
+
+}  // namespace
+
+TEST(SynthProbe, CtStepResponseIsI0TimesExpMinusTOverTau) {
+  // A constant current I0 switched on after a lead-in: the first-order high-pass answers a
+  // step with I0·e^(−t/τ) (the step response of any first-order RL/RC high-pass). Checked with
+  // the ignition on a frame and between frames; only rounding differs, allowed 1e-9 relative.
+  for (const double lead_in : {1e-3, 1.00037e-3}) {
+    CaptureSpec spec;
+    spec.timebase.sample_rate_hz = 1e6;
+    spec.timebase.duration_s = 5e-3;
+    spec.current.peak = 0.0;
+    spec.current.dc = 0.01;
+    spec.lead_in_s = lead_in;
+    spec.probe.kind = Probe::current_transformer;
+    spec.probe.tau_s = 1e-3;
+    Generator gen(spec);
+    const auto y = all_frames(gen);
+    ASSERT_EQ(y.size(), 5000u);
+    std::size_t checked = 0;
+    for (std::size_t n = 0; n < y.size(); n += 37) {
+      const double t = gen.elapsed_s(n) - lead_in;
+      if (t < 0.0) {
+        ASSERT_EQ(y[n], 0.0) << n;  // quiet lead-in: exactly zero
+        continue;
+      }
+      ASSERT_NEAR(y[n], 0.01 * std::exp(-t / 1e-3), 1e-9 * 0.01 * std::exp(-t / 1e-3))
+          << "frame " << n << ", lead-in " << lead_in;
+      ++checked;
+    }
+    EXPECT_GT(checked, 100u);
+    // The ignition frame itself: I0·e^(−(t_j − L)/τ), I0 exactly when it falls on the frame.
+    const auto j = static_cast<std::size_t>(std::ceil(lead_in * 1e6));
+    EXPECT_NEAR(y[j], 0.01 * std::exp(-(gen.elapsed_s(j) - lead_in) / 1e-3), 1e-18);
+    EXPECT_EQ(y[j - 1], 0.0);
+  }
+}
+
+TEST(SynthProbe, CtHidesTheDcAndDroopCorrectionRestoresIt) {
+  // A 1 kHz sine of 20 mA peak with 4 mA DC, τ = 5 ms, 100 frames a cycle, ignition at 1 ms.
+  const CaptureSpec spec = probed(Probe::current_transformer);
+  Generator gen(spec);
+  const auto y = all_frames(gen);
+  ASSERT_EQ(y.size(), 20000u);
+  const double dt = 1e-5, tau = 5e-3, d = 0.004, peak = 0.02;
+  // In steady state (the last 50 cycles start 29.8 τ after ignition, e^−29.8 ≈ 1e-13) a
+  // high-pass passes no DC: the mean over whole cycles is 0; allowed 1e-3·d.
+  const std::vector<double> tail(y.end() - 5000, y.end());
+  EXPECT_LT(std::abs(mean(tail)), 1e-3 * d);
+  // Droop correction x = y + (1/τ)∫₀ᵗ y dt (DOMAIN.md, Probes). The trapezoid rule errs by
+  // d·Δt/2 over the ignition frame (d·Δt/(2τ) = 4 µA in x) and O(Δt²) elsewhere: the DC and
+  // every frame of the current come back within 1e-3 of the peak.
+  const auto integral = trapezoid(y, dt);
+  std::vector<double> x(y.size());
+  for (std::size_t n = 0; n < y.size(); ++n) x[n] = y[n] + integral[n] / tau;
+  const std::vector<double> x_tail(x.end() - 5000, x.end());
+  EXPECT_NEAR(mean(x_tail), d, 1e-3 * peak);
+  double worst = 0.0;
+  for (std::size_t n = 0; n < x.size(); ++n)
+    worst = std::max(worst, std::abs(x[n] - gen.ideal_current_a(gen.elapsed_s(n))));
+  EXPECT_LT(worst, 1e-3 * peak);
+  // The truth before the probe is still the generator's: its cycle mean is the DC.
+  EXPECT_NEAR(cycle_mean(spec.current), d, 1e-18);
+}
+
+TEST(SynthProbe, RogowskiGivesMTimesDiDtAndIntegratesBackToTheCurrent) {
+  // I sin(ωt) at 1 kHz, 1000 frames a cycle, M = 0.2 µV·s/A: output M·I·ω·cos(ωt). The
+  // derivative is analytic, so only rounding differs: allowed 1e-6 of the amplitude M·I·ω
+  // (relative to each sample would be meaningless at the zeros of the cosine).
+  CaptureSpec spec;
+  spec.timebase.sample_rate_hz = 1e6;
+  spec.timebase.duration_s = 10e-3;
+  spec.timebase.start_frequency_hz = spec.timebase.end_frequency_hz = 1000.0;
+  spec.current.peak = 0.02;
+  spec.probe.kind = Probe::rogowski;
+  spec.probe.rogowski_m_vs_per_a = 2e-7;
+  Generator gen(spec);
+  const auto v = all_frames(gen);
+  const double m = 2e-7, i = 0.02, w = 2 * pi * 1000.0, dt = 1e-6;
+  for (std::size_t n = 0; n < v.size(); ++n) {
+    ASSERT_NEAR(v[n], m * i * w * std::cos(w * gen.elapsed_s(n)), 1e-6 * m * i * w) << n;
+  }
+  // Trapezoid integral of v/M: error ≤ (Δt²/12)·max|i''|·t-ish, here (ωΔt)²/12 ≈ 3e-6 of I
+  // per cycle-scale stretch; allowed 1e-4 of I.
+  std::vector<double> didt(v.size());
+  for (std::size_t n = 0; n < v.size(); ++n) didt[n] = v[n] / m;
+  const auto x = trapezoid(didt, dt);
+  for (std::size_t n = 0; n < x.size(); ++n) {
+    ASSERT_NEAR(x[n], i * std::sin(w * gen.elapsed_s(n)), 1e-4 * i) << n;
+  }
+}
+
+TEST(SynthProbe, RogowskiKeepsStepsAsImpulsesSoTheIntegralCarriesTheDc) {
+  // After a lead-in the ignition steps the current from 0 to d + A (phase 90°, where the
+  // sine's slope is 0, so the trapezoid meets no kink there): the impulse (d + A)·δ(t − L) is
+  // one frame of M·(d + A)/Δt. Integrated (trapezoid), the record gives the current back, DC
+  // included, from the frame after ignition on.
+  CaptureSpec spec = probed(Probe::rogowski);
+  spec.timebase.start_phase_deg = 90.0;
+  Generator gen(spec);
+  const auto v = all_frames(gen);
+  const double m = 2e-7, dt = 1e-5;
+  std::vector<double> didt(v.size());
+  for (std::size_t n = 0; n < v.size(); ++n) didt[n] = v[n] / m;
+  EXPECT_EQ(didt[99], 0.0);
+  EXPECT_NEAR(didt[100], (0.004 + 0.02) / dt, 1e-9 * 0.024 / dt);
+  const auto x = trapezoid(didt, dt);
+  double worst = 0.0;
+  for (std::size_t n = 101; n < x.size(); ++n)
+    worst = std::max(worst, std::abs(x[n] - gen.ideal_current_a(gen.elapsed_s(n))));
+  // Trapezoid error of the sine part (ωΔt)²/12 ≈ 3.3e-4 relative, not cumulative over
+  // whole cycles: allowed 1e-3 of the peak.
+  EXPECT_LT(worst, 1e-3 * 0.02);
+  EXPECT_NEAR(mean(std::vector<double>(x.end() - 5000, x.end())), 0.004, 1e-3 * 0.02);
+}
+
+TEST(SynthProbe, RogowskiOfASquareWaveIntegratesBackToTheSquare) {
+  // A ±A square with unequal halves after a 1 ms lead-in: di/dt is only impulses at the edges
+  // and at ignition. The integral of the record matches the square at every frame but the
+  // edge frames themselves (half a step there: the trapezoid rule splits an impulse's area
+  // over its two neighbouring intervals).
+  CaptureSpec spec = whole_cycles(200, 20);
+  spec.lead_in_s = 1e-3;
+  spec.current.shape = Shape::square;
+  spec.current.peak = 0.02;
+  spec.current.negative_ratio = 0.7;
+  spec.current.positive_share = 0.53;
+  spec.probe.kind = Probe::rogowski;
+  spec.probe.rogowski_m_vs_per_a = 1e-6;
+  Generator gen(spec);
+  const auto v = all_frames(gen);
+  std::vector<double> didt(v.size());
+  for (std::size_t n = 0; n < v.size(); ++n) didt[n] = v[n] / 1e-6;
+  const auto x = trapezoid(didt, 1.0 / 200e3);
+  std::size_t edges = 0;
+  for (std::size_t n = 1; n < x.size(); ++n) {
+    const double truth = gen.ideal_current_a(gen.elapsed_s(n));
+    if (truth != gen.ideal_current_a(gen.elapsed_s(n - 1))) {
+      ++edges;
+      continue;
+    }
+    ASSERT_NEAR(x[n], truth, 1e-12) << n;
+  }
+  // Ignition, then in 19 cycles the edges at phases k + 0.53 (k = 0…18) and k (k = 1…18).
+  EXPECT_EQ(edges, 1u + 19u + 18u);
+}
+
+TEST(SynthProbe, AcCoupledIsTheSameFilterAsCt) {
+  CaptureSpec spec = probed(Probe::current_transformer);
+  spec.noise_rms_a = 1e-4;
+  spec.build_up_tau_s = 0.03;
+  spec.current.negative_ratio = 0.8;
+  Generator ct(spec);
+  spec.probe.kind = Probe::ac_coupled;
+  Generator ac(spec);
+  EXPECT_EQ(all_frames(ct), all_frames(ac));  // bit-identical
+}
+
+TEST(SynthProbe, ShuntLeavesTheCurrentBitIdentical) {
+  // Everything that shapes the current, through an explicit shunt with stray probe
+  // parameters, against the default spec: the same frames, bit for bit.
+  CaptureSpec plain = whole_cycles(100, 50);
+  plain.current.peak = 0.02;
+  plain.current.dc = 0.001;
+  plain.current.negative_ratio = 0.9;
+  plain.noise_rms_a = 1e-3;
+  plain.clip_high_a = 0.018;
+  plain.build_up_tau_s = 0.01;
+  plain.polarity_flip_s = 0.03;
+  plain.timebase.end_frequency_hz = 1100.0;
+  plain.voltage = Waveform{};
+  plain.voltage->peak = 300.0;
+  CaptureSpec shunt = plain;
+  shunt.probe = ProbeModel{Probe::shunt, 0.01, 1.0};
+  Generator a(plain), b(shunt);
+  EXPECT_EQ(all_frames(a), all_frames(b));
+}
+
+TEST(SynthProbe, VoltageRunsThroughTheLeadInAndNoProbeTouchesIt) {
+  CaptureSpec spec = probed(Probe::shunt);
+  spec.voltage = Waveform{};
+  spec.voltage->peak = 300.0;
+  spec.timebase.start_phase_deg = 0.0;
+  Generator shunt(spec);
+  const auto frames = all_frames(shunt);
+  const auto v = channel(frames, 2, 1);
+  // The supply is on before ignition, and the shared phase is the start phase at ignition.
+  double largest = 0.0;
+  for (std::size_t n = 0; n < 100; ++n) largest = std::max(largest, std::abs(v[n]));
+  EXPECT_GT(largest, 290.0);
+  EXPECT_NEAR(shunt.ideal_voltage_v(1e-3), 0.0, 1e-12);
+  EXPECT_NEAR(shunt.ideal_voltage_v(1e-3 + 0.25e-3), 300.0, 1e-9);
+  EXPECT_NEAR(shunt.ideal_current_a(1e-3 + 0.25e-3), 0.024, 1e-15);
+  for (const Probe kind : {Probe::current_transformer, Probe::rogowski}) {
+    spec.probe.kind = kind;
+    Generator probed_gen(spec);
+    EXPECT_EQ(channel(all_frames(probed_gen), 2, 1), v) << probe_name(kind);
+  }
+}
+
+TEST(SynthProbe, RejectsMissingProbeParametersAndALongLeadIn) {
+  CaptureSpec spec;
+  spec.probe.kind = Probe::current_transformer;
+  EXPECT_THROW(Generator{spec}, std::invalid_argument);  // no τ
+  spec.probe.kind = Probe::rogowski;
+  EXPECT_THROW(Generator{spec}, std::invalid_argument);  // no M
+  spec = CaptureSpec{};
+  spec.lead_in_s = spec.timebase.duration_s;
+  EXPECT_THROW(Generator{spec}, std::invalid_argument);
+}
+
+TEST(SynthProbe, RogowskiTextIsInVolts) {
+  CaptureSpec spec = small_supply();
+  spec.probe.kind = Probe::rogowski;
+  spec.probe.rogowski_m_vs_per_a = 1e-6;
+  EXPECT_EQ(lines_of(write(spec, TextFormat{}))[0], "time (s),current (V),voltage (V)");
+  TextFormat f;
+  f.current_unit = "mA";
+  Generator gen(spec);
+  std::ostringstream out;
+  EXPECT_THROW(write_text(gen, f, out), std::invalid_argument);
+}
+
+TEST(SynthProbe, CommandLineShuntIsTheDefault) {
+  // The program: --probe shunt writes the same bytes as no --probe at all.
+  const std::string dir = ::testing::TempDir();
+  const std::string a = dir + "/synth_probe_a.csv", b = dir + "/synth_probe_b.csv";
+  const std::string common = std::string(LOPSIDE_SYNTH) +
+                             " --dc 0.003 --noise-rms 0.001 --lead-in 0.01 --duration 0.05 -o ";
+  ASSERT_EQ(std::system((common + a).c_str()), 0);
+  ASSERT_EQ(std::system((common + b + " --probe shunt").c_str()), 0);
+  const auto slurp = [](const std::string& path) {
+    std::ifstream in(path, std::ios::binary);
+    return std::string(std::istreambuf_iterator<char>(in), {});
+  };
+  EXPECT_FALSE(slurp(a).empty());
+  EXPECT_EQ(slurp(a), slurp(b));
+  // Probe options out of place are refused.
+  EXPECT_NE(std::system((common + b + " --probe ct 2>/dev/null").c_str()), 0);
+  EXPECT_NE(std::system((common + b + " --probe-tau 0.01 2>/dev/null").c_str()), 0);
+}

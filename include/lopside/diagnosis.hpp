@@ -14,6 +14,7 @@
 #include <vector>
 
 #include "lopside/cycle_engine.hpp"
+#include "lopside/dead_interval.hpp"
 #include "lopside/time_course.hpp"
 
 namespace lopside {
@@ -93,5 +94,26 @@ HeatingShare heating_share(const CycleSummary& summary, double cathode_share,
                            const std::string& regime, std::optional<double> erosion_ug_per_c,
                            const Diagnosis* diagnosis = nullptr,
                            const TimeCourseResult* course = nullptr);
+
+/// What the probe allows the diagnosis to say (issue 13): a probe that blocks DC, or a record
+/// whose shape says the probe may block it, must never be called symmetric.
+struct ProbeFindings {
+  std::string kind = "shunt";  ///< as stated (probe.hpp's names)
+  bool passes_dc = true;       ///< the stated probe passes DC
+  /// How the DC was obtained: "direct" (a probe that passes DC), "droop" (CT or AC coupling
+  /// corrected with τ), "rogowski" (integrated), "dead_intervals" (the record's rest level),
+  /// "not_recovered" (a probe that blocks DC, nothing to recover it from).
+  std::string method = "direct";
+  DeadLevel dead;  ///< the record's rest level as read (before any shift)
+};
+
+/// Adds the probe's evidence to a diagnosis: "probe_blocks_dc" when the stated probe blocks DC
+/// and nothing recovered it; "probe_may_block_dc" when a probe stated to pass DC gives a
+/// current whose mean is zero within its u95 while its half-cycles differ (even harmonics above
+/// the noise floor, unequal half-cycle durations or peaks) or which rests between lobes at a
+/// level other than zero — with what the rest level says of the hidden DC's sign. Either turns
+/// a symmetric verdict into inconclusive.
+void apply_probe_findings(Diagnosis& diagnosis, const CycleSummary& summary,
+                          const ProbeFindings& probe, const DiagnosisThresholds& thresholds = {});
 
 }  // namespace lopside

@@ -18,6 +18,7 @@
 #include "lopside/cycle_engine.hpp"
 #include "lopside/cycle_picture.hpp"
 #include "lopside/diagnosis.hpp"
+#include "lopside/probe.hpp"
 #include "lopside/sample_source.hpp"
 #include "lopside/time_course.hpp"
 
@@ -41,6 +42,13 @@ struct MeasureResult {
   std::optional<HeatingShare> heating;  ///< measure fills it; swap does not
   std::vector<std::string> warnings;    ///< reader's, then the engine's
   std::optional<CyclePicture> picture;  ///< the waveform to draw, when settings.picture asked
+  /// The probe as stated, how the DC was obtained through it, and the record's rest level.
+  ProbeSettings probe;
+  ProbeFindings probe_findings;
+  std::optional<double> lead_in_s;  ///< the quiet lead-in a correction needed [s]
+  /// The DC measured with the dead intervals' rest level taken as the zero, when that is how
+  /// it was obtained (the same as summary.dc_offset_a then).
+  std::optional<Estimate> dc_from_dead_intervals_a;
 };
 
 /// How one capture is measured.
@@ -56,6 +64,11 @@ struct MeasureSettings {
   CycleReference reference = CycleReference::automatic;
   /// Keep the average cycle and a strip of real cycles for a report's plots (4 MiB more).
   bool picture = false;
+  /// The current probe (probe.hpp). A CT or AC-coupled input with τ is droop-corrected and a
+  /// Rogowski coil integrated, each after a first read that finds the quiet lead-in; without
+  /// τ, a probe that blocks DC is measured twice when the record has dead intervals: their
+  /// rest level becomes the zero, as a --zero stretch would.
+  ProbeSettings probe;
 };
 
 /// Opens the capture afresh (from its start) each time it is called.

@@ -54,6 +54,26 @@ void add_analysis_flags(CLI::App& app, AnalysisOptions& options) {
   app.add_option("--max-order", options.max_order,
                  "Highest harmonic order to report; 0 skips the harmonic analysis")
       ->check(CLI::Range(0, 1000));
+  app.add_option("--probe", options.probe,
+                 "The current probe: shunt or hall (pass DC, the default), ct (current "
+                 "transformer), rogowski (coil, di/dt), ac-coupled (an AC-coupled input); the "
+                 "last three block DC (README: Probes that block DC)")
+      ->check(CLI::IsMember({"shunt", "hall", "ct", "rogowski", "ac-coupled"}))
+      ->capture_default_str();
+  app.add_option("--probe-tau", options.probe_tau_s,
+                 "The CT's or the AC coupling's time constant [s]: corrects the droop, "
+                 "x = y + (1/tau)*integral(y dt); needs a record that starts at zero current")
+      ->type_name("SECONDS")
+      ->check(CLI::PositiveNumber);
+  app.add_option("--probe-tau-pct", options.probe_tau_pct,
+                 "The time constant's stated tolerance, ± PCT percent (rectangular)")
+      ->type_name("PCT")
+      ->check(CLI::NonNegativeNumber);
+  app.add_option("--rogowski-m", options.rogowski_v_s_per_a,
+                 "A Rogowski coil's sensitivity M, volts per (ampere per second) [V*s/A]: the "
+                 "coil's output is integrated, i = (1/M)*integral(v dt)")
+      ->type_name("V_S_PER_A")
+      ->check(CLI::PositiveNumber);
   add_reader_flags(app, options.reader);
 }
 
@@ -61,6 +81,25 @@ MeasureSettings measure_settings(const AnalysisOptions& o) {
   MeasureSettings settings;
   settings.capture_name = o.capture_path;
   settings.probe_offset_a = o.probe_offset_a;
+  settings.probe.kind = probe_kind_from(o.probe).value_or(ProbeKind::shunt);
+  const bool high_pass =
+      settings.probe.kind == ProbeKind::ct || settings.probe.kind == ProbeKind::ac_coupled;
+  if (o.probe_tau_s && !high_pass) {
+    throw CLI::ValidationError("--probe-tau " + std::to_string(*o.probe_tau_s) +
+                               " is for --probe ct or "
+                               "--probe ac-coupled, not --probe " +
+                               o.probe);
+  }
+  if (o.rogowski_v_s_per_a && settings.probe.kind != ProbeKind::rogowski)
+    throw CLI::ValidationError("--rogowski-m is for --probe rogowski, not --probe " + o.probe);
+  if (settings.probe.kind == ProbeKind::rogowski && !o.rogowski_v_s_per_a) {
+    throw CLI::ValidationError(
+        "--probe rogowski needs the coil's sensitivity: expected --rogowski-m "
+        "V_S_PER_A (volts per ampere per second, e.g. 1e-7)");
+  }
+  settings.probe.tau_s = o.probe_tau_s;
+  settings.probe.tau_tolerance_pct = o.probe_tau_pct;
+  settings.probe.rogowski_v_s_per_a = o.rogowski_v_s_per_a;
   settings.probe_gain_pct = o.probe_gain_pct;
   if (!o.zero.empty()) {
     settings.zero_stretch_s = parse_zero(o.zero);

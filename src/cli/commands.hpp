@@ -41,7 +41,11 @@ struct AnalysisOptions {
   std::size_t max_order = 40;      ///< highest harmonic order asked for; 0: no harmonics
   std::string reference = "auto";  ///< "auto", "current" or "voltage": what sets the cycles
   ReaderOptions reader;
-  bool picture = false;  ///< keep the average cycle and a strip of cycles (an HTML report)
+  bool picture = false;         ///< keep the average cycle and a strip of cycles (an HTML report)
+  std::string probe = "shunt";  ///< probe kind (probe.hpp's names)
+  std::optional<double> probe_tau_s;         ///< CT / AC-coupling time constant [s]
+  double probe_tau_pct = 0;                  ///< its tolerance, ± percent
+  std::optional<double> rogowski_v_s_per_a;  ///< a Rogowski coil's M [V·s/A]
 };
 
 /// Binds --probe-offset, --probe-gain-pct, --zero, --block-cycles, --max-order and the reader

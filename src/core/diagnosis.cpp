@@ -5,6 +5,7 @@
 #include <cstdio>
 
 #include "lopside/uncertainty.hpp"
+#include "lopside/units.hpp"
 
 namespace lopside {
 namespace {
@@ -17,6 +18,11 @@ std::string num(double v, const char* fmt = "%.3g") {
 
 std::string pct(double share) {
   return num(100 * share, "%.2f") + " %";
+}
+
+// "−3.41 mA": three significant digits in the prefix the size calls for, signed.
+std::string si_text(double v, const char* unit) {
+  return format_si(v, unit, 3, true);
 }
 
 // Weights of the deciding evidence in the confidence: 1 − Π(1 − w) over the items that support
@@ -439,6 +445,101 @@ HeatingShare heating_share(const CycleSummary& s, double cathode_share, const st
     }
   }
   return h;
+}
+
+namespace {
+
+// A diagnosis the probe gives no warning: only the dead intervals' part, when they set the zero.
+void finish_without(Diagnosis& d, const ProbeFindings& probe, const DeadLevel& dead) {
+  if (probe.method != "dead_intervals") return;
+  d.evidence.push_back(
+      Evidence{"dc_from_dead_intervals", -dead.level_a.value, dead.level_a.u95,
+               "The probe (" + probe.kind + ") blocks DC; the record rests at " +
+                   si_text(dead.level_a.value, "A") + " in " + std::to_string(dead.cycles_with) +
+                   " of " + std::to_string(dead.cycles_examined) +
+                   " cycles, where the true current is zero: that level was taken as the zero."});
+}
+
+}  // namespace
+
+void apply_probe_findings(Diagnosis& d, const CycleSummary& s, const ProbeFindings& probe,
+                          const DiagnosisThresholds& th) {
+  const DeadLevel& dead = probe.dead;
+  const double ac = s.ac_rms_a.value;
+  // The rest level, when the record has one: through a probe that blocks DC it is −DC.
+  const bool rests_off_zero = dead.found && std::fabs(dead.level_a.value) > dead.level_a.u95 &&
+                              std::fabs(dead.level_a.value) > th.negligible_dc_share * ac;
+  std::string sign_text =
+      rests_off_zero
+          ? " Between lobes the record rests at " + si_text(dead.level_a.value, "A") +
+                " instead of zero: through a probe that blocks DC that is the hidden DC with its "
+                "sign turned, so the hidden DC is " +
+                (dead.level_a.value < 0 ? std::string("positive") : std::string("negative")) +
+                " (electrode " + (dead.level_a.value < 0 ? "B" : "A") + " the preferred cathode)."
+          : " The shape alone does not tell the hidden DC's sign reliably (no rest between "
+            "lobes).";
+  std::string code, text;
+  if (!probe.passes_dc && probe.method == "not_recovered") {
+    code = "probe_blocks_dc";
+    text = "The stated probe (" + probe.kind +
+           ") blocks DC and nothing recovered it (no time constant for the droop correction, " +
+           (dead.found ? std::string("and dead intervals were not used") : dead.reason) +
+           "): the DC offset shown is the probe's, near zero whatever the real DC." + sign_text;
+  } else if (probe.passes_dc) {
+    // The DC is too small for what the half-cycles show: zero within its u95 or negligible, or
+    // far below the even harmonics (a weaker lobe or a longer half makes an even-harmonic rms
+    // of 0.5 to 1.5 times its DC; over 4 times, our own bar, the DC has gone missing), or below
+    // half the level the record rests at between lobes.
+    const double even_rms = s.harmonics && s.harmonics->even_evidence_available
+                                ? s.harmonics->even_significant_rms_a
+                                : 0.0;
+    const bool small_dc =
+        !s.dc_significant || std::fabs(s.dc_offset_a.value) < th.negligible_dc_share * ac ||
+        even_rms > 4 * std::fabs(s.dc_offset_a.value) ||
+        (rests_off_zero && std::fabs(s.dc_offset_a.value) < 0.5 * std::fabs(dead.level_a.value));
+    if (!small_dc) return finish_without(d, probe, dead);
+    std::vector<std::string> why;
+    if (s.harmonics && s.harmonics->even_evidence_available &&
+        !s.harmonics->even_significant_orders.empty())
+      why.push_back("even harmonics stand above the noise floor (orders " +
+                    order_list(s.harmonics->even_significant_orders) + ")");
+    if (std::fabs(s.positive_share.value - 0.5) > s.positive_share.u95 &&
+        std::fabs(s.positive_share.value - 0.5) > th.voltage_half_period_share)
+      why.push_back("the positive half lasts " + pct(s.positive_share.value) + " of the period");
+    const double dpeak = s.peak_positive_a.value + s.peak_negative_a.value;
+    const double upeak = std::hypot(s.peak_positive_a.u95, s.peak_negative_a.u95);
+    if (std::fabs(dpeak) > upeak && std::fabs(dpeak) > 0.01 * s.peak_positive_a.value)
+      why.push_back("the positive and negative peaks differ by " + si_text(dpeak, "A"));
+    if (rests_off_zero)
+      why.push_back("the current rests between lobes at " + si_text(dead.level_a.value, "A"));
+    if (!why.empty()) {
+      code = "probe_may_block_dc";
+      text =
+          "The current's mean is zero within its u95 or negligible, yet its half-cycles "
+          "differ (";
+      for (std::size_t k = 0; k < why.size(); ++k) text += (k ? "; " : "") + why[k];
+      text +=
+          "): a probe that blocks DC (a current transformer, a Rogowski coil, an AC-coupled "
+          "input) hides a DC exactly so." +
+          sign_text;
+    }
+  }
+  if (code.empty()) return finish_without(d, probe, dead);
+  d.evidence.push_back(Evidence{code, rests_off_zero ? -dead.level_a.value : 0.0,
+                                rests_off_zero ? dead.level_a.u95 : 0.0, text});
+  if (d.verdict == Verdict::symmetric) {
+    d.verdict = Verdict::inconclusive;
+    d.confidence = 0;
+    d.deciding = {code};
+  }
+  d.next_steps.insert(
+      d.next_steps.begin(),
+      probe.passes_dc
+          ? "Check the probe: record with a shunt or a Hall-effect probe, or state the probe "
+            "(--probe ct|rogowski|ac-coupled, with --probe-tau or --rogowski-m) so the DC can be "
+            "corrected or recovered."
+          : "Give the probe's time constant (--probe-tau, with --probe-tau-pct) and record from "
+            "before the discharge starts, or record with a shunt or a Hall-effect probe.");
 }
 
 }  // namespace lopside

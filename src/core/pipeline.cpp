@@ -8,9 +8,11 @@
 #include <string>
 #include <vector>
 
+#include "lopside/dead_interval.hpp"
 #include "lopside/error.hpp"
 #include "lopside/read_ahead.hpp"
 #include "lopside/uncertainty.hpp"
+#include "lopside/units.hpp"
 
 namespace lopside {
 namespace {
@@ -83,14 +85,21 @@ void check_current_unit(const MeasureSettings& o, const ChannelInfo& c,
 
 }  // namespace
 
-MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o,
-                              const MeasureCallbacks& callbacks) {
+namespace {
+
+// One measuring pass. `zero_override`: the current's zero taken from elsewhere (the dead
+// intervals' rest level) instead of the --zero stretch.
+MeasureResult measure_pass(const SourceOpener& open, const MeasureSettings& o,
+                           const MeasureCallbacks& callbacks, std::optional<Zero> zero_override) {
   const auto& per_cycle = callbacks.per_cycle;
   const std::optional<std::pair<double, double>>& zero_stretch = o.zero_stretch_s;
   Zero zero;
   // The stretch may lie anywhere in the record, so the capture is read twice: once for the
   // offset, once to measure.
-  if (zero_stretch) zero = measure_zero(open, o, zero_stretch->first, zero_stretch->second);
+  if (zero_override)
+    zero = *zero_override;
+  else if (zero_stretch)
+    zero = measure_zero(open, o, zero_stretch->first, zero_stretch->second);
 
   const std::unique_ptr<SampleSource> source = open();
   const CaptureInfo& info = source->info();
@@ -137,9 +146,11 @@ MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o
   std::optional<CyclePictureBuilder> picture;
   if (o.picture)
     picture.emplace(info.sample_rate_hz, info.start_time_s, *current, voltage, zero.value_a);
-  CycleEngine engine(config, [&per_cycle, &course, &picture](const CycleRecord& r) {
+  DeadIntervalFinder dead(info.sample_rate_hz, info.start_time_s, *current, zero.value_a);
+  CycleEngine engine(config, [&per_cycle, &course, &picture, &dead](const CycleRecord& r) {
     course.add(r);
     if (picture) picture->on_cycle(r);
+    dead.on_cycle(r);
     if (per_cycle) per_cycle(r);
   });
 
@@ -157,6 +168,7 @@ MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o
     while (reader.next(block)) {
       // The picture's ring first: the engine reports a cycle only once its frames are in.
       if (picture) picture->add_block(*block);
+      dead.add_block(*block);
       engine.consume(*block);
       frames += block->frames;
       const double share = stated_frames
@@ -198,6 +210,10 @@ MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o
   result.time_course = course.finish();
   result.diagnosis = diagnose(summary, result.time_course);
   if (picture) result.picture = picture->finish();
+  result.probe = o.probe;
+  result.probe_findings.kind = to_string(o.probe.kind);
+  result.probe_findings.passes_dc = passes_dc(o.probe.kind);
+  result.probe_findings.dead = dead.finish();
   result.warnings = source->warnings();
   for (const auto& w : unit_warnings) result.warnings.push_back(w);
   for (const auto& w : summary.warnings) result.warnings.push_back(w);
@@ -210,6 +226,117 @@ MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o
         "1e-6 after the first rows; times may be off by that share");
   }
   return result;
+}
+
+}  // namespace
+
+namespace {
+
+// A figure proportional to the DC gets the relative standard uncertainty `rel` more (in
+// quadrature, k = 2): the droop correction's DC scales with 1/τ (GUM 5.1.2).
+void widen(Estimate& e, double rel) {
+  const double extra = 2 * std::fabs(e.value) * rel;
+  e.u95 = std::sqrt(e.u95 * e.u95 + extra * extra);
+}
+
+}  // namespace
+
+MeasureResult measure_capture(const SourceOpener& open, const MeasureSettings& o,
+                              const MeasureCallbacks& callbacks) {
+  const ProbeSettings& probe = o.probe;
+  if (ProbeCorrectedSource::corrects(probe)) {
+    // A first read finds the quiet lead-in (the correction integrates from the record's start,
+    // which must be at zero current, and takes a Rogowski integrator's offset there).
+    std::optional<std::size_t> current;
+    LeadIn lead;
+    {
+      const auto first = open();
+      current = channel_with_role(first->info(), ChannelRole::current);
+      if (!current) return measure_pass(open, o, callbacks, std::nullopt);  // says what is missing
+      lead = find_lead_in(*first, *current);
+    }
+    const SourceOpener corrected = [&open, &probe, current,
+                                    lead]() -> std::unique_ptr<SampleSource> {
+      return std::make_unique<ProbeCorrectedSource>(open(), *current, probe, lead);
+    };
+    MeasureResult r = measure_pass(corrected, o, callbacks, std::nullopt);
+    const double rate = r.info.sample_rate_hz;
+    const double lead_s = static_cast<double>(lead.frames) / rate;
+    const double period_s = 1.0 / r.summary.fundamental_hz.value;
+    r.lead_in_s = lead_s;
+    if (!(lead_s >= period_s)) {
+      throw InputError(
+          o.capture_name,
+          std::string("--probe ") + to_string(probe.kind) +
+              (probe.kind == ProbeKind::rogowski ? " integration" : " droop correction") +
+              " needs a record that starts at zero current: the " +
+              (probe.kind == ProbeKind::rogowski ? "coil's output" : "current") +
+              " rises above 2 % of its peak after " + format_si(lead_s, "s", 3) +
+              ", less than one period (" + format_si(period_s, "s", 3) +
+              "); expected a quiet lead-in of at least one period (start the recording before the "
+              "discharge), or a probe that passes DC");
+    }
+    r.probe_findings.method = probe.kind == ProbeKind::rogowski ? "rogowski" : "droop";
+    // The integral carries the recorder's noise as a random walk, σ·√(Δt·t) after t, whose
+    // mean over a record of length T has the standard deviation σ·√(Δt·T/3); a Rogowski
+    // integrator's offset, estimated from the lead-in's mean, is off by σ/√n and ramps up to
+    // T times that, T/2 on average. Both scale by 1/M (Rogowski) or 1/τ (droop); σ is the
+    // lead-in's scatter, where the current is zero (GUM 5.1.2: added in quadrature).
+    {
+      const double dt = 1.0 / rate;
+      const double span = static_cast<double>(lead.total_frames) * dt;
+      const double scale =
+          probe.kind == ProbeKind::rogowski ? 1.0 / *probe.rogowski_v_s_per_a : 1.0 / *probe.tau_s;
+      double u = lead.sd * std::sqrt(dt * span / 3) * scale;
+      if (probe.kind == ProbeKind::rogowski && lead.frames > 1)
+        u = std::hypot(u, lead.sd / std::sqrt(static_cast<double>(lead.frames)) * span / 2 * scale);
+      CycleSummary& s = r.summary;
+      const double extra = 2 * u;
+      s.dc_offset_a.u95 = std::hypot(s.dc_offset_a.u95, extra);
+      if (s.rms_a.value > 0) s.dc_to_rms.u95 = std::hypot(s.dc_to_rms.u95, extra / s.rms_a.value);
+      if (s.ac_rms_a.value > 0)
+        s.dc_to_ac_rms.u95 = std::hypot(s.dc_to_ac_rms.u95, extra / s.ac_rms_a.value);
+      s.dc_significant = std::fabs(s.dc_offset_a.value) > s.dc_offset_a.u95;
+    }
+    if (probe.kind != ProbeKind::rogowski && probe.tau_tolerance_pct > 0) {
+      const double rel = rectangular(probe.tau_tolerance_pct / 100);
+      CycleSummary& s = r.summary;
+      for (Estimate* e : {&s.dc_offset_a, &s.dc_to_rms, &s.dc_to_ac_rms, &s.charge_asymmetry})
+        widen(*e, rel);
+      s.dc_significant = std::fabs(s.dc_offset_a.value) > s.dc_offset_a.u95;
+    }
+    r.diagnosis = diagnose(r.summary, r.time_course);
+    apply_probe_findings(r.diagnosis, r.summary, r.probe_findings);
+    return r;
+  }
+  if (passes_dc(probe.kind) || o.zero_stretch_s) {
+    MeasureResult r = measure_pass(open, o, callbacks, std::nullopt);
+    if (!passes_dc(probe.kind)) r.probe_findings.method = "not_recovered";
+    apply_probe_findings(r.diagnosis, r.summary, r.probe_findings);
+    return r;
+  }
+  // A probe that blocks DC, no τ: the first pass finds the rest level; where the discharge goes
+  // out in each cycle it is −DC, and the second pass takes it as the zero (its standard
+  // uncertainty u95/k carried like a --zero stretch's). The per-cycle table is written by the
+  // pass whose figures are reported.
+  MeasureCallbacks quiet = callbacks;
+  quiet.per_cycle = nullptr;
+  MeasureResult first = measure_pass(open, o, quiet, std::nullopt);
+  const DeadLevel dead = first.probe_findings.dead;
+  if (!dead.found && !callbacks.per_cycle) {
+    first.probe_findings.method = "not_recovered";
+    apply_probe_findings(first.diagnosis, first.summary, first.probe_findings);
+    return first;
+  }
+  Zero zero;
+  if (dead.found) zero = Zero{dead.level_a.value, dead.level_a.u95 / dead.level_a.coverage_k};
+  MeasureResult r =
+      measure_pass(open, o, callbacks, dead.found ? std::optional<Zero>(zero) : std::nullopt);
+  r.probe_findings.dead = dead;  // as read, before the shift
+  r.probe_findings.method = dead.found ? "dead_intervals" : "not_recovered";
+  if (dead.found) r.dc_from_dead_intervals_a = r.summary.dc_offset_a;
+  apply_probe_findings(r.diagnosis, r.summary, r.probe_findings);
+  return r;
 }
 
 }  // namespace lopside

@@ -24,6 +24,30 @@ std::string count_text(std::uint64_t n, const char* one, const char* many) {
   return std::to_string(n) + " " + (n == 1 ? one : many);
 }
 
+// The probe and how the DC was obtained through it, in a line.
+std::string probe_text(const MeasureResult& r) {
+  const ProbeSettings& p = r.probe;
+  std::string t = to_string(p.kind);
+  const std::string& m = r.probe_findings.method;
+  if (m == "direct") return t + " (passes DC)";
+  if (m == "droop")
+    return t + ", droop-corrected with tau " + format_si(*p.tau_s, "s", 4) +
+           (p.tau_tolerance_pct > 0 ? " \xC2\xB1 " + fixed(p.tau_tolerance_pct, 1) + " %" : "") +
+           (r.lead_in_s ? ", quiet lead-in " + format_si(*r.lead_in_s, "s", 3) : "");
+  if (m == "rogowski")
+    return t + ", integrated (M " + format_si(*p.rogowski_v_s_per_a, "V\xC2\xB7s/A", 4) + ")" +
+           (r.lead_in_s ? ", quiet lead-in " + format_si(*r.lead_in_s, "s", 3) : "");
+  if (m == "dead_intervals")
+    return t + " (blocks DC): the rest between lobes, " +
+           format_with_uncertainty(r.probe_findings.dead.level_a.value,
+                                   r.probe_findings.dead.level_a.u95, "A", true) +
+           ", taken as zero";
+  return t + " (blocks DC): the DC is NOT measured (" +
+         (r.probe_findings.dead.reason.empty() ? std::string("no time constant given")
+                                               : r.probe_findings.dead.reason) +
+         ")";
+}
+
 // The leading orders as a small table: enough to see DC, the fundamental and the first even
 // and odd harmonics at a glance; the full table goes to --spectrum and the JSON.
 void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1) {
@@ -217,6 +241,7 @@ void write_measure_text(std::ostream& out, const MeasureResult& r) {
                       " subtracted"
                 : std::string()));
   if (r.voltage_name) line(out, "voltage", "'" + *r.voltage_name + "'");
+  line(out, "probe", probe_text(r));
   line(out, "cycles",
        std::to_string(s.cycles) + " whole, from rising crossings of the " + s.reference + " (" +
            count_text(s.partial_cycles, "partial cycle", "partial cycles") +
@@ -311,6 +336,9 @@ void write_measure_summary(std::ostream& out, std::ostream& warn, const MeasureR
                           ", " + std::to_string(s.cycles) + " whole cycles from the " +
                           s.reference + "'s rising crossings",
                       width));
+  if (!passes_dc(r.probe.kind) || r.probe.kind == ProbeKind::hall) {
+    lines.push_back(cut("  probe " + probe_text(r), width));
+  }
   lines.emplace_back();
   add(wrap(verdict_sentence(d.verdict), width, "VERDICT  ", "         "));
   std::string deciding;
@@ -417,6 +445,27 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   probe["zero_stretch_s"] = r.zero_stretch_s
                                 ? json::array({r.zero_stretch_s->first, r.zero_stretch_s->second})
                                 : json(nullptr);
+  probe["kind"] = to_string(r.probe.kind);
+  probe["passes_dc"] = passes_dc(r.probe.kind);
+  probe["dc_method"] = r.probe_findings.method;
+  probe["tau_s"] = r.probe.tau_s ? json(*r.probe.tau_s) : json(nullptr);
+  probe["tau_tolerance_pct"] = r.probe.tau_tolerance_pct;
+  probe["rogowski_v_s_per_a"] =
+      r.probe.rogowski_v_s_per_a ? json(*r.probe.rogowski_v_s_per_a) : json(nullptr);
+  probe["lead_in_s"] = r.lead_in_s ? json(*r.lead_in_s) : json(nullptr);
+  {
+    const DeadLevel& dl = r.probe_findings.dead;
+    json dj;
+    dj["found"] = dl.found;
+    dj["cycles_examined"] = dl.cycles_examined;
+    dj["cycles_with"] = dl.cycles_with;
+    dj["share_of_period"] = dl.share_of_period;
+    dj["rest_level_a"] = dl.cycles_with > 0 ? estimate_json(dl.level_a) : json(nullptr);
+    dj["reason"] = dl.reason.empty() ? json(nullptr) : json(dl.reason);
+    probe["dead_intervals"] = dj;
+  }
+  probe["dc_from_dead_intervals_a"] =
+      r.dc_from_dead_intervals_a ? estimate_json(*r.dc_from_dead_intervals_a) : json(nullptr);
   doc["probe"] = probe;
   doc["reference"] = s.reference;
   doc["fundamental_hz"] = estimate_json(s.fundamental_hz);

@@ -39,6 +39,7 @@ struct SynthOptions {
   double clip_low_a = 0.0;
   double build_up_tau_s = 0.0;
   double flip_at_s = 0.0;
+  std::string probe;
   std::string shape;
   std::string delimiter;
   std::string unit_style;
@@ -52,6 +53,10 @@ const Names<Shape> shape_names{{"sine", Shape::sine},
                                {"square", Shape::square},
                                {"triangle", Shape::triangle},
                                {"lobed", Shape::lobed}};
+const Names<Probe> probe_names{{"shunt", Probe::shunt},
+                               {"ct", Probe::current_transformer},
+                               {"ac-coupled", Probe::ac_coupled},
+                               {"rogowski", Probe::rogowski}};
 const Names<Delimiter> delimiter_names{{"comma", Delimiter::comma},
                                        {"semicolon", Delimiter::semicolon},
                                        {"tab", Delimiter::tab},
@@ -112,24 +117,57 @@ void setup(CLI::App& app, SynthOptions& o) {
   app.add_option("--lobe", i.lobe_share, "lobed: fraction of each half-cycle the lobe lasts")
       ->default_val(0.6)
       ->group(wave);
-  app.add_option("--noise-rms", o.spec.noise_rms_a, "white Gaussian noise on the current [A rms]")
+  app.add_option("--noise-rms", o.spec.noise_rms_a,
+                 "white Gaussian recorder noise, added to the current channel as recorded (after "
+                 "the probe) [A rms; V rms with --probe rogowski]")
       ->default_val(0.0)
       ->group(wave);
   app.add_option("--seed", o.spec.seed, "seed of the noise generator (mt19937_64)")
       ->default_val(1)
       ->group(wave);
-  app.add_option("--clip-high", o.clip_high_a, "clip the current above this level [A]")
+  app.add_option("--clip-high", o.clip_high_a,
+                 "recorder range: clip the current channel as recorded above this level "
+                 "[A; V with --probe rogowski]")
       ->group(wave);
-  app.add_option("--clip-low", o.clip_low_a, "clip the current below this level [A] (negative)")
+  app.add_option("--clip-low", o.clip_low_a,
+                 "recorder range: clip the current channel as recorded below this level "
+                 "(negative) [A; V with --probe rogowski]")
+      ->group(wave);
+  app.add_option("--lead-in", o.spec.lead_in_s,
+                 "quiet lead-in: the current is exactly zero for the first S seconds (discharge "
+                 "not yet ignited), then starts with the phase --phase gives; the voltage "
+                 "channel (the supply) runs throughout, on the same phase [s]")
+      ->check(CLI::NonNegativeNumber)
+      ->default_val(0.0)
       ->group(wave);
   app.add_option("--build-up-tau", o.build_up_tau_s,
-                 "the lobe asymmetry builds up from none with this time constant after t = 0 [s]")
+                 "the lobe asymmetry builds up from none with this time constant after "
+                 "ignition (t = 0, or the end of --lead-in) [s]")
       ->check(CLI::PositiveNumber)
       ->group(wave);
   app.add_option("--flip-at", o.flip_at_s,
                  "from this time on the lobe asymmetry is mirrored: the DC changes sign [s]")
       ->check(CLI::NonNegativeNumber)
       ->group(wave);
+
+  auto* probe = "Probe (what records the current; the voltage channel is never filtered)";
+  app.add_option("--probe", o.probe,
+                 "shunt: passes DC, the current as it is; ct or ac-coupled: first-order "
+                 "high-pass y' = x' - y/tau (needs --probe-tau), passes no DC; rogowski: "
+                 "M di/dt in volts (needs --rogowski-m). The probe starts at rest with zero "
+                 "current before the first frame")
+      ->check(CLI::IsMember(keys(probe_names)))
+      ->default_val("shunt")
+      ->group(probe);
+  app.add_option("--probe-tau", o.spec.probe.tau_s,
+                 "time constant of the ct or ac-coupled high-pass [s]")
+      ->check(CLI::PositiveNumber)
+      ->group(probe);
+  app.add_option("--rogowski-m", o.spec.probe.rogowski_m_vs_per_a,
+                 "sensitivity M of the Rogowski coil: output = M di/dt [V s/A]; the current "
+                 "channel is then written in volts")
+      ->check(CLI::PositiveNumber)
+      ->group(probe);
 
   auto* timing = "Timing";
   app.add_option("--frequency", t.start_frequency_hz, "frequency (at the start) [Hz]")
@@ -183,11 +221,13 @@ void setup(CLI::App& app, SynthOptions& o) {
       ->check(CLI::IsMember({"s", "ms", "us", "\xC2\xB5s", "ns"}))
       ->default_val("s")
       ->group(text);
-  app.add_option("--current-unit", f.current_unit, "unit the current is written in")
+  app.add_option("--current-unit", f.current_unit,
+                 "unit the current channel is written in (V, mV or kV with --probe rogowski; "
+                 "A there means V)")
       ->check(CLI::IsMember({"A", "mA", "uA",
                              "\xC2\xB5"
                              "A",
-                             "kA"}))
+                             "kA", "V", "mV", "kV"}))
       ->default_val("A")
       ->group(text);
   app.add_option("--voltage-unit", f.voltage_unit, "unit the voltage is written in")
@@ -268,6 +308,18 @@ int run(const CLI::App& app, SynthOptions& o) {
     o.text.metadata.emplace_back(kv.substr(0, eq), kv.substr(eq + 1));
   }
   spec.current.shape = lookup(shape_names, o.shape);
+  spec.probe.kind = lookup(probe_names, o.probe);
+  const bool high_pass =
+      spec.probe.kind == Probe::current_transformer || spec.probe.kind == Probe::ac_coupled;
+  if (high_pass != (app.count("--probe-tau") > 0)) {
+    throw std::invalid_argument(high_pass ? "--probe " + o.probe + " needs --probe-tau"
+                                          : "--probe-tau needs --probe ct or ac-coupled");
+  }
+  if ((spec.probe.kind == Probe::rogowski) != (app.count("--rogowski-m") > 0)) {
+    throw std::invalid_argument(app.count("--rogowski-m") > 0
+                                    ? "--rogowski-m needs --probe rogowski"
+                                    : "--probe rogowski needs --rogowski-m");
+  }
   o.text.delimiter = lookup(delimiter_names, o.delimiter);
   // A .tsv name means tab-separated unless --delimiter says otherwise.
   if (app.count("--delimiter") == 0 && std::filesystem::path(o.output).extension() == ".tsv") {
@@ -286,6 +338,7 @@ int run(const CLI::App& app, SynthOptions& o) {
 
   Generator generator(spec);
   const OutputKind kind = output_kind(o);
+  const bool volts = spec.probe.kind == Probe::rogowski;
   std::string summary;
   if (kind == OutputKind::csv) {
     AtomicOutput out(o.output);
@@ -310,7 +363,7 @@ int run(const CLI::App& app, SynthOptions& o) {
     write_sound(generator, o.sound, o.output);
     const auto scales = full_scales(spec, o.sound);
     summary = std::string(to_string(o.sound.container)) + " " + to_string(o.sound.sample_format) +
-              ", full scale " + format_si(scales[0], "A") +
+              ", full scale " + format_si(scales[0], volts ? "V" : "A") +
               (scales.size() > 1 ? ", " + format_si(scales[1], "V") : "");
   }
   if (o.verbose && o.output != "-") {
@@ -319,6 +372,19 @@ int run(const CLI::App& app, SynthOptions& o) {
               << " channel(s), " << format_si(spec.timebase.sample_rate_hz, "Hz") << "\n"
               << "lopside-synth: noise-free current mean over whole cycles "
               << format_si(cycle_mean(spec.current), "A", 6, true) << "\n";
+    // The truth before the probe: what a DC-blocking probe hides and a correction must find.
+    std::cout << "lopside-synth: probe " << probe_name(spec.probe.kind);
+    if (high_pass) std::cout << ", time constant " << format_si(spec.probe.tau_s, "s");
+    if (volts) {
+      std::cout << ", M " << format_si(spec.probe.rogowski_m_vs_per_a, "H") << " (V·s/A)"
+                << " (the current channel is M·di/dt in V)";
+    }
+    std::cout << "; true DC of the current before the probe "
+              << format_si(cycle_mean(spec.current), "A", 6, true) << "\n";
+    if (spec.lead_in_s > 0.0) {
+      std::cout << "lopside-synth: current zero for the first " << format_si(spec.lead_in_s, "s")
+                << " (lead-in)" << (spec.voltage ? ", voltage on throughout" : "") << "\n";
+    }
   }
   return exit_code::ok;
 }

@@ -77,6 +77,51 @@ double half_wave_mean(const Waveform& w) {
   return 0.0;
 }
 
+// dh/dp of half_wave(): sine π cos(πp), square 0, triangle ±2, lobed (π/w) cos(π(p − b)/w)
+// inside the lobe. At a kink, the side half_wave() itself takes (p ≥ the kink: the later one).
+double half_wave_slope(const Waveform& w, double p) {
+  switch (w.shape) {
+    case Shape::sine:
+      return pi * std::cos(pi * p);
+    case Shape::square:
+      return 0.0;
+    case Shape::triangle:
+      return p < 0.5 ? 2.0 : -2.0;
+    case Shape::lobed: {
+      const double q = (p - w.breakdown_share) / w.lobe_share;
+      return (q >= 0.0 && q < 1.0) ? pi / w.lobe_share * std::cos(pi * q) : 0.0;
+    }
+  }
+  return 0.0;
+}
+
+// Largest dh/dp over a half: sine π (at p = 0), triangle 2, lobed π/w, square 0.
+double half_wave_max_slope(const Waveform& w) {
+  switch (w.shape) {
+    case Shape::sine:
+      return pi;
+    case Shape::square:
+      return 0.0;
+    case Shape::triangle:
+      return 2.0;
+    case Shape::lobed:
+      return pi / w.lobe_share;
+  }
+  return 0.0;
+}
+
+// Peaks of the two halves over the whole record, build-up and flip included: the build-up
+// moves the negative peak between peak and ratio·peak; after a flip the positive peak is
+// ratio(t)·peak and the negative one peak.
+std::pair<double, double> half_peaks(const CaptureSpec& spec) {
+  const Waveform& w = spec.current;
+  const bool flip = spec.polarity_flip_s.has_value();
+  const bool varies = flip || spec.build_up_tau_s.has_value();
+  const double positive = w.peak * (flip ? std::max(1.0, w.negative_ratio) : 1.0);
+  const double negative = w.peak * (varies ? std::max(1.0, w.negative_ratio) : w.negative_ratio);
+  return {positive, negative};
+}
+
 // Factor of the text units TextFormat offers; SI prefixes per the SI Brochure (BIPM, 9th ed.).
 struct UnitEntry {
   std::string_view symbol;
@@ -132,6 +177,21 @@ void validate(const CaptureSpec& spec) {
   require(!spec.polarity_flip_s || (finite(*spec.polarity_flip_s) && *spec.polarity_flip_s >= 0.0 &&
                                     spec.current.negative_ratio > 0.0),
           "polarity flip needs a time ≥ 0 and a negative ratio > 0");
+  require(finite(spec.lead_in_s) && spec.lead_in_s >= 0.0 && spec.lead_in_s < t.duration_s,
+          "lead-in must be ≥ 0 and shorter than the record");
+  switch (spec.probe.kind) {
+    case Probe::shunt:
+      break;
+    case Probe::current_transformer:
+    case Probe::ac_coupled:
+      require(finite(spec.probe.tau_s) && spec.probe.tau_s > 0.0,
+              std::string("probe ") + probe_name(spec.probe.kind) + " needs a time constant > 0");
+      break;
+    case Probe::rogowski:
+      require(finite(spec.probe.rogowski_m_vs_per_a) && spec.probe.rogowski_m_vs_per_a > 0.0,
+              "probe rogowski needs a sensitivity M > 0 [V·s/A]");
+      break;
+  }
   require(!spec.clip_high_a || finite(*spec.clip_high_a), "clip level must be finite");
   require(!spec.clip_low_a || finite(*spec.clip_low_a), "clip level must be finite");
   require(!spec.clip_high_a || !spec.clip_low_a || *spec.clip_low_a < *spec.clip_high_a,
@@ -168,15 +228,73 @@ double cycle_mean(const Waveform& w) {
   return w.dc + w.peak * half_wave_mean(w) * (d - (1.0 - d) * w.negative_ratio);
 }
 
+const char* probe_name(Probe probe) {
+  switch (probe) {
+    case Probe::shunt:
+      return "shunt";
+    case Probe::current_transformer:
+      return "ct";
+    case Probe::ac_coupled:
+      return "ac-coupled";
+    case Probe::rogowski:
+      return "rogowski";
+  }
+  return "shunt";
+}
+
+double waveform_slope(const Waveform& w, double phase) {
+  // Chain rule on waveform_value(): p = u/D on the positive half, (u − D)/(1 − D) on the
+  // negative one, so d/du = h'(p)/D and −ratio·h'(p)/(1 − D).
+  const double u = phase - std::floor(phase);
+  const double d = w.positive_share;
+  const double slope =
+      u < d ? half_wave_slope(w, u / d) / d
+            : -w.negative_ratio * half_wave_slope(w, (u - d) / (1.0 - d)) / (1.0 - d);
+  return w.peak * slope;
+}
+
 double current_bound_a(const CaptureSpec& spec) {
   // 5 rms: Gaussian noise exceeds it in magnitude with probability 5.7e-7 per sample.
   const Waveform& w = spec.current;
   const double lowest = spec.clip_low_a.value_or(-std::numeric_limits<double>::infinity());
   const double highest = spec.clip_high_a.value_or(std::numeric_limits<double>::infinity());
   const auto clip = [&](double v) { return std::clamp(v, lowest, highest); };
-  const double high = clip(w.dc + w.peak + 5.0 * spec.noise_rms_a);
-  const double low = clip(w.dc - w.negative_ratio * w.peak - 5.0 * spec.noise_rms_a);
-  return std::max(std::abs(high), std::abs(low));
+  const double noise = 5.0 * spec.noise_rms_a;
+  switch (spec.probe.kind) {
+    case Probe::shunt: {
+      const double high = clip(w.dc + w.peak + noise);
+      const double low = clip(w.dc - w.negative_ratio * w.peak - noise);
+      return std::max(std::abs(high), std::abs(low));
+    }
+    case Probe::current_transformer:
+    case Probe::ac_coupled: {
+      // y = x − L, L the first-order low-pass of x started at rest: a weighted mean of 0 and
+      // past inputs, so L ∈ [min(lo, 0), max(hi, 0)] and |y| ≤ max(hi, 0) − min(lo, 0).
+      const auto [positive, negative] = half_peaks(spec);
+      const double span = std::max(w.dc + positive, 0.0) - std::min(w.dc - negative, 0.0);
+      return std::max(std::abs(clip(span + noise)), std::abs(clip(-span - noise)));
+    }
+    case Probe::rogowski: {
+      // M·(largest slope + largest step / Δt): the slope through the phase (f · dh/du) plus the
+      // build-up's own rate peak·|r − 1|/τ; steps only where the waveform has them.
+      const Timebase& t = spec.timebase;
+      const auto [positive, negative] = half_peaks(spec);
+      const double f = std::max(t.start_frequency_hz, t.end_frequency_hz);
+      double slope = f * half_wave_max_slope(w) *
+                     std::max(positive / w.positive_share, negative / (1.0 - w.positive_share));
+      if (spec.build_up_tau_s) {
+        slope += w.peak * std::abs(w.negative_ratio - 1.0) / *spec.build_up_tau_s;
+      }
+      const Generator g(spec);
+      double step = std::abs(g.ideal_current_a(spec.lead_in_s));  // the ignition
+      if (w.shape == Shape::square || spec.polarity_flip_s) {
+        step = std::max(step, positive + negative);
+      }
+      const double out = spec.probe.rogowski_m_vs_per_a * (slope + step * t.sample_rate_hz) + noise;
+      return std::max(std::abs(clip(out)), std::abs(clip(-out)));
+    }
+  }
+  return 0.0;
 }
 
 double voltage_bound_v(const CaptureSpec& spec) {
@@ -201,6 +319,8 @@ Generator::Generator(CaptureSpec spec)
   validate(spec_);
   frames_ = static_cast<std::uint64_t>(
       std::round(spec_.timebase.duration_s * spec_.timebase.sample_rate_hz));
+  // Without a lead-in this is φ0 − φ0 = 0 exactly, so the phase is phase_cycles() unchanged.
+  shift_ = phase_cycles(spec_.timebase, spec_.lead_in_s) - spec_.timebase.start_phase_deg / 360.0;
 }
 
 double Generator::elapsed_s(std::uint64_t frame) const {
@@ -212,8 +332,8 @@ Waveform Generator::current_waveform_at(double elapsed) const {
   Waveform w = spec_.current;
   if (spec_.build_up_tau_s) {
     // First-order approach to the plateau, the response of the thermal feedback the DOMAIN
-    // note describes (a model for tests, not a claim about any discharge).
-    const double g = 1.0 - std::exp(-elapsed / *spec_.build_up_tau_s);
+    // note describes (a model for tests, not a claim about any discharge), from ignition.
+    const double g = 1.0 - std::exp(-(elapsed - spec_.lead_in_s) / *spec_.build_up_tau_s);
     w.negative_ratio = 1.0 + (spec_.current.negative_ratio - 1.0) * g;
   }
   if (spec_.polarity_flip_s && elapsed >= *spec_.polarity_flip_s) {
@@ -225,25 +345,135 @@ Waveform Generator::current_waveform_at(double elapsed) const {
 }
 
 double Generator::ideal_current_a(double elapsed) const {
-  return waveform_value(current_waveform_at(elapsed), phase_cycles(spec_.timebase, elapsed));
+  if (elapsed < spec_.lead_in_s) return 0.0;
+  return waveform_value(current_waveform_at(elapsed), phase_at(elapsed));
+}
+
+double Generator::ideal_current_slope_a_per_s(double elapsed) const {
+  if (elapsed < spec_.lead_in_s) return 0.0;
+  const Waveform w = current_waveform_at(elapsed);
+  const double phase = phase_at(elapsed);
+  // dφ/dt is the instantaneous frequency (phase_at is its integral).
+  double slope = waveform_slope(w, phase) * frequency_hz(spec_.timebase, elapsed);
+  if (spec_.build_up_tau_s) {
+    // The build-up also changes the waveform at a fixed phase: ratio(s) = 1 + (r − 1)(1 −
+    // e^(−s/τ)) has rate (r − 1) e^(−s/τ)/τ. Before a flip it scales the negative half
+    // (−ratio·peak·h); after it the positive half (ratio·peak·h), the negative one being
+    // (1/ratio)·(ratio·peak)·h = peak·h, constant.
+    const double tau = *spec_.build_up_tau_s;
+    const double rate =
+        (spec_.current.negative_ratio - 1.0) * std::exp(-(elapsed - spec_.lead_in_s) / tau) / tau;
+    const double u = phase - std::floor(phase);
+    const double d = w.positive_share;
+    const bool flipped = spec_.polarity_flip_s && elapsed >= *spec_.polarity_flip_s;
+    if (!flipped && u >= d) slope -= rate * spec_.current.peak * half_wave(w, (u - d) / (1.0 - d));
+    if (flipped && u < d) slope += rate * spec_.current.peak * half_wave(w, u / d);
+  }
+  return slope;
+}
+
+std::vector<Generator::Step> Generator::steps(double from, double to) const {
+  std::vector<Step> out;
+  const double lead_in = spec_.lead_in_s;
+  // Ignition: from 0 to the waveform's value there (the current is 0 before the first frame).
+  if (lead_in > from && lead_in <= to) out.push_back({lead_in, ideal_current_a(lead_in)});
+  // A polarity flip after ignition: the mirrored waveform against the one just before.
+  if (spec_.polarity_flip_s) {
+    const double flip = *spec_.polarity_flip_s;
+    if (flip > lead_in && flip > from && flip <= to) {
+      const double phase = phase_at(flip);
+      const Waveform before =
+          current_waveform_at(std::nextafter(flip, -std::numeric_limits<double>::infinity()));
+      out.push_back(
+          {flip, waveform_value(current_waveform_at(flip), phase) - waveform_value(before, phase)});
+    }
+  }
+  // Square edges after ignition: at phase k (−ratio·peak → peak) and k + D (back).
+  if (spec_.current.shape == Shape::square) {
+    const Timebase& t = spec_.timebase;
+    const double f0 = t.start_frequency_hz;
+    const double drift = (t.end_frequency_hz - f0) / t.duration_s;
+    const double p_from = phase_at(from), p_to = phase_at(to);
+    for (const double offset : {0.0, spec_.current.positive_share}) {
+      for (double k = std::floor(p_from - offset) + 1.0; k + offset <= p_to; k += 1.0) {
+        // Time where the phase reaches k + offset: f0·τ + s·τ²/2 = Δ, solved in the form
+        // τ = 2Δ / (f0 + √(f0² + 2sΔ)) that has no cancellation and holds for s = 0.
+        const double delta = k + offset + shift_ - t.start_phase_deg / 360.0;
+        const double time =
+            std::clamp(2.0 * delta / (f0 + std::sqrt(f0 * f0 + 2.0 * drift * delta)),
+                       std::nextafter(from, to), to);
+        if (time <= lead_in) continue;
+        const Waveform w = current_waveform_at(time);
+        const double jump = w.peak * (1.0 + w.negative_ratio);
+        out.push_back({time, offset == 0.0 ? jump : -jump});
+      }
+    }
+  }
+  return out;
 }
 
 double Generator::ideal_voltage_v(double elapsed) const {
-  return spec_.voltage ? waveform_value(*spec_.voltage, phase_cycles(spec_.timebase, elapsed))
-                       : 0.0;
+  return spec_.voltage ? waveform_value(*spec_.voltage, phase_at(elapsed)) : 0.0;
 }
 
 std::size_t Generator::read(std::vector<double>& interleaved, std::size_t max_frames) {
   const std::uint64_t left = frames_ - next_;
   const std::size_t n = static_cast<std::size_t>(std::min<std::uint64_t>(left, max_frames));
   const std::size_t ch = channels();
+  const double dt = 1.0 / spec_.timebase.sample_rate_hz;
   interleaved.resize(n * ch);
   for (std::size_t f = 0; f < n; ++f, ++next_) {
     const double elapsed = elapsed_s(next_);
-    const double phase = phase_cycles(spec_.timebase, elapsed);
+    const double phase = phase_at(elapsed);
     const bool varies = spec_.build_up_tau_s || spec_.polarity_flip_s;
-    double current = waveform_value(varies ? current_waveform_at(elapsed) : spec_.current, phase);
+    double current =
+        elapsed < spec_.lead_in_s
+            ? 0.0
+            : waveform_value(varies ? current_waveform_at(elapsed) : spec_.current, phase);
+    // The frame covers (previous frame, this frame]; frame 0 covers (−Δt, 0], the probe at
+    // rest with zero current before it.
+    const double previous = next_ == 0 ? -dt : elapsed_s(next_ - 1);
+    switch (spec_.probe.kind) {
+      case Probe::shunt:
+        break;
+      case Probe::current_transformer:
+      case Probe::ac_coupled: {
+        // First-order high-pass y' = x' − y/τ (a CT's magnetising inductance, or a coupling
+        // capacitor into an input resistance). Variation of constants over one frame:
+        //   y(tₙ) = a·y(tₙ₋₁) + ∫ e^(−(tₙ − s)/τ) x'(s) ds over (tₙ₋₁, tₙ],  a = e^(−Δt/τ).
+        // With x linear between frames, x' = (xₙ − xₙ₋₁)/Δt and the integral is
+        // (τ/Δt)(1 − a)(xₙ − xₙ₋₁); a step J at t_s adds J·δ(s − t_s) to x', hence
+        // J·e^(−(tₙ − t_s)/τ), and leaves xₙ − xₙ₋₁ − J to the ramp. Exact for signals that
+        // are linear between frames apart from known steps (the triangle-hold equivalent of
+        // Franklin, Powell & Workman, Digital Control of Dynamic Systems).
+        const double tau = spec_.probe.tau_s;
+        const double a = std::exp(-dt / tau);
+        const double ramp_gain =
+            -std::expm1(-dt / tau) * tau / dt;  // (τ/Δt)(1 − a), no cancellation
+        double output = a * previous_output_a_;
+        double ramp = current - previous_input_a_;
+        for (const Step& s : steps(previous, elapsed)) {
+          ramp -= s.jump_a;
+          output += s.jump_a * std::exp(-(elapsed - s.time_s) / tau);
+        }
+        output += ramp_gain * ramp;
+        previous_input_a_ = current;
+        previous_output_a_ = output;
+        current = output;
+        break;
+      }
+      case Probe::rogowski: {
+        // v = M·di/dt from the exact derivative; a step J is the impulse J·δ(t − t_s), kept as
+        // one frame of M·J/Δt so that the record's integral (rectangle or trapezoid rule)
+        // carries the step.
+        double didt = ideal_current_slope_a_per_s(elapsed);
+        for (const Step& s : steps(previous, elapsed)) didt += s.jump_a / dt;
+        current = spec_.probe.rogowski_m_vs_per_a * didt;
+        break;
+      }
+    }
     // One standard normal draw per frame, scaled: the sequence depends on the seed only.
+    // Recorder noise: added to what the probe delivers.
     if (spec_.noise_rms_a > 0.0) current += spec_.noise_rms_a * noise_(rng_);
     if (spec_.clip_high_a) current = std::min(current, *spec_.clip_high_a);
     if (spec_.clip_low_a) current = std::max(current, *spec_.clip_low_a);
@@ -383,13 +613,20 @@ std::string metadata_value(const RowWriter& w, const std::string& v) {
 
 void write_text(Generator& generator, const TextFormat& f, std::ostream& out) {
   const auto time_factor = unit_factor(f.time_unit);
-  const auto current_factor = unit_factor(f.current_unit);
   const auto voltage_factor = unit_factor(f.voltage_unit);
   if (!time_factor || base_of(f.time_unit) != 's') {
     throw std::invalid_argument("time unit must be one of s, ms, us, µs, ns");
   }
-  if (!current_factor || base_of(f.current_unit) != 'A') {
+  // A Rogowski coil's channel is in volts: the default "A" becomes "V".
+  const bool rogowski = generator.spec().probe.kind == Probe::rogowski;
+  const std::string current_unit = rogowski && f.current_unit == "A" ? "V" : f.current_unit;
+  const auto current_factor = unit_factor(current_unit);
+  if (!rogowski && (!current_factor || base_of(current_unit) != 'A')) {
     throw std::invalid_argument("current unit must be one of A, mA, uA, µA, kA");
+  }
+  if (rogowski && (!current_factor || base_of(current_unit) != 'V')) {
+    throw std::invalid_argument(
+        "with a Rogowski probe the current channel is in volts: its unit must be V, mV or kV");
   }
   if (!voltage_factor || base_of(f.voltage_unit) != 'V') {
     throw std::invalid_argument("voltage unit must be one of V, mV, kV");
@@ -434,7 +671,7 @@ void write_text(Generator& generator, const TextFormat& f, std::ostream& out) {
       w.text(header_cell(f, name, unit));
     };
     if (f.time_column) cell(f.time_name, f.time_unit);
-    cell(f.current_name, f.current_unit);
+    cell(f.current_name, current_unit);
     if (has_voltage) cell(f.voltage_name, f.voltage_unit);
     w.end();
   }

@@ -50,16 +50,47 @@ struct Timebase {
   double start_phase_deg = 0.0;      ///< phase at the first frame; 0 = start of a positive half
 };
 
+/// What records the current (see Generator::read() for the models). The probe acts on the
+/// noise-free current; the recorder's noise and range (CaptureSpec::noise_rms_a, clip levels)
+/// then act on the probe's output, the channel as recorded. The voltage channel never passes a
+/// probe model.
+enum class Probe {
+  shunt,                ///< passes DC: the channel is the current [A]
+  current_transformer,  ///< first-order high-pass of time constant tau_s [A]
+  ac_coupled,           ///< the same high-pass, named for AC-coupled inputs (sound cards) [A]
+  rogowski,             ///< M·di/dt of the current [V], M = rogowski_m_vs_per_a
+};
+
+/// Option-style name of `probe`: "shunt", "ct", "ac-coupled", "rogowski".
+const char* probe_name(Probe probe);
+
+/// A probe and its parameters.
+struct ProbeModel {
+  Probe kind = Probe::shunt;
+  double tau_s = 0.0;                ///< current_transformer, ac_coupled: time constant, > 0
+  double rogowski_m_vs_per_a = 0.0;  ///< rogowski: mutual inductance M [V·s/A = H], > 0
+};
+
 /// Everything that defines a synthetic capture.
 struct CaptureSpec {
   Timebase timebase;
-  Waveform current;                   ///< channel 1, amperes
-  double noise_rms_a = 0.0;           ///< white Gaussian noise added to the current, ≥ 0
-  std::optional<double> clip_high_a;  ///< recorder range: current values above are clipped
-  std::optional<double> clip_low_a;   ///< recorder range: current values below are clipped
-  std::optional<Waveform> voltage;    ///< channel 2, volts (usually Shape::sine)
-  /// Self-rectification building up after ignition at t = 0: the current's negative_ratio
-  /// approaches its set value from 1 (symmetric) as 1 + (ratio − 1)·(1 − e^(−t/τ)) [s].
+  Waveform current;  ///< channel 1, amperes
+  /// White Gaussian recorder noise added to channel 1 as recorded (after the probe), ≥ 0
+  /// [A rms; V rms with a Rogowski probe].
+  double noise_rms_a = 0.0;
+  /// Recorder range: channel-1 values above are clipped [A; V with a Rogowski probe].
+  std::optional<double> clip_high_a;
+  /// Recorder range: channel-1 values below are clipped [A; V with a Rogowski probe].
+  std::optional<double> clip_low_a;
+  std::optional<Waveform> voltage;  ///< channel 2, volts (usually Shape::sine)
+  /// Quiet lead-in [s], 0 ≤ lead_in_s < duration_s: the current is exactly zero (discharge not
+  /// ignited) before this time after the first frame and starts at it, with the phase
+  /// start_phase_deg there. The voltage (the supply) runs throughout, on the same phase.
+  double lead_in_s = 0.0;
+  ProbeModel probe;  ///< what records channel 1
+  /// Self-rectification building up after ignition (the end of the lead-in): the current's
+  /// negative_ratio approaches its set value from 1 (symmetric) as
+  /// 1 + (ratio − 1)·(1 − e^(−s/τ)), s the time since ignition [s].
   std::optional<double> build_up_tau_s;
   /// The discharge changing its preferred cathode: from this time on [s, after the first
   /// frame] the current's lobe asymmetry is mirrored (positive peak ratio × peak, negative peak
@@ -85,8 +116,12 @@ double waveform_value(const Waveform& waveform, double phase);
 /// mean of the half-wave shape (sine 2/π, square 1, triangle 1/2, lobed 2·lobe_share/π).
 double cycle_mean(const Waveform& waveform);
 
-/// Largest |value| the current channel can take: the waveform's extremes plus 5 noise rms,
-/// limited by the clip levels.
+/// d/dphase of waveform_value() at `phase` [channel unit per cycle]; at a kink the slope of
+/// the side waveform_value() takes, 0 on a square wave (its edges are steps).
+double waveform_slope(const Waveform& waveform, double phase);
+
+/// Largest |value| channel 1 can take as recorded: the probe output's bound (shunt: the
+/// waveform's extremes) plus 5 noise rms, limited by the clip levels [A; V with a Rogowski].
 double current_bound_a(const CaptureSpec& spec);
 /// Largest |value| of the voltage channel (0 without one).
 double voltage_bound_v(const CaptureSpec& spec);
@@ -95,8 +130,8 @@ double voltage_bound_v(const CaptureSpec& spec);
 /// sound files when none is given, so that no value reaches the top code and clips.
 double nice_full_scale(double bound);
 
-/// Streams the frames of a capture: interleaved [current, voltage] values in A and V,
-/// noise and clipping applied.
+/// Streams the frames of a capture: interleaved [channel 1, voltage] values, channel 1 the
+/// current through the probe model (A, or V for a Rogowski coil), noise and clipping applied.
 class Generator {
  public:
   /// Validates `spec` (see validate()).
@@ -113,8 +148,26 @@ class Generator {
     return spec_.timebase.start_time_s + elapsed_s(frame);
   }
 
-  /// Noise-free, unclipped current `elapsed_s` after the first frame [A].
+  /// Noise-free, unclipped current `elapsed_s` after the first frame, before the probe [A];
+  /// 0 during the lead-in.
   double ideal_current_a(double elapsed_s) const;
+  /// Its exact time derivative [A/s] (analytic; 0 during the lead-in). Steps (the ignition
+  /// at the end of the lead-in, square edges, a polarity flip) are not in it: see steps().
+  double ideal_current_slope_a_per_s(double elapsed_s) const;
+  /// A step of the noise-free current: at `time_s` after the first frame it changes by
+  /// `jump_a` [A].
+  struct Step {
+    double time_s;
+    double jump_a;
+  };
+  /// The steps of the noise-free current in (from_s, to_s]. The current is 0 before the first
+  /// frame (the probe at rest), so a record that does not start at zero has a step at 0.
+  std::vector<Step> steps(double from_s, double to_s) const;
+  /// Instantaneous phase [cycles] shared by current and voltage: phase_cycles() shifted so
+  /// that it equals start_phase_deg / 360 at the end of the lead-in.
+  double phase_at(double elapsed_s) const {
+    return phase_cycles(spec_.timebase, elapsed_s) - shift_;
+  }
   /// The current's waveform in force `elapsed_s` after the first frame (build-up and flip
   /// applied); cycle_mean() of it is the DC of a cycle there.
   Waveform current_waveform_at(double elapsed_s) const;
@@ -133,6 +186,10 @@ class Generator {
   std::uint64_t next_ = 0;
   std::mt19937_64 rng_;
   std::normal_distribution<double> noise_;
+  double shift_ = 0.0;  ///< phase_cycles(lead-in) − start phase: 0 without a lead-in
+  // The high-pass filter's state after the previous frame (at rest before frame 0).
+  double previous_input_a_ = 0.0;
+  double previous_output_a_ = 0.0;
 };
 
 /// How text values are separated. `semicolon` also writes decimal commas (the European
