@@ -22,6 +22,10 @@ inline constexpr const char* kHighVoltageCaution =
     "with the supply isolated and discharged, use probes and leads rated for the voltage, and "
     "follow local electrical codes and licensed practice, which prevail over this advice.";
 
+/// The current probe and how the DC was obtained through it, in one line ("shunt (passes DC)",
+/// "ct, droop-corrected with tau 10.00 ms ± 1.0 %, …", "ac-coupled (blocks DC): …").
+std::string probe_text(const MeasureResult& result);
+
 /// Aligned lines with SI prefixes, signs shown, each figure with its u95; ends with warnings
 /// and the sign convention.
 void write_measure_text(std::ostream& out, const MeasureResult& result);

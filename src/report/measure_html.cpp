@@ -448,6 +448,10 @@ void write_measure_html(std::ostream& out, const MeasureResult& r) {
                                 format_with_uncertainty(s.power_w.value, s.power_w.u95, "W", false),
                                 ""));
     }
+    rows.push_back({"current probe", "how the DC was obtained through it",
+                    "<span data-key=\"probe.kind\" data-value=\"" +
+                        escape(to_string(r.probe.kind)) + "\">" + escape(probe_text(r)) +
+                        "</span>"});
     rows.push_back({"time course", "", escape(course_words(r.time_course))});
     html::table_html(out, {"figure", "what it says", "value \xC2\xB1 u95"}, rows, 2, "figures");
   }
@@ -547,6 +551,7 @@ void write_measure_html(std::ostream& out, const MeasureResult& r) {
         {"samples", std::to_string(s.frames)},
         {"duration", format_si(duration_s, "s")},
         {"current channel", r.current_name},
+        {"current probe", probe_text(r)},
         {"voltage channel", r.voltage_name ? *r.voltage_name : "none"},
         {"cycles set by", "rising crossings of the " + s.reference},
         {"whole cycles", std::to_string(s.cycles) + " (" + std::to_string(s.partial_cycles) +

@@ -24,30 +24,6 @@ std::string count_text(std::uint64_t n, const char* one, const char* many) {
   return std::to_string(n) + " " + (n == 1 ? one : many);
 }
 
-// The probe and how the DC was obtained through it, in a line.
-std::string probe_text(const MeasureResult& r) {
-  const ProbeSettings& p = r.probe;
-  std::string t = to_string(p.kind);
-  const std::string& m = r.probe_findings.method;
-  if (m == "direct") return t + " (passes DC)";
-  if (m == "droop")
-    return t + ", droop-corrected with tau " + format_si(*p.tau_s, "s", 4) +
-           (p.tau_tolerance_pct > 0 ? " \xC2\xB1 " + fixed(p.tau_tolerance_pct, 1) + " %" : "") +
-           (r.lead_in_s ? ", quiet lead-in " + format_si(*r.lead_in_s, "s", 3) : "");
-  if (m == "rogowski")
-    return t + ", integrated (M " + format_si(*p.rogowski_v_s_per_a, "V\xC2\xB7s/A", 4) + ")" +
-           (r.lead_in_s ? ", quiet lead-in " + format_si(*r.lead_in_s, "s", 3) : "");
-  if (m == "dead_intervals")
-    return t + " (blocks DC): the rest between lobes, " +
-           format_with_uncertainty(r.probe_findings.dead.level_a.value,
-                                   r.probe_findings.dead.level_a.u95, "A", true) +
-           ", taken as zero";
-  return t + " (blocks DC): the DC is NOT measured (" +
-         (r.probe_findings.dead.reason.empty() ? std::string("no time constant given")
-                                               : r.probe_findings.dead.reason) +
-         ")";
-}
-
 // The leading orders as a small table: enough to see DC, the fundamental and the first even
 // and odd harmonics at a glance; the full table goes to --spectrum and the JSON.
 void write_harmonics_text(std::ostream& out, const HarmonicSummary& h, double f1) {
@@ -227,6 +203,30 @@ json harmonics_json(const HarmonicSummary& h) {
 
 }  // namespace
 
+// The probe and how the DC was obtained through it, in a line.
+std::string probe_text(const MeasureResult& r) {
+  const ProbeSettings& p = r.probe;
+  std::string t = to_string(p.kind);
+  const std::string& m = r.probe_findings.method;
+  if (m == "direct") return t + " probe";
+  if (m == "droop")
+    return t + ", droop-corrected with tau " + format_si(*p.tau_s, "s", 4) +
+           (p.tau_tolerance_pct > 0 ? " \xC2\xB1 " + fixed(p.tau_tolerance_pct, 1) + " %" : "") +
+           (r.lead_in_s ? ", quiet lead-in " + format_si(*r.lead_in_s, "s", 3) : "");
+  if (m == "rogowski")
+    return t + ", integrated (M " + format_si(*p.rogowski_v_s_per_a, "V\xC2\xB7s/A", 4) + ")" +
+           (r.lead_in_s ? ", quiet lead-in " + format_si(*r.lead_in_s, "s", 3) : "");
+  if (m == "dead_intervals")
+    return t + " (blocks DC): the rest between lobes, " +
+           format_with_uncertainty(r.probe_findings.dead.level_a.value,
+                                   r.probe_findings.dead.level_a.u95, "A", true) +
+           ", taken as zero";
+  return t + " (blocks DC): the DC is NOT measured (" +
+         (r.probe_findings.dead.reason.empty() ? std::string("no time constant given")
+                                               : r.probe_findings.dead.reason) +
+         ")";
+}
+
 void write_measure_text(std::ostream& out, const MeasureResult& r) {
   const CycleSummary& s = r.summary;
   out << "lopside measure: " << r.info.path << '\n';
@@ -334,11 +334,11 @@ void write_measure_summary(std::ostream& out, std::ostream& warn, const MeasureR
                           ", " +
                           format_si(static_cast<double>(s.frames) / r.info.sample_rate_hz, "s", 4) +
                           ", " + std::to_string(s.cycles) + " whole cycles from the " +
-                          s.reference + "'s rising crossings",
+                          s.reference + "'s rising crossings" +
+                          (passes_dc(r.probe.kind) ? ", " + probe_text(r) : std::string()),
                       width));
-  if (!passes_dc(r.probe.kind) || r.probe.kind == ProbeKind::hall) {
-    lines.push_back(cut("  probe " + probe_text(r), width));
-  }
+  // A probe that blocks DC gets a line of its own: how the DC was obtained, or that it was not.
+  if (!passes_dc(r.probe.kind)) lines.push_back(cut("  probe " + probe_text(r), width));
   lines.emplace_back();
   add(wrap(verdict_sentence(d.verdict), width, "VERDICT  ", "         "));
   std::string deciding;
