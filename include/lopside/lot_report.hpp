@@ -13,9 +13,10 @@ namespace lopside {
 
 /// Everything a lot report shows.
 struct LotReport {
-  std::string lot;          ///< the lot's name (--lot), may be empty
-  std::string product;      ///< from the limits file, may be empty
-  std::string limits_path;  ///< the limits file, as given
+  std::string lot;                   ///< the lot's name (--lot), may be empty
+  std::string product;               ///< from the limits file, may be empty
+  std::string limits_path;           ///< the limits file, as given
+  std::string probe_kind = "shunt";  ///< the current probe as stated (--probe)
   DecisionRule rule = DecisionRule::simple;
   LimitList limits;
   std::vector<LotUnit> units;  ///< in input order

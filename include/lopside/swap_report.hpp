@@ -31,8 +31,9 @@ struct SwapReport {
   /// The repeat of the normal capture (N, S, N'), when one was given; result.repeat then holds
   /// its comparison with the first normal capture.
   std::optional<SwapCaptureReport> normal_again;
-  double probe_offset_a = 0;  ///< stated ±offset tolerance used [A]
-  double probe_gain_pct = 0;  ///< stated ±gain tolerance used [%]
+  double probe_offset_a = 0;         ///< stated ±offset tolerance used [A]
+  double probe_gain_pct = 0;         ///< stated ±gain tolerance used [%]
+  std::string probe_kind = "shunt";  ///< the current probe as stated (--probe)
   LeadSwapResult result;
 };
 

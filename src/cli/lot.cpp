@@ -195,6 +195,13 @@ std::string canonical_settings(const AnalysisOptions& a) {
   for (const auto& [ch, v] : a.reader.scales)
     s << "scale " << ch << '=' << canonical_number(v) << '\n';
   for (const std::string& w : a.reader.with_paths) s << "with=" << w << '\n';
+  // The probe (issue 13) changes the figures too; written only when not the default, so the
+  // settings of records made before it keep their text and hash.
+  if (a.probe != "shunt") s << "probe=" << a.probe << '\n';
+  if (a.probe_tau_s) s << "probe_tau_s=" << canonical_number(*a.probe_tau_s) << '\n';
+  if (a.probe_tau_pct > 0) s << "probe_tau_pct=" << canonical_number(a.probe_tau_pct) << '\n';
+  if (a.rogowski_v_s_per_a)
+    s << "rogowski_v_s_per_a=" << canonical_number(*a.rogowski_v_s_per_a) << '\n';
   return s.str();
 }
 
@@ -372,6 +379,7 @@ int run_lot(const LotOptions& o) {
   report.lot = o.lot;
   report.product = limits.lot.product;
   report.limits_path = o.limits_path;
+  report.probe_kind = o.analysis.probe;
   report.rule = limits.lot.decision;
   report.limits = limits.limits;
   report.units = std::move(units);

@@ -293,6 +293,7 @@ void run_swap(const SwapOptions& o) {
   probe.on = o.probe_on == "supply" ? ProbeOn::supply : ProbeOn::electrode;
   report.probe_offset_a = probe.offset_a;
   report.probe_gain_pct = probe.gain_pct;
+  report.probe_kind = o.analysis.probe;
   report.result = again ? analyse_lead_swap(normal, swapped, *again, probe)
                         : analyse_lead_swap(normal, swapped, probe);
 

@@ -153,6 +153,7 @@ void write_lot_json(std::ostream& out, const LotReport& r) {
   doc["lot"] = r.lot.empty() ? json(nullptr) : json(r.lot);
   doc["product"] = r.product.empty() ? json(nullptr) : json(r.product);
   doc["limits_file"] = r.limits_path;
+  doc["probe"] = r.probe_kind;
   doc["decision_rule"] = to_string(r.rule);
   json limits = json::object();
   for (const auto& [name, l] : r.limits) limits[name] = limit_json(l);

@@ -162,6 +162,10 @@ void write_swap_text(std::ostream& out, const SwapReport& rep) {
         << (r.repeat ? "all captures" : "both captures") << " (its offset cancels in " << diff
         << (r.repeat ? " and in N' \xE2\x88\x92 N" : "") << " and adds fully to " << sum << ")";
   }
+  out << ".\n  Current probe: " << rep.probe_kind
+      << (rep.probe_kind == "shunt" || rep.probe_kind == "hall"
+              ? " (passes DC)"
+              : " (blocks DC: each capture's DC as corrected or recovered, see measure)");
   out << ".\n  Sign convention: " << kSignConvention << ".\n  " << kSafety << '\n';
 
   const bool any_warning = !r.warnings.empty() || !rep.normal.warnings.empty() ||
@@ -184,8 +188,9 @@ void write_swap_json(std::ostream& out, const SwapReport& rep) {
   json doc;
   doc["schema"] = kSwapSchema;
   doc["probe_on"] = to_string(r.probe_on);
-  doc["probe"] =
-      json{{"offset_tolerance_a", rep.probe_offset_a}, {"gain_tolerance_pct", rep.probe_gain_pct}};
+  doc["probe"] = json{{"kind", rep.probe_kind},
+                      {"offset_tolerance_a", rep.probe_offset_a},
+                      {"gain_tolerance_pct", rep.probe_gain_pct}};
   doc["formulas"] = json{{"driver", on_electrode ? "(N - S)/2" : "(N + S)/2"},
                          {"electrode", on_electrode ? "(N + S)/2" : "(N - S)/2"}};
   // With a repeat whose bias came back, N in the formulas is the mean of the two normals.
