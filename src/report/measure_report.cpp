@@ -4,6 +4,7 @@
 #include <array>
 #include <cmath>
 #include <cstdio>
+#include <iterator>
 #include <nlohmann/json.hpp>
 #include <ostream>
 
@@ -330,13 +331,12 @@ void write_measure_summary(std::ostream& out, std::ostream& warn, const MeasureR
   };
 
   lines.push_back(cut("lopside measure: " + r.info.path, width));
-  lines.push_back(cut("  " + r.info.format + ", " + format_si(r.info.sample_rate_hz, "Hz", 4) +
-                          ", " +
-                          format_si(static_cast<double>(s.frames) / r.info.sample_rate_hz, "s", 4) +
-                          ", " + std::to_string(s.cycles) + " whole cycles from the " +
-                          s.reference + "'s rising crossings" +
-                          (passes_dc(r.probe.kind) ? ", " + probe_text(r) : std::string()),
-                      width));
+  lines.push_back(cut(
+      "  " + r.info.format + ", " + format_si(r.info.sample_rate_hz, "Hz", 4) + ", " +
+          format_si(static_cast<double>(s.frames) / r.info.sample_rate_hz, "s", 4) + ", " +
+          std::to_string(s.cycles) + " whole cycles from the " + s.reference +
+          "'s rising crossings" + (passes_dc(r.probe.kind) ? ", " + probe_text(r) : std::string()),
+      width));
   // A probe that blocks DC gets a line of its own: how the DC was obtained, or that it was not.
   if (!passes_dc(r.probe.kind)) lines.push_back(cut("  probe " + probe_text(r), width));
   lines.emplace_back();
@@ -407,6 +407,13 @@ void write_measure_summary(std::ostream& out, std::ostream& warn, const MeasureR
       cut("\xC2\xB1 is u95 (95 %). While i > 0, electrode A (the probed lead's) is the "
           "anode. More: --full, --json.",
           width));
+  // Over the screen with the warnings' line: the blank lines between blocks go first.
+  const std::size_t warn_lines = r.warnings.empty() ? 0 : 1;
+  while (lines.size() + warn_lines > max_lines) {
+    const auto blank = std::find(lines.rbegin(), lines.rend(), std::string());
+    if (blank == lines.rend()) break;
+    lines.erase(std::next(blank).base());
+  }
   for (const std::string& l : lines) out << l << '\n';
 
   // Warnings on standard error, in the room the screen has left (at least three lines).
