@@ -6,13 +6,15 @@
 namespace lopside {
 
 DeadIntervalFinder::DeadIntervalFinder(double sample_rate_hz, double start_time_s,
-                                       std::size_t current_channel, double current_zero_a)
+                                       std::size_t current_channel, double current_zero_a,
+                                       std::size_t stride)
     : dt_(1.0 / sample_rate_hz),
       start_s_(start_time_s),
       channel_(current_channel),
       zero_a_(current_zero_a),
       ring_(kRingFrames),
-      counts_(kBins) {}
+      counts_(kBins),
+      stride_(stride > 0 ? stride : 1) {}
 
 void DeadIntervalFinder::add_block(const SampleBlock& block) {
   constexpr std::size_t mask = kRingFrames - 1;
@@ -22,6 +24,7 @@ void DeadIntervalFinder::add_block(const SampleBlock& block) {
 }
 
 void DeadIntervalFinder::on_cycle(const CycleRecord& r) {
+  if (seen_++ >= kFullCycles && seen_ % stride_ != 0) return;
   // The cycle's frames as the engine counts them (cycle_picture.cpp: ⌊x0⌋ + 1 … ⌊x1⌋), if all
   // are still in the ring.
   const double a = std::floor((r.start_s - start_s_) / dt_) + 1;

@@ -146,7 +146,9 @@ MeasureResult measure_pass(const SourceOpener& open, const MeasureSettings& o,
   std::optional<CyclePictureBuilder> picture;
   if (o.picture)
     picture.emplace(info.sample_rate_hz, info.start_time_s, *current, voltage, zero.value_a);
-  DeadIntervalFinder dead(info.sample_rate_hz, info.start_time_s, *current, zero.value_a);
+  // Through a probe that passes DC the rest level only feeds a warning: a sample of the cycles.
+  DeadIntervalFinder dead(info.sample_rate_hz, info.start_time_s, *current, zero.value_a,
+                          passes_dc(o.probe.kind) ? 8 : 1);
   CycleEngine engine(config, [&per_cycle, &course, &picture, &dead](const CycleRecord& r) {
     course.add(r);
     if (picture) picture->on_cycle(r);
