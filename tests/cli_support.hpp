@@ -78,6 +78,19 @@ class Cli : public ::testing::Test {
     return r;
   }
 
+  /// A lopside-synth capture in the test's folder: a 32 kHz unit, 1 MS/s for 5 ms (160
+  /// cycles), `peak_a` peak, 0.1 mA noise, DC `dc_a`, noise seed `seed`.
+  fs::path synth_unit(const std::string& name, double dc_a, int seed, double peak_a = 0.025) {
+    const fs::path p = dir_ / name;
+    const RunResult g =
+        run({"-o", p.string(), "--frequency", "32000", "--rate", "1e6", "--duration", "0.005",
+             "--peak", std::to_string(peak_a), "--noise-rms", "0.0001", "--dc",
+             std::to_string(dc_a), "--seed", std::to_string(seed)},
+            LOPSIDE_SYNTH);
+    EXPECT_EQ(g.status, 0) << g.err;
+    return p;
+  }
+
   fs::path file(const std::string& name, const std::string& bytes) {
     const fs::path p = dir_ / name;
     write_file(p, bytes);

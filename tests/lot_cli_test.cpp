@@ -17,15 +17,8 @@ namespace fs = std::filesystem;
 
 class Lot : public Cli {
  protected:
-  // A 32 kHz unit, 1 MS/s for 5 ms (160 cycles), 25 mA peak, 0.1 mA noise, DC `dc_a`.
   fs::path unit(const std::string& name, double dc_a, int seed) {
-    const fs::path p = dir_ / name;
-    const RunResult g = run({"-o", p.string(), "--frequency", "32000", "--rate", "1e6",
-                             "--duration", "0.005", "--peak", "0.025", "--noise-rms", "0.0001",
-                             "--dc", std::to_string(dc_a), "--seed", std::to_string(seed)},
-                            LOPSIDE_SYNTH);
-    EXPECT_EQ(g.status, 0) << g.err;
-    return p;
+    return synth_unit(name, dc_a, seed);
   }
   // DC within ±1 mA, guarded; RMS within a wide window (every unit passes it).
   fs::path limits(const std::string& decision = "guarded") {

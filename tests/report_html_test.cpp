@@ -441,7 +441,7 @@ TEST(TrendHtml, LotMeansAtKnownCoordinatesTheShiftFlaggedAndRepeatFailuresListed
 
   std::ostringstream h, j;
   write_trend_html(h, t, "history.sqlite");
-  write_trend_json(j, t, "history.sqlite");
+  write_trend_json(j, t, "history.sqlite", Provenance{});
   const std::string html = h.str();
   expect_sound_page(html);
   EXPECT_GE(expect_keys_match_json(html, json::parse(j.str())), 6u * 6);

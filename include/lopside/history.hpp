@@ -15,6 +15,7 @@
 ///     UNIQUE(capture_sha256, settings_sha256)
 ///   figures(unit_row → units, name, value, u95, verdict, margin)  PRIMARY KEY(unit_row, name)
 
+#include <atomic>
 #include <cstdint>
 #include <memory>
 #include <optional>
@@ -76,7 +77,10 @@ std::unique_ptr<HistoryStore> open_history(const std::string& where);
 
 /// SHA-256 of a file's bytes, as 64 lowercase hex digits (OpenSSL's EVP interface); the
 /// file's size in `bytes`. Throws InputError when it cannot be read.
-std::string file_sha256(const std::string& path, std::uint64_t& bytes);
+/// `stop`, when given and set by another thread, ends the reading early: the result is then
+/// empty (an analysis that failed does not wait for its capture's hash).
+std::string file_sha256(const std::string& path, std::uint64_t& bytes,
+                        const std::atomic<bool>* stop = nullptr);
 
 /// SHA-256 of a string, as 64 lowercase hex digits.
 std::string text_sha256(const std::string& text);

@@ -12,6 +12,8 @@
 #include "lopside/channel_stats.hpp"
 #include "lopside/sample_source.hpp"
 
+#include "lopside/provenance.hpp"
+
 namespace lopside {
 
 /// Schema name written into the JSON; bump the number when a key changes meaning or goes away.
@@ -22,6 +24,7 @@ struct InspectResult {
   std::uint64_t frames = 0;              ///< frames actually read
   std::vector<ChannelSummary> channels;  ///< one per entry of info.channels, same order
   std::vector<std::string> warnings;     ///< the reader's, then those of the inspection
+  Provenance provenance;                 ///< where the result came from
 
   /// Length of the record [s]: frames × sampling interval (each sample stands for one
   /// interval), or nullopt when the sample rate is unknown.

@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "lopside/lot_judge.hpp"
+#include "lopside/provenance.hpp"
 
 namespace lopside {
 
@@ -21,6 +22,7 @@ struct LotReport {
   LimitList limits;
   std::vector<LotUnit> units;  ///< in input order
   LotSummary summary;
+  Provenance provenance;  ///< where the result came from
 };
 
 /// One row per unit in input order, then the summary with the units that did not pass

@@ -19,6 +19,7 @@
 #include "lopside/cycle_picture.hpp"
 #include "lopside/diagnosis.hpp"
 #include "lopside/probe.hpp"
+#include "lopside/provenance.hpp"
 #include "lopside/sample_source.hpp"
 #include "lopside/time_course.hpp"
 
@@ -49,6 +50,8 @@ struct MeasureResult {
   /// The DC measured with the dead intervals' rest level taken as the zero, when that is how
   /// it was obtained (the same as summary.dc_offset_a then).
   std::optional<Estimate> dc_from_dead_intervals_a;
+  /// Where the result came from (filled in by the caller that opened the files).
+  Provenance provenance;
 };
 
 /// How one capture is measured.

@@ -11,6 +11,7 @@
 
 #include "lopside/cycle_engine.hpp"
 #include "lopside/lead_swap.hpp"
+#include "lopside/provenance.hpp"
 
 namespace lopside {
 
@@ -35,6 +36,7 @@ struct SwapReport {
   double probe_gain_pct = 0;         ///< stated ±gain tolerance used [%]
   std::string probe_kind = "shunt";  ///< the current probe as stated (--probe)
   LeadSwapResult result;
+  Provenance provenance;  ///< where the result came from
 };
 
 /// Aligned lines with SI prefixes, signs shown, each figure with its u95; then the verdict,

@@ -6,12 +6,14 @@
 #include <ostream>
 #include <string>
 
+#include "lopside/provenance.hpp"
 #include "lopside/trend.hpp"
 
 namespace lopside {
 
 void write_trend_text(std::ostream& out, const Trend& trend, const std::string& store);
-void write_trend_json(std::ostream& out, const Trend& trend, const std::string& store);
+void write_trend_json(std::ostream& out, const Trend& trend, const std::string& store,
+                      const Provenance& provenance);
 void write_trend_csv(std::ostream& out, const Trend& trend);
 /// One self-contained HTML page (html_page.hpp): per figure the lot means lot by lot with the
 /// control limits and the run-rule hits, the lots with Cpk and yield, and the repeat failures.

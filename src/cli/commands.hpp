@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "lopside/measure_report.hpp"
+#include "lopside/provenance.hpp"
 #include "lopside/reader_options.hpp"
 
 namespace lopside::cli {
@@ -20,6 +21,7 @@ struct InspectOptions {
   std::string capture_path;  ///< the capture to read
   std::string json_path;     ///< where to write JSON: empty for none, "-" for standard output
   ReaderOptions reader;      ///< channel, gain, unit and rate options shared with other commands
+  std::vector<GivenOption> given_options;  ///< for the JSON's provenance
 };
 
 /// Adds the `inspect` subcommand to `app`; its callback runs run_inspect.
@@ -46,6 +48,8 @@ struct AnalysisOptions {
   std::optional<double> probe_tau_s;         ///< CT / AC-coupling time constant [s]
   double probe_tau_pct = 0;                  ///< its tolerance, ± percent
   std::optional<double> rogowski_v_s_per_a;  ///< a Rogowski coil's M [V·s/A]
+  /// The command's options as given that change a figure, for the JSON's provenance.
+  std::vector<GivenOption> given_options;
 };
 
 /// Binds --probe-offset, --probe-gain-pct, --zero, --block-cycles, --max-order and the reader
@@ -128,6 +132,7 @@ struct TrendOptions {
   std::string product;  ///< only this product's lots; empty for all
   std::string json_path, csv_path;
   std::string html_path;  ///< the HTML report; empty for none, "-" for standard output
+  std::vector<GivenOption> given_options;  ///< for the JSON's provenance
 };
 
 void setup_trend(CLI::App& app);

@@ -17,6 +17,7 @@
 #include "lopside/inspect_report.hpp"
 #include "lopside/units.hpp"
 #include "output_paths.hpp"
+#include "provenance.hpp"
 #include "reader_flags.hpp"
 
 namespace lopside::cli {
@@ -52,7 +53,10 @@ void setup_inspect(CLI::App& app) {
                   "Also write the summary as JSON to FILE; '-' writes it alone to standard output")
       ->type_name("FILE|-");
   add_reader_flags(*sub, options->reader);
-  sub->callback([options]() { run_inspect(*options); });
+  sub->callback([options, sub]() {
+    options->given_options = given_options(*sub, {"--json"});
+    run_inspect(*options);
+  });
 }
 
 void run_inspect(const InspectOptions& options) {
@@ -62,6 +66,11 @@ void run_inspect(const InspectOptions& options) {
   // Opened first so an unwritable target fails before a long read, not after it.
   std::optional<AtomicOutput> json_out;
   if (!options.json_path.empty()) json_out.emplace(options.json_path);
+  std::vector<NamedInput> named{{"capture", options.capture_path}};
+  for (const std::string& w : options.reader.with_paths) named.emplace_back("with", w);
+  InputHasher hasher(std::move(named));
+  Provenance provenance = begin_provenance("inspect", options.given_options);
+  provenance.settings = reader_settings(options.reader);
 
   const std::unique_ptr<SampleSource> source = open_capture(options.capture_path, options.reader);
   const std::size_t n_channels = source->info().channels.size();
@@ -96,7 +105,7 @@ void run_inspect(const InspectOptions& options) {
     throw InputError(options.capture_path, "expected samples, found none");
   }
 
-  InspectResult result{source->info(), stats.frames(), stats.summaries(), source->warnings()};
+  InspectResult result{source->info(), stats.frames(), stats.summaries(), source->warnings(), {}};
   if (result.info.frames && *result.info.frames != result.frames) {
     result.warnings.push_back("the file announces " + std::to_string(*result.info.frames) +
                               " frames but " + std::to_string(result.frames) + " were read");
@@ -131,6 +140,8 @@ void run_inspect(const InspectOptions& options) {
                               "; a DC offset or asymmetry measured on it is not trustworthy");
   }
 
+  provenance.inputs = hasher.take();
+  result.provenance = std::move(provenance);
   if (json_out) {
     write_inspect_json(json_out->stream(), result);
     json_out->commit();

@@ -30,6 +30,7 @@
 #include "lopside/lot_report.hpp"
 #include "lopside/pipeline.hpp"
 #include "output_paths.hpp"
+#include "provenance.hpp"
 
 namespace fs = std::filesystem;
 
@@ -160,49 +161,10 @@ std::string hostname() {
   return name.data();
 }
 
-std::string utc_now() {
-  const std::time_t t = std::chrono::system_clock::to_time_t(std::chrono::system_clock::now());
-  std::tm tm{};
-  ::gmtime_r(&t, &tm);
-  std::array<char, 32> buf{};
-  std::strftime(buf.data(), buf.size(), "%Y-%m-%dT%H:%M:%SZ", &tm);
-  return buf.data();
-}
-
 std::string canonical_number(double v) {
   std::array<char, 48> buf{};
   std::snprintf(buf.data(), buf.size(), "%.17g", v);
   return buf.data();
-}
-
-// Every setting that changes a figure, one per line in a fixed order: equal text, equal
-// settings (its SHA-256 identifies them in the history).
-std::string canonical_settings(const AnalysisOptions& a) {
-  std::ostringstream s;
-  s << "probe_offset_a=" << canonical_number(a.probe_offset_a) << '\n'
-    << "probe_gain_pct=" << canonical_number(a.probe_gain_pct) << '\n'
-    << "zero=" << a.zero << '\n'
-    << "block_cycles=" << a.block_cycles << '\n'
-    << "max_order=" << a.max_order << '\n'
-    << "reference=" << a.reference << '\n'
-    << "current=" << a.reader.current.value_or("") << '\n'
-    << "voltage=" << a.reader.voltage.value_or("") << '\n'
-    << "rate_hz=" << (a.reader.rate_hz ? canonical_number(*a.reader.rate_hz) : "") << '\n'
-    << "skip_bad_rows=" << (a.reader.skip_bad_rows ? 1 : 0) << '\n';
-  for (const auto& [ch, g] : a.reader.gains)
-    s << "gain " << ch << '=' << canonical_number(g) << '\n';
-  for (const auto& [ch, u] : a.reader.units) s << "unit " << ch << '=' << u << '\n';
-  for (const auto& [ch, v] : a.reader.scales)
-    s << "scale " << ch << '=' << canonical_number(v) << '\n';
-  for (const std::string& w : a.reader.with_paths) s << "with=" << w << '\n';
-  // The probe (issue 13) changes the figures too; written only when not the default, so the
-  // settings of records made before it keep their text and hash.
-  if (a.probe != "shunt") s << "probe=" << a.probe << '\n';
-  if (a.probe_tau_s) s << "probe_tau_s=" << canonical_number(*a.probe_tau_s) << '\n';
-  if (a.probe_tau_pct > 0) s << "probe_tau_pct=" << canonical_number(a.probe_tau_pct) << '\n';
-  if (a.rogowski_v_s_per_a)
-    s << "rogowski_v_s_per_a=" << canonical_number(*a.rogowski_v_s_per_a) << '\n';
-  return s.str();
 }
 
 std::string canonical_limits(const LimitList& limits) {
@@ -225,8 +187,8 @@ HistoryLot history_lot(const LotReport& r, const LotOptions& o,
   h.limits = canonical_limits(r.limits);
   h.settings = canonical_settings(o.analysis);
   h.settings_sha256 = text_sha256(h.settings + "\n" + h.limits + "\n" + h.decision_rule);
-  h.tool_version = LOPSIDE_VERSION;
-  h.judged_utc = utc_now();
+  h.tool_version = r.provenance.tool_version;
+  h.judged_utc = r.provenance.analysed_utc;
   for (std::size_t k = 0; k < r.units.size(); ++k) {
     const LotUnit& u = r.units[k];
     HistoryUnit hu;
@@ -294,7 +256,11 @@ void setup_lot(CLI::App& app) {
   sub->add_option("--station", options->station,
                   "The test station recorded with each unit (default: this machine's name)");
   add_analysis_flags(*sub, options->analysis);
-  sub->callback([options]() { command_status = run_lot(*options); });
+  sub->callback([options, sub]() {
+    options->analysis.given_options = given_options(
+        *sub, {"--json", "--csv", "--html", "--jobs", "--history", "--station", "--lot"});
+    command_status = run_lot(*options);
+  });
 }
 
 int run_lot(const LotOptions& o) {
@@ -325,6 +291,11 @@ int run_lot(const LotOptions& o) {
   const unsigned cores = std::max(1u, std::thread::hardware_concurrency());
   const unsigned jobs =
       std::min<unsigned>(o.jobs ? o.jobs : cores, static_cast<unsigned>(captures.size()));
+  Provenance provenance = begin_provenance("lot", o.analysis.given_options);
+  add_analysis_settings(provenance, o.analysis);
+  provenance.settings.emplace_back("decision_rule", to_string(limits.lot.decision));
+  provenance.inputs.push_back(identify_input("limits", o.limits_path));
+  std::vector<InputIdentity> identities(captures.size());
   std::vector<LotUnit> units(captures.size());
   std::vector<std::string> hashes(captures.size());
   std::vector<std::uint64_t> sizes(captures.size(), 0);
@@ -353,15 +324,11 @@ int run_lot(const LotOptions& o) {
       } catch (const std::exception& e) {
         units[k] = unmeasured_unit(unit_id(path, limits.lot, nullptr), path, e.what());
       }
-      if (history) {
-        // The capture's identity in the history; a capture that cannot be read has none and
-        // is not recorded.
-        try {
-          hashes[k] = file_sha256(path, sizes[k]);
-        } catch (const std::exception&) {
-          hashes[k].clear();
-        }
-      }
+      // The capture's identity for the JSON and the history; a capture that cannot be read
+      // has none and is not recorded.
+      identities[k] = identify_input("capture", path);
+      hashes[k] = identities[k].sha256;
+      sizes[k] = identities[k].bytes.value_or(0);
       const std::size_t n = ++done;
       if (show_progress) {
         std::lock_guard<std::mutex> lock(progress_mutex);
@@ -384,6 +351,8 @@ int run_lot(const LotOptions& o) {
   report.limits = limits.limits;
   report.units = std::move(units);
   report.summary = summarize_lot(report.units, report.limits);
+  for (InputIdentity& id : identities) provenance.inputs.push_back(std::move(id));
+  report.provenance = std::move(provenance);
 
   if (history) {
     const RecordOutcome rec = history->record(history_lot(report, o, hashes, sizes));

@@ -12,6 +12,7 @@
 #include "lopside/diagnosis.hpp"
 #include "lopside/measure_report.hpp"
 #include "output_paths.hpp"
+#include "provenance.hpp"
 
 namespace lopside::cli {
 
@@ -49,7 +50,11 @@ void setup_measure(CLI::App& app) {
                 "Print every figure, the harmonic table and the evidence (the default is a "
                 "summary that fits one screen)");
   add_analysis_flags(*sub, options->analysis);
-  sub->callback([options]() { run_measure(*options); });
+  sub->callback([options, sub]() {
+    options->analysis.given_options =
+        given_options(*sub, {"--json", "--html", "--cycles", "--spectrum", "--full"});
+    run_measure(*options);
+  });
 }
 
 void run_measure(const MeasureOptions& o) {
@@ -75,6 +80,12 @@ void run_measure(const MeasureOptions& o) {
     if (!cycles) cycles.emplace(cycles_out->stream(), r.has_voltage);
     cycles->write(r);
   };
+  std::vector<NamedInput> inputs_named{{"capture", o.analysis.capture_path}};
+  for (const std::string& w : o.analysis.reader.with_paths) inputs_named.emplace_back("with", w);
+  InputHasher hasher(std::move(inputs_named));
+  Provenance provenance = begin_provenance("measure", o.analysis.given_options);
+  add_analysis_settings(provenance, o.analysis);
+
   AnalysisOptions analysis = o.analysis;
   analysis.picture = html_out.has_value();
   MeasureResult result = analyse_capture(analysis, per_cycle);
@@ -84,6 +95,11 @@ void run_measure(const MeasureOptions& o) {
   result.heating = heating_share(result.summary, o.cathode_share.value_or(regime_share),
                                  o.cathode_share ? "custom" : o.regime, o.erosion_ug_per_c,
                                  &result.diagnosis, &result.time_course);
+  provenance.settings.emplace_back("heating_regime", o.cathode_share ? "custom" : o.regime);
+  provenance.settings.emplace_back("cathode_heat_share", o.cathode_share.value_or(regime_share));
+  if (o.erosion_ug_per_c) provenance.settings.emplace_back("erosion_ug_per_c", *o.erosion_ug_per_c);
+  provenance.inputs = hasher.take();
+  result.provenance = std::move(provenance);
 
   if (cycles_out) cycles_out->commit();
   if (spectrum_out) {

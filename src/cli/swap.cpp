@@ -22,6 +22,7 @@
 #include "lopside/lead_swap.hpp"
 #include "lopside/swap_report.hpp"
 #include "output_paths.hpp"
+#include "provenance.hpp"
 
 namespace lopside::cli {
 namespace {
@@ -261,7 +262,10 @@ void setup_swap(CLI::App& app) {
          "Not available here: see `lopside measure --with`")
       ->type_name("FILE")
       ->group("Reading the capture");
-  sub->callback([options]() { run_swap(*options); });
+  sub->callback([options, sub]() {
+    options->analysis.given_options = given_options(*sub, {"--json", "--html"});
+    run_swap(*options);
+  });
 }
 
 void run_swap(const SwapOptions& o) {
@@ -275,7 +279,14 @@ void run_swap(const SwapOptions& o) {
   if (!o.json_path.empty()) json_out.emplace(o.json_path);
   if (!html_path.empty()) html_out.emplace(html_path);
 
+  std::vector<NamedInput> named{{"normal", o.normal_path}, {"swapped", o.swapped_path}};
+  if (!o.again_path.empty()) named.emplace_back("normal_again", o.again_path);
+  for (const std::string& w : o.analysis.reader.with_paths) named.emplace_back("with", w);
+  InputHasher hasher(std::move(named));
   SwapReport report;
+  report.provenance = begin_provenance("swap", o.analysis.given_options);
+  add_analysis_settings(report.provenance, o.analysis);
+  report.provenance.settings.emplace_back("probe_on", o.probe_on);
   const SwapCapture normal = measure_one(o.analysis, o.normal_path, report.normal);
   const SwapCapture swapped = measure_one(o.analysis, o.swapped_path, report.swapped);
   std::optional<SwapCapture> again;
@@ -297,6 +308,7 @@ void run_swap(const SwapOptions& o) {
   report.result = again ? analyse_lead_swap(normal, swapped, *again, probe)
                         : analyse_lead_swap(normal, swapped, probe);
 
+  report.provenance.inputs = hasher.take();
   if (json_out) {
     write_swap_json(json_out->stream(), report);
     json_out->commit();

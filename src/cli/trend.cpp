@@ -10,6 +10,7 @@
 #include "lopside/history.hpp"
 #include "lopside/trend_report.hpp"
 #include "output_paths.hpp"
+#include "provenance.hpp"
 
 namespace lopside::cli {
 
@@ -34,7 +35,10 @@ void setup_trend(CLI::App& app) {
                   "control limits and flagged lots, the lots, the repeat failures) to FILE; '-' "
                   "writes it alone to standard output")
       ->type_name("FILE|-");
-  sub->callback([options]() { run_trend(*options); });
+  sub->callback([options, sub]() {
+    options->given_options = given_options(*sub, {"--json", "--csv", "--html"});
+    run_trend(*options);
+  });
 }
 
 void run_trend(const TrendOptions& o) {
@@ -63,12 +67,23 @@ void run_trend(const TrendOptions& o) {
                                     : "the history holds no unit of product '" + o.product + "'");
   }
   const Trend t = build_trend(units);
+  Provenance provenance = begin_provenance("trend", o.given_options);
+  provenance.settings.emplace_back("product", o.product);
+  if (uri) {
+    InputIdentity id;
+    id.role = "history";
+    id.path = o.history;
+    id.not_hashed = "a database on a server";
+    provenance.inputs.push_back(id);
+  } else {
+    provenance.inputs.push_back(identify_input("history", o.history));
+  }
   if (csv_out) {
     write_trend_csv(csv_out->stream(), t);
     csv_out->commit();
   }
   if (json_out) {
-    write_trend_json(json_out->stream(), t, o.history);
+    write_trend_json(json_out->stream(), t, o.history, provenance);
     json_out->commit();
   }
   if (html_out) {

@@ -341,13 +341,15 @@ std::unique_ptr<HistoryStore> open_history(const std::string& where) {
   return std::make_unique<SqliteHistory>(where);
 }
 
-std::string file_sha256(const std::string& path, std::uint64_t& bytes) {
+std::string file_sha256(const std::string& path, std::uint64_t& bytes,
+                        const std::atomic<bool>* stop) {
   std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError(path, std::string("cannot read the capture: ") + std::strerror(errno));
   Digest d;
   std::vector<char> buf(std::size_t{1} << 20);
   bytes = 0;
   while (in) {
+    if (stop != nullptr && stop->load(std::memory_order_relaxed)) return {};
     in.read(buf.data(), static_cast<std::streamsize>(buf.size()));
     const auto got = static_cast<std::size_t>(in.gcount());
     d.update(buf.data(), got);

@@ -10,6 +10,7 @@
 #include <string_view>
 
 #include "lopside/units.hpp"
+#include "provenance_json.hpp"
 #include "report_support.hpp"
 
 namespace lopside {
@@ -160,6 +161,7 @@ void write_inspect_json(std::ostream& out, const InspectResult& result) {
   const CaptureInfo& info = result.info;
   json doc;
   doc["schema"] = kInspectSchema;
+  doc["provenance"] = report_detail::provenance_json(result.provenance);
   doc["path"] = info.path;
   doc["format"] = info.format;
   doc["detail"] = info.detail;

@@ -7,6 +7,7 @@
 #include <cstdio>
 
 #include "lopside/report_format.hpp"
+#include "provenance_json.hpp"
 #include "report_support.hpp"
 
 namespace lopside {
@@ -150,6 +151,7 @@ void write_lot_text(std::ostream& out, const LotReport& r) {
 void write_lot_json(std::ostream& out, const LotReport& r) {
   json doc;
   doc["schema"] = "lopside.lot/1";
+  doc["provenance"] = report_detail::provenance_json(r.provenance);
   doc["lot"] = r.lot.empty() ? json(nullptr) : json(r.lot);
   doc["product"] = r.product.empty() ? json(nullptr) : json(r.product);
   doc["limits_file"] = r.limits_path;

@@ -10,6 +10,7 @@
 
 #include "lopside/report_format.hpp"
 #include "lopside/units.hpp"
+#include "provenance_json.hpp"
 #include "report_support.hpp"
 
 namespace lopside {
@@ -433,6 +434,7 @@ void write_measure_json(std::ostream& out, const MeasureResult& r) {
   const CycleSummary& s = r.summary;
   json doc;
   doc["schema"] = kMeasureSchema;
+  doc["provenance"] = report_detail::provenance_json(r.provenance);
   json input;
   input["path"] = r.info.path;
   input["format"] = r.info.format;

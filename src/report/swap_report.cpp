@@ -9,6 +9,7 @@
 
 #include "lopside/report_format.hpp"
 #include "lopside/units.hpp"
+#include "provenance_json.hpp"
 #include "report_support.hpp"
 
 namespace lopside {
@@ -187,6 +188,7 @@ void write_swap_json(std::ostream& out, const SwapReport& rep) {
   const bool on_electrode = r.probe_on == ProbeOn::electrode;
   json doc;
   doc["schema"] = kSwapSchema;
+  doc["provenance"] = report_detail::provenance_json(rep.provenance);
   doc["probe_on"] = to_string(r.probe_on);
   doc["probe"] = json{{"kind", rep.probe_kind},
                       {"offset_tolerance_a", rep.probe_offset_a},

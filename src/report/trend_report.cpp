@@ -7,6 +7,7 @@
 
 #include "lopside/lot_report.hpp"
 #include "lopside/report_format.hpp"
+#include "provenance_json.hpp"
 #include "report_support.hpp"
 
 namespace lopside {
@@ -87,9 +88,11 @@ void write_trend_text(std::ostream& out, const Trend& t, const std::string& stor
   }
 }
 
-void write_trend_json(std::ostream& out, const Trend& t, const std::string& store) {
+void write_trend_json(std::ostream& out, const Trend& t, const std::string& store,
+                      const Provenance& provenance) {
   json doc;
   doc["schema"] = "lopside.trend/1";
+  doc["provenance"] = report_detail::provenance_json(provenance);
   doc["history"] = store;
   json lots = json::array();
   for (const TrendLot& l : t.lots) {
