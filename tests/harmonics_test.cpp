@@ -562,5 +562,33 @@ TEST(HarmonicUncertainty, OneCycleBlocksHaveNoFloor) {
   EXPECT_GT(h.orders[1].u95_a, 0.0);  // the scatter still gives the uncertainty
 }
 
+// Issue 14: after the detector loses the signal no boundary comes, and the block being filled
+// held every later sample (566 MB for 50 M samples). Dropping the partial block, as the engine
+// now does once a cycle outlasts any regular period, must let go of them.
+TEST(Harmonics, DroppingAPartialBlockLetsGoOfItsSamples) {
+  HarmonicConfig h;
+  h.sample_rate_hz = 1e6;
+  h.max_order = 10;
+  h.block_cycles = 10;
+  HarmonicAnalyzer a(h);
+  std::uint64_t i = 0;
+  const auto feed = [&](std::uint64_t n) {
+    for (std::uint64_t k = 0; k < n; ++k, ++i)
+      a.on_sample(i, std::sin(2 * kPi * static_cast<double>(i) / 1000.0));
+  };
+  feed(100);
+  for (int b = 0; b < 3; ++b) {  // three 1000-sample cycles of a block of ten
+    a.on_boundary(100.0 + 1000.0 * b);
+    feed(1000);
+  }
+  feed(1'000'000);  // the signal is lost: no boundary for a thousand periods
+  EXPECT_GT(a.held_samples(), 1'000'000u);  // what the block holds until it is let go
+  a.drop_partial_block();
+  // Only the interpolation margin is kept (2 × 16 taps), and it stays bounded.
+  EXPECT_LE(a.held_samples(), 32u);
+  feed(100'000);
+  EXPECT_LE(a.held_samples(), 64u);
+}
+
 }  // namespace
 }  // namespace lopside

@@ -120,6 +120,8 @@ class HarmonicAnalyzer {
   void on_boundary(double index);
   /// Forgets the boundaries of the block being filled: the next boundary starts a new block.
   void drop_partial_block();
+  /// Samples held for the block being filled (its memory, for the bounds in the README).
+  std::size_t held_samples() const;
   /// Aggregates the complete blocks (a last incomplete block is left out).
   HarmonicSummary finish();
 

@@ -229,6 +229,8 @@ struct CycleEngine::Impl {
   // The harmonics run on a thread of their own (harmonic_feed.hpp), fed in the engine's order.
   std::unique_ptr<HarmonicFeed> harmonic;
   bool last_cycle_excluded = false;
+  // The open cycle has outlasted any regular period and its harmonic block was let go.
+  bool harmonic_let_go = false;
 
   // Outliers and regularity (issue 9, items 5 and 6).
   std::uint64_t consumed = 0;               // frames handed to consume() so far
@@ -721,7 +723,18 @@ struct CycleEngine::Impl {
     } else {
       while (!boundaries.empty() && boundaries.front() <= 0.0) boundaries.pop_front();
     }
-    if (harmonic) harmonic->on_sample(m, b.i);
+    if (harmonic) {
+      harmonic->on_sample(m, b.i);
+      // A cycle longer than any regular period closes irregular and its block is dropped
+      // then; but when the detector has lost the signal it never closes, and the analyser
+      // would hold every later sample (566 MB for 50 M samples, issue 14). Its block is let go
+      // as soon as the cycle is too long to be regular.
+      if (in_cycle && !harmonic_let_go && period_nominal > 0 &&
+          static_cast<double>(m) - cycle_start > (1 + kPeriodTolerance) * period_nominal + 1) {
+        harmonic->drop_partial_block();
+        harmonic_let_go = true;
+      }
+    }
     if (m > 0) {
       const double step = std::fabs(b.i - at(m - 1).i);
       if (step > 0) min_step = std::min(min_step, step);
@@ -797,6 +810,7 @@ struct CycleEngine::Impl {
       close_cycle(x);
     }
     in_cycle = true;
+    harmonic_let_go = false;
     cycle_start = x;
     acc = CycleAccumulator{};
     acc.sum = Integrals{-d.i, -d.i2, -d.v, -d.v2, -d.p, -s_x * d.i, -s_x * d.p};

@@ -402,8 +402,16 @@ void HarmonicAnalyzer::on_boundary(double index) {
 }
 
 void HarmonicAnalyzer::drop_partial_block() {
-  impl_->bounds.clear();
-  impl_->update_ready_at();
+  Impl& m = *impl_;
+  m.bounds.clear();
+  m.update_ready_at();
+  // Without a boundary only the interpolation margin is worth keeping (as in on_sample).
+  const std::size_t keep = 2 * kMaxHalfTaps;
+  if (m.buf.size() > keep) {
+    const std::size_t drop = m.buf.size() - keep;
+    m.buf.erase(m.buf.begin(), m.buf.begin() + static_cast<std::ptrdiff_t>(drop));
+    m.buf_start += drop;
+  }
 }
 
 std::string order_list(const std::vector<std::size_t>& orders, std::size_t max_chars) {
@@ -416,6 +424,10 @@ std::string order_list(const std::vector<std::size_t>& orders, std::size_t max_c
     out += (out.empty() ? "" : ", ") + std::to_string(n);
   }
   return out;
+}
+
+std::size_t HarmonicAnalyzer::held_samples() const {
+  return impl_->buf.size();
 }
 
 HarmonicSummary HarmonicAnalyzer::finish() {
