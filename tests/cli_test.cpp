@@ -369,7 +369,11 @@ TEST_F(Cli, MalformedGainIsAUsageError) {
                                                {"--unit", "1=furlong"},
                                                {"--scale", "1=-5"},
                                                {"--rate", "fast"},
-                                               {"--rate", "-1e6"}}) {
+                                               {"--rate", "-1e6"},
+                                               // outside the README's 1 Hz … 100 GHz
+                                               {"--rate", "0.5"},
+                                               {"--rate", "2e11"},
+                                               {"--rate", "inf"}}) {
     std::vector<std::string> args{"inspect", p.string()};
     args.insert(args.end(), flag.begin(), flag.end());
     const RunResult r = run(args);

@@ -8,12 +8,17 @@ root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 packages=(cmake make g++ pkg-config libfftw3-dev libsndfile1-dev libcli11-dev
           nlohmann-json3-dev libgtest-dev libgmock-dev libbenchmark-dev python3 python3-numpy
           zlib1g-dev liblzma-dev libzstd-dev libfast-float-dev libtomlplusplus-dev
-          libsqlite3-dev libssl-dev libpq-dev postgresql)
-# The test suite also opens the HTML reports in a real browser (tests/browser/): Debian's
-# Chromium and a font, installed only when the tests will run (tools/test-all sets this), so the
-# quick start's first command stays small.
-if [ "${LOPSIDE_BROWSER_TESTS:-0}" = 1 ]; then
-  packages+=(chromium fonts-dejavu-core)
+          libsqlite3-dev libssl-dev libpq-dev postgresql git)
+# The whole test suite also opens the HTML reports in a real browser (tests/browser/: Debian's
+# Chromium and a font) and checks the installed manual pages and the .deb (tests/install/:
+# groff and man to render the pages, dpkg-dev for cpack's dpkg-shlibdeps). Installed only when
+# the tests will run (tools/test-all sets this), so the quick start's first command stays small.
+if [ "${LOPSIDE_ALL_TESTS:-0}" = 1 ]; then
+  packages+=(chromium fonts-dejavu-core dpkg-dev groff-base man-db)
+fi
+# The fuzzing build (tools/fuzz) needs clang and its libFuzzer runtime.
+if [ "${LOPSIDE_FUZZ_TOOLS:-0}" = 1 ]; then
+  packages+=(clang libclang-rt-14-dev)
 fi
 missing=()
 for p in "${packages[@]}"; do
@@ -28,6 +33,10 @@ if ((${#missing[@]})); then
   $sudo apt-get install -y --no-install-recommends "${missing[@]}" >&2 ||
     { $sudo apt-get update >&2 && $sudo apt-get install -y --no-install-recommends "${missing[@]}" >&2; }
 fi
+
+# `--packages-only` stops here: the checking builds (tools/test-sanitized, tools/fuzz) configure
+# trees of their own.
+if [ "${1:-}" = --packages-only ]; then exit 0; fi
 
 cmake -S "$root" -B "$root/build" -DCMAKE_BUILD_TYPE=RelWithDebInfo >&2
 # Targets given as arguments are built alone (the quick start's first command needs only the

@@ -183,8 +183,14 @@ class CycleEngine {
   /// cycle to the next, while a spark gap's or a corona's pulse heights scatter by a few times.
   static constexpr double kGlitchFactor = 10;
   static constexpr std::size_t kMaxExclusions = 20;
-  /// Frames held to learn the reference's level and swing before the first cycle.
+  /// Frames held to learn the reference's level and swing before the first cycle. The fuzzing
+  /// build (CMake option LOPSIDE_SHORT_ACQUIRE) shortens it, so that small inputs reach the
+  /// code that runs after it.
+#ifdef LOPSIDE_ACQUIRE_FRAMES
+  static constexpr std::size_t kAcquireFrames = LOPSIDE_ACQUIRE_FRAMES;
+#else
   static constexpr std::size_t kAcquireFrames = 1 << 20;
+#endif
 
   using Sink = std::function<void(const CycleRecord&)>;
   /// Throws std::invalid_argument on an invalid configuration (a programming error).

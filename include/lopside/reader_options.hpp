@@ -2,12 +2,23 @@
 /// \file
 /// Options every reader understands, as given on the command line of `inspect`, `measure`, ….
 
+#include <cstddef>
 #include <map>
 #include <optional>
 #include <string>
 #include <vector>
 
 namespace lopside {
+
+/// The sample rates lopside accepts, from any source (a header, a time column, --rate): the
+/// README's stated range. 1 Hz is below any discharge recording worth a cycle engine; 100 GHz
+/// is above the fastest real-time scopes' sampling (tens of GS/s, common practice). A rate
+/// outside it is a damaged header or a wrong time unit, refused with exit 2.
+inline constexpr double kMinSampleRateHz = 1.0;
+inline constexpr double kMaxSampleRateHz = 100e9;
+/// The most channels (or text columns) a capture may have; a header claiming more is refused
+/// before anything is allocated for them.
+inline constexpr std::size_t kMaxChannels = 1024;
 
 /// How the user refers to a channel: its 1-based number (time column not counted) or its name.
 using ChannelSelector = std::string;

@@ -14,10 +14,7 @@
 #include "commands.hpp"
 #include "lopside/atomic_file.hpp"
 #include "lopside/error.hpp"
-
-#ifndef LOPSIDE_VERSION
-#define LOPSIDE_VERSION "unknown"
-#endif
+#include "provenance.hpp"
 
 namespace {
 
@@ -51,7 +48,7 @@ int main(int argc, char** argv) {
       "Finds the DC component in recorded current of high-voltage AC gas discharges.\n"
       "It analyses recordings only: work on live high-voltage circuits can kill.",
       "lopside"};
-  app.set_version_flag("--version", std::string("lopside ") + LOPSIDE_VERSION);
+  app.set_version_flag("--version", "lopside " + lopside::cli::tool_version());
   app.require_subcommand(1);
   app.failure_message([](const CLI::App* failed, const CLI::Error& e) {
     return "lopside: " + std::string(e.what()) + "\nRun '" + failed->get_name() +

@@ -11,10 +11,7 @@
 #include <sstream>
 
 #include "lopside/history.hpp"
-
-#ifndef LOPSIDE_VERSION
-#define LOPSIDE_VERSION "unknown"
-#endif
+#include "lopside_version.hpp"  // generated at build time: cmake/WriteVersionHeader.cmake
 
 namespace lopside::cli {
 namespace {

@@ -119,9 +119,9 @@ void add_reader_flags(CLI::App& app, ReaderOptions& options) {
          "--rate",
          [&options](const std::string& text) {
            const double v = number_value("--rate", text, "a sample rate in Hz, e.g. 10e6");
-           if (!(v > 0.0)) {
+           if (!(v >= kMinSampleRateHz && v <= kMaxSampleRateHz)) {
              throw CLI::ValidationError(
-                 "--rate", "expected a positive sample rate in Hz, got '" + text + "'");
+                 "--rate", "expected a sample rate from 1 Hz to 100 GHz, got '" + text + "'");
            }
            options.rate_hz = v;
          },

@@ -552,8 +552,12 @@ struct CycleEngine::Impl {
       }
     }
     if (!std::isfinite(x)) {
+      // The pair around the trigger. The level may have moved between its two samples (a cycle
+      // committed in between), leaving both on one side of it: the share is kept inside the
+      // pair, or a boundary thousands of samples away would be fitted (found by fuzzing).
       const double a = ref(at(t - 1)), b = ref(at(t));
-      x = static_cast<double>(t - 1) + (trigger_level - a) / (b - a);
+      const double share = b > a ? (trigger_level - a) / (b - a) : 1.0;
+      x = static_cast<double>(t - 1) + (std::isfinite(share) ? std::clamp(share, 0.0, 1.0) : 1.0);
     }
     // With few samples per cycle the fit is a straight line through two or four samples that
     // lie up to 60° of phase apart, and its error changes with where the samples fall: the
