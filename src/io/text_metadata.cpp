@@ -17,7 +17,13 @@
 namespace lopside {
 namespace {
 
+// No wording of a fact comes near this length. A longer key (a preamble line without a
+// separator may be up to a MiB of text) is no key at all, so that each of a long preamble's
+// lines costs a bounded time against the many wordings compared below.
+constexpr std::size_t kMaxKeyBytes = 256;
+
 std::string normalised_key(std::string_view key) {
+  if (key.size() > kMaxKeyBytes) return {};
   std::string out;
   for (const char c : key) {
     const auto u = static_cast<unsigned char>(c);

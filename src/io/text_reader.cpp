@@ -18,8 +18,9 @@
 //
 // Streaming: the file is read in fixed chunks; at open, a look-ahead of at most
 // kLookaheadRows data rows is parsed so that the layout and the sample interval can be settled
-// before the first block is handed out. Memory is bounded by that look-ahead and a window of
-// preamble lines, never by the file's size.
+// before the first block is handed out. Memory is bounded by that look-ahead, a window of
+// preamble lines (kWindowLines, kWindowBytes) and the blocks (kMaxBlockValues), never by the
+// file's size nor by its number of columns (at most kMaxColumns).
 #include <algorithm>
 #include <array>
 #include <cctype>
@@ -29,6 +30,7 @@
 #include <deque>
 #include <future>
 #include <istream>
+#include <limits>
 #include <sstream>
 #include <string>
 #include <string_view>
@@ -49,11 +51,30 @@ namespace {
 // tenth of a step (8 significant digits, t ≥ 10 s, 100 ns steps): the slope error of a least
 // squares line through n rows with uniform rounding error q is q·sqrt(12/n³)/sqrt(12).
 constexpr std::size_t kLookaheadRows = 65536;
-// The look-ahead holds at most this many values, so a file of many columns holds fewer rows.
-constexpr std::size_t kLookaheadValues = std::size_t{1} << 22;
-// Lines of preamble kept at once while looking for the data; older ones are read for their
-// key/values and dropped, so a long preamble costs no memory.
+// Values in one block handed out by read(), across all channels: 8 MiB of doubles, the budget
+// the sound-file reader keeps too. A file of many columns gets blocks of fewer frames, so
+// memory never grows with the column count (65536 frames of 10 000 columns took 5 GB).
+constexpr std::size_t kMaxBlockValues = std::size_t{1} << 20;
+// The look-ahead holds at most as many values as a block, so a file of many columns holds
+// fewer rows (at most 16 columns keep all kLookaheadRows rows).
+constexpr std::size_t kLookaheadValues = kMaxBlockValues;
+// Columns (cells) in a data row or header: the channel limit (lopside/reader_options.hpp).
+// Recorders and scopes write a handful; a spreadsheet export of a multi-channel logger a few
+// hundred. More is not a capture of discharge current, and every row's cells would cost time
+// and memory for nothing.
+constexpr std::size_t kMaxColumns = kMaxChannels;
+// Lines of preamble kept at once while looking for the data, and their bytes; older ones are
+// read for their key/values and dropped, so a long preamble costs no memory.
 constexpr std::size_t kWindowLines = 4096;
+constexpr std::size_t kWindowBytes = std::size_t{8} << 20;
+// Lines kept above a candidate first data row while the window is full: exports put at most a
+// few dozen rows of names, units and margin metadata right above their data.
+constexpr std::size_t kKeepAbove = 64;
+// How far the data are looked for: instruments' preambles run to a few hundred lines, so a
+// file without data rows in its first million lines or 64 MiB is not a capture (and reading on
+// through gigabytes of text would only delay the same refusal).
+constexpr std::uint64_t kMaxPreambleLines = 1000000;
+constexpr std::uint64_t kMaxPreambleBytes = std::uint64_t{64} << 20;
 // Lines after a candidate first data row that must share its shape.
 constexpr std::size_t kConfirmLines = 8;
 constexpr std::size_t kMaxMetadata = 65536;
@@ -61,8 +82,14 @@ constexpr std::size_t kMaxMetadata = 65536;
 // beyond their range; no current or voltage comes near it.
 constexpr double kOverflowMarker = 9.9e37;
 constexpr std::size_t kMaxMetadataBytes = std::size_t{4} << 20;
+// Past the metadata bounds, key/values that set the time base, units or names are still kept
+// (reading must not depend on where a fact stands), up to this many bytes more: a preamble or
+// footer repeating "Sample interval" a million times does not grow memory either.
+constexpr std::size_t kMaxFactBytes = std::size_t{1} << 20;
 constexpr std::size_t kChunkBytes = 1 << 20;
 constexpr std::size_t kMaxLineBytes = 1 << 20;
+// The sample rates accepted from any source (time column, preamble, --rate) are
+// kMinSampleRateHz … kMaxSampleRateHz (lopside/reader_options.hpp), as for sound files.
 
 std::string_view trim(std::string_view s) {
   return trim_blanks(s);
@@ -153,6 +180,8 @@ class LineReader {
         pos_ += len + (nl ? 1 : 0);
         ++line_no_;
         unterminated_ = nl == nullptr;
+        // A line that ends within the second chunk read for it may pass refill()'s check.
+        if (len > kMaxLineBytes) too_long(line_no_);
         while (len > 0 && begin[len - 1] == '\r') --len;
         line = std::string_view(begin, len);
         if (line_no_ == 1 && line.size() >= 3 && std::memcmp(line.data(), "\xEF\xBB\xBF", 3) == 0) {
@@ -184,6 +213,7 @@ class LineReader {
     // Whole lines only: up to the last LF.
     while (len > 0 && begin[len - 1] != '\n') --len;
     if (len == 0) return false;
+    if (len > kMaxLineBytes) check_line_lengths(begin, len);
     run = std::string_view(begin, len);
     first_line = line_no_ + 1;
     line_no_ += count_line_feeds(run.data(), run.size());
@@ -205,11 +235,7 @@ class LineReader {
       consumed_ += pos_;
       pos_ = 0;
     }
-    if (buffer_.size() > kMaxLineBytes) {
-      throw InputError(path_, InputLocation::at_line(line_no_ + 1),
-                       "line is longer than 1 MiB; expected one row of samples per line "
-                       "(is this a binary file?)");
-    }
+    if (buffer_.size() > kMaxLineBytes) too_long(line_no_ + 1);
     const std::size_t old = buffer_.size();
     buffer_.resize(old + kChunkBytes);
     in_.read(buffer_.data() + old, static_cast<std::streamsize>(kChunkBytes));
@@ -227,20 +253,49 @@ class LineReader {
     }
   }
 
-  // Control bytes other than tab and CR never occur in text exports; a NUL means binary data.
+  [[noreturn]] void too_long(std::uint64_t line) const {
+    throw InputError(path_, InputLocation::at_line(line),
+                     "line is longer than 1 MiB; expected one row of samples per line "
+                     "(is this a binary file?)");
+  }
+
+  // A run of whole lines longer than kMaxLineBytes may hold a line longer than that. Windows
+  // of kMaxLineBytes + 1 bytes, each starting at a line's start: one without a line feed lies
+  // inside a line that is too long; otherwise the next window starts after its last line feed
+  // (searched from the end, so a run of short lines costs a few steps, not one per line).
+  void check_line_lengths(const char* run, std::size_t len) const {
+    std::size_t start = 0;
+    std::uint64_t line = line_no_ + 1;
+    while (len - start > kMaxLineBytes) {
+      const void* lf = memrchr(run + start, '\n', kMaxLineBytes + 1);
+      if (lf == nullptr) too_long(line);
+      const auto next = static_cast<std::size_t>(static_cast<const char*>(lf) - run) + 1;
+      line += count_line_feeds(run + start, next - start);
+      start = next;
+    }
+  }
+
+  // Control bytes other than tab never occur in text exports; a NUL means binary data. A CR
+  // left inside a line (line ends are stripped of theirs) means line ends of two kinds, CR
+  // alone among LF: rows run together, and would be read as one.
   void check_text(std::string_view line) const {
     // Every line passes here: the common case is decided by a branch-free pass the compiler
     // can vectorise; only a line that holds a control byte is walked again to place it.
     unsigned bad = 0;
     for (const char ch : line) {
       const auto c = static_cast<unsigned char>(ch);
-      bad |= static_cast<unsigned>(c < 0x20) & static_cast<unsigned>(c != '\t') &
-             static_cast<unsigned>(c != '\r');
+      bad |= static_cast<unsigned>(c < 0x20) & static_cast<unsigned>(c != '\t');
     }
     if (bad == 0) return;
     for (std::size_t i = 0; i < line.size(); ++i) {
       const auto c = static_cast<unsigned char>(line[i]);
-      if (c < 0x20 && c != '\t' && c != '\r') {
+      if (c == '\r') {
+        throw InputError(path_, InputLocation::at_byte(line_start_ + i),
+                         "a carriage return (CR) inside line " + std::to_string(line_no_) +
+                             ": line ends of two kinds (CR alone among LF or CR LF); expected "
+                             "one kind of line end throughout");
+      }
+      if (c < 0x20 && c != '\t') {
         char hex[8];
         std::snprintf(hex, sizeof hex, "0x%02X", c);
         throw InputError(path_, InputLocation::at_byte(line_start_ + i),
@@ -617,6 +672,14 @@ class TimeFit {
     return d == 0 ? 0.0L : (n * sxy_ - sx_ * sy_) / d;
   }
   long double intercept() const { return (sy_ - slope() * sx_) / static_cast<long double>(n_); }
+  /// sqrt(1/n + (k − k̄)²/Sxx): a prediction's standard deviation at row k over that of one
+  /// point (least-squares prediction variance).
+  double spread(double k) const {
+    const long double n = static_cast<long double>(n_);
+    const long double sxx = sxx_ - sx_ * sx_ / n;
+    const long double dx = static_cast<long double>(k) - sx_ / n;
+    return sxx > 0 ? static_cast<double>(std::sqrt(1 / n + dx * dx / sxx)) : 1e300;
+  }
   long double predict(double k) const {
     // Once per row: the slope (a division) is formed once, not once more for the intercept.
     const long double b = slope();
@@ -628,6 +691,70 @@ class TimeFit {
   long double sx_ = 0, sy_ = 0, sxx_ = 0, sxy_ = 0;
   double min_x_ = 0, max_x_ = 0;
   std::optional<long double> fixed_;
+};
+
+// floor(log10(x)) for x > 0, exact at the powers of ten printed_resolution() gives (log10 may
+// land a hair below one).
+int decade(double x) {
+  int e = static_cast<int>(std::floor(std::log10(x)));
+  if (e >= -300 && e <= 300) {
+    if (x >= std::pow(10.0, e + 1)) {
+      ++e;
+    } else if (x < std::pow(10.0, e)) {
+      --e;
+    }
+  }
+  return e;
+}
+
+// How a time column is printed, learnt from its rows: the finest printed resolution (the
+// fixed decimals of a "%.6f" export) and the most significant digits (the precision of a "%g"
+// export). Exports that drop trailing zeros print some rows coarser than they are ("0.003" for
+// 0.00300, "0" for 0.00000, "10" for 10.00000): the printed digits alone would let such a row
+// sit anywhere within ±½ of its last digit (a time stepping back to "0" on the last row passed
+// as rounding). A row is taken to be as exact as the coarser of the two rules makes it, and
+// never coarser than its own digits: resolution(t, q) = min(q, max(finest,
+// 10^(decade(t) − digits + 1))). Under fixed decimals `finest` is the true resolution, under
+// significant digits the second term is; the coarser of the two is never finer than the
+// truth, whichever way the column was printed.
+class TimePrinting {
+ public:
+  /// A row's time and its printed resolution, in the column's own unit.
+  void add(double t, double q) {
+    if (!(q > 0) || !std::isfinite(t) || !std::isfinite(q)) return;
+    const double a = std::fabs(t);
+    if (q < finest_) {
+      fold();
+      finest_ = q;
+      finest_max_t_ = 0;
+    }
+    // The common row, printed at the finest resolution: its digits are those of the largest
+    // such time, worked out when needed (no logarithm per row).
+    if (q == finest_) {
+      finest_max_t_ = std::max(finest_max_t_, a);
+      return;
+    }
+    if (a > 0) digits_ = std::max(digits_, decade(a) - decade(q) + 1);
+  }
+
+  /// The resolution a row printed with resolution `q` really has (≤ q).
+  double resolution(double t, double q) const {
+    if (!(q > finest_) || !std::isfinite(t)) return q;
+    int digits = digits_;
+    if (finest_max_t_ > 0) digits = std::max(digits, decade(finest_max_t_) - decade(finest_) + 1);
+    const double a = std::fabs(t);
+    const double by_digits = a > 0 && digits > 0 ? std::pow(10.0, decade(a) - digits + 1) : 0.0;
+    return std::min(q, std::max(finest_, by_digits));
+  }
+
+ private:
+  void fold() {
+    if (finest_max_t_ > 0) digits_ = std::max(digits_, decade(finest_max_t_) - decade(finest_) + 1);
+  }
+
+  double finest_ = std::numeric_limits<double>::infinity();
+  double finest_max_t_ = 0;  // the largest |t| printed at the finest resolution
+  int digits_ = 0;           // the most significant digits of the other rows
 };
 
 // Typographic quotes around a header cell (“Time (s)”, as word processors and some exports
@@ -669,8 +796,14 @@ class TextReader final : public SampleSource {
   const CaptureInfo& info() const override { return info_; }
   const std::vector<std::string>& warnings() const override { return warnings_; }
 
+  /// The most frames read() hands out at once for `channels` channels: kMaxBlockValues values.
+  static std::size_t block_frames_limit(std::size_t channels) {
+    return std::max<std::size_t>(1, kMaxBlockValues / std::max<std::size_t>(1, channels));
+  }
+
   std::size_t read(SampleBlock& block, std::size_t max_frames) override {
     const std::size_t nch = info_.channels.size();
+    max_frames = std::min(max_frames, block_frames_limit(nch));
     block.channels = nch;
     block.data.resize(max_frames * nch);
     std::size_t f = 0;
@@ -705,15 +838,18 @@ class TextReader final : public SampleSource {
   // Key/values are kept up to a bound on their count and size (a preamble may be huge); past
   // it, the ones that set the time base, units or names are still kept, so reading never
   // depends on where in the preamble a fact stands.
-  void keep_metadata(std::string key, std::string value) {
+  // `line` is where it stands, for a message about a time base it states.
+  void keep_metadata(std::string key, std::string value, std::uint64_t line) {
     if (info_.metadata.size() >= kMaxMetadata || metadata_bytes_ >= kMaxMetadataBytes) {
-      if (!fact_pair(key, value)) {
+      if (fact_bytes_ >= kMaxFactBytes || !fact_pair(key, value)) {
         ++metadata_dropped_;
         return;
       }
+      fact_bytes_ += key.size() + value.size();
     }
     metadata_bytes_ += key.size() + value.size();
     info_.metadata.emplace_back(std::move(key), std::move(value));
+    metadata_lines_.push_back(line);
   }
 
   // A line above the data that is not its header: its key/value goes to the metadata.
@@ -727,7 +863,7 @@ class TextReader final : public SampleSource {
     preamble_last_ = l.no;
     if (auto kv = split_key_value(l.text)) {
       if (preamble_keys_.size() < 6 && !kv->first.empty()) preamble_keys_.push_back(kv->first);
-      keep_metadata(std::move(kv->first), std::move(kv->second));
+      keep_metadata(std::move(kv->first), std::move(kv->second), l.no);
     }
   }
 
@@ -830,9 +966,11 @@ class TextReader final : public SampleSource {
   // row at index `data_at`. Lines that scroll out of the window are preamble.
   std::deque<WindowLine> find_data(std::size_t& data_at) {
     std::deque<WindowLine> window;
+    std::size_t window_bytes = 0;
     std::size_t search = 0;
     bool eof = false;
     bool blank_seen = false;
+    const auto full = [&] { return window.size() > kWindowLines || window_bytes > kWindowBytes; };
     for (;;) {
       std::string_view line;
       if (lines_.next(line)) {
@@ -841,8 +979,13 @@ class TextReader final : public SampleSource {
         } else {
           window.push_back({lines_.line_number(), std::string(line), is_comment(line),
                             lines_.unterminated(), blank_seen});
+          window_bytes += line.size();
           blank_seen = false;
-          if (window.size() > kWindowLines && search > 0) {
+          // Lines above the first undecided one are dropped from the front, but the nearest
+          // kKeepAbove stay while their bytes allow: a names row, a units row or a margin of
+          // metadata rows above the data's first row are read from the window.
+          while (full() && search > 0 && (search > kKeepAbove || window_bytes > kWindowBytes)) {
+            window_bytes -= window.front().text.size();
             retire(window.front());
             window.pop_front();
             --search;
@@ -864,7 +1007,9 @@ class TextReader final : public SampleSource {
         std::size_t after = 0;
         for (std::size_t j = search + 1; j < window.size() && after < kConfirmLines; ++j)
           after += window[j].comment ? 0u : 1u;
-        if (after < kConfirmLines && !eof) break;  // read more lines first
+        // Read more lines first, unless the window is full (a candidate followed by a long
+        // run of comments): then it is judged by the lines the window holds.
+        if (after < kConfirmLines && !eof && !full()) break;
         // Where the row reads more than one way, the dialect under which the line above it
         // has as many cells as the row wins; else the first that the next rows confirm.
         // The dialect under which most of the next rows share the row's shape wins (a first
@@ -903,12 +1048,28 @@ class TextReader final : public SampleSource {
             }
           }
           confirm(window, search, chosen);
+          if (columns_ > kMaxColumns) {
+            throw InputError(path_, InputLocation::at_line(window[search].no),
+                             "the data rows from here on have " + std::to_string(columns_) +
+                                 " columns; expected at most " + std::to_string(kMaxColumns) +
+                                 " columns (cells) per row");
+          }
           data_at = search;
           return window;
         }
         ++search;
       }
       if (eof) break;
+      // Every line read so far is decided and none starts the data: past the bound, stop.
+      if (search >= window.size() && (lines_.line_number() >= kMaxPreambleLines ||
+                                      lines_.line_start_byte() >= kMaxPreambleBytes)) {
+        throw InputError(path_, InputLocation::at_line(lines_.line_number()),
+                         "no data rows in the first " + std::to_string(lines_.line_number()) +
+                             " lines (" + std::to_string(lines_.line_start_byte() >> 20) +
+                             " MiB); expected rows of numbers within the first " +
+                             std::to_string(kMaxPreambleLines) + " lines or " +
+                             std::to_string(kMaxPreambleBytes >> 20) + " MiB (is this a capture?)");
+      }
     }
     bool any_text = preamble_lines_ + comment_lines_ > 0 || !window.empty();
     if (!any_text) throw InputError(path_, "the file holds no text; expected a capture");
@@ -1043,6 +1204,13 @@ class TextReader final : public SampleSource {
     std::vector<std::pair<std::string, std::string>> extras;  // keyed cells beyond the data
   };
 
+  void check_header_width(std::size_t cells, std::uint64_t line) const {
+    if (cells <= kMaxColumns) return;
+    throw InputError(path_, InputLocation::at_line(line),
+                     "the header has " + std::to_string(cells) + " cells; expected at most " +
+                         std::to_string(kMaxColumns) + " columns (cells) per row");
+  }
+
   Header read_header(std::deque<WindowLine>& window, std::size_t data_at) {
     Header h;
     h.top = data_at;
@@ -1071,6 +1239,8 @@ class TextReader final : public SampleSource {
     if (h2 != std::string::npos && units_row(first) && !keyed_fact(window[h2].text)) {
       std::vector<std::string> names = map_header(window[h2].text, &extra2);
       if (!names.empty() && plausible_names(names)) {
+        check_header_width(columns_ + extra2.size(), window[h2].no);
+        check_header_width(columns_ + extra1.size(), window[h1].no);
         h.names = std::move(names);
         h.units = std::move(first);
         h.top = h2;
@@ -1095,6 +1265,7 @@ class TextReader final : public SampleSource {
       return h;
     }
     if (!first.empty() && !any_numeric_data_cell(first)) {
+      check_header_width(columns_ + extra1.size(), window[h1].no);
       // Names beyond the data's columns without units name columns the rows leave empty (a
       // "Comment" column): noted; with units they promise data that is missing: an error.
       bool extra_with_units = false;
@@ -1167,7 +1338,8 @@ class TextReader final : public SampleSource {
     for (std::size_t i = header.top; i < data_at; ++i) {
       if (window[i].comment) retire(window[i]);
     }
-    for (auto& [key, value] : header.extras) keep_metadata(std::move(key), std::move(value));
+    for (auto& [key, value] : header.extras)
+      keep_metadata(std::move(key), std::move(value), header.line);
     window.erase(window.begin(), window.begin() + static_cast<std::ptrdiff_t>(data_at));
 
     setup_columns(header);
@@ -1295,7 +1467,7 @@ class TextReader final : public SampleSource {
           value += to_utf8(trim(cells_[i]));
         }
       }
-      if (!key.empty()) keep_metadata(std::move(key), std::move(value));
+      if (!key.empty()) keep_metadata(std::move(key), std::move(value), line_no);
       last_row_line_.assign(text);
     };
     for (const auto& l : window) {  // bounded by the window, so read whole
@@ -1320,7 +1492,10 @@ class TextReader final : public SampleSource {
 
   std::string cell_count_message() const {
     return "expected " + std::to_string(columns_) + " cells separated by " + delimiter_name() +
-           ", found " + std::to_string(cells_.size());
+           ", found " + std::to_string(cells_.size()) +
+           (cells_.size() > kMaxColumns
+                ? " (expected at most " + std::to_string(kMaxColumns) + " columns in any row)"
+                : std::string());
   }
 
   // Where the rows so far read with either decimal mark (tab or blank delimited, no mark yet
@@ -1412,6 +1587,27 @@ class TextReader final : public SampleSource {
     return true;
   }
 
+  // For a column of whole numbers that rise by one from row to row in at least nine steps in
+  // ten but not in all (a sample index with a gap): the look-ahead row where it first breaks;
+  // else 0.
+  std::size_t index_break(std::size_t k) const {
+    const std::size_t d = data_index_.size();
+    const std::size_t n = look_lines_.size();
+    if (n < 3) return 0;
+    std::size_t good = 0, first_bad = 0;
+    for (std::size_t r = 0; r < n; ++r) {
+      const double v = look_values_[r * d + k];
+      if (v != std::floor(v)) return 0;
+      if (r == 0) continue;
+      if (v - look_values_[(r - 1) * d + k] == static_cast<double>(look_k_[r] - look_k_[r - 1])) {
+        ++good;
+      } else if (first_bad == 0) {
+        first_bad = r;
+      }
+    }
+    return first_bad != 0 && 10 * good >= 9 * (n - 1) ? first_bad : 0;
+  }
+
   // A headerless column rising in even steps (nine in ten steps agree with the median to its
   // printed resolution): the time axis of an export without names.
   double rises_evenly(std::size_t k, std::size_t qk) const {
@@ -1460,6 +1656,31 @@ class TextReader final : public SampleSource {
         index_column_ = static_cast<int>(col);
         index_k_ = k;
         break;
+      }
+    }
+    // A column named as a sample index ("Index", "Sample", "No.") whose whole numbers rise by
+    // one in nine rows in ten but not in all: samples are missing or repeat within the
+    // look-ahead. Taken as a channel it would pass the gap silently; it is refused at the row
+    // where it breaks, as finish_row refuses a break after the look-ahead.
+    for (std::size_t k = 0; index_column_ < 0 && k < d && d > 1; ++k) {
+      const std::size_t col = data_index_[k];
+      if (static_cast<int>(col) == time_column_ || !column_unit_[col].empty() ||
+          column_name_[col].empty())
+        continue;
+      const std::string& unit_text = column_unit_text_[col];
+      if (!is_index_name(lower(column_name_[col])) &&
+          (unit_text.empty() || !is_index_name(lower(unit_text))))
+        continue;
+      if (const std::size_t r = index_break(k); r != 0) {
+        const double found = look_values_[r * d + k];
+        const double expected =
+            look_values_[(r - 1) * d + k] + static_cast<double>(look_k_[r] - look_k_[r - 1]);
+        throw InputError(
+            path_, InputLocation::at_line(look_lines_[r]),
+            "the sample index (column " + std::to_string(col + 1) + " '" + column_name_[col] +
+                "') is " + format_g(found, 15) + " where " + format_g(expected, 15) +
+                " was expected; expected an index rising by one per row (" +
+                (found > expected ? "samples are missing" : "it repeats or steps back") + ")");
       }
     }
     // A clock column is the time when nothing else is ("Uhrzeit", "Heure", unnamed).
@@ -1613,18 +1834,50 @@ class TextReader final : public SampleSource {
     for (auto& n : notes) role_notes_.push_back(n);
   }
 
+  // A sample rate outside kMinSampleRateHz … kMaxSampleRateHz (NaN and infinity included) is
+  // refused; `source` says where it came from, `hint` what to look at.
+  void check_rate(double rate_hz, InputLocation where, const std::string& source,
+                  const std::string& hint) const {
+    // A rate that went through an interval and back (1 / (1 / 100e9)) may differ from the
+    // bound in its last digit.
+    constexpr double kSlack = 1e-12;
+    if (rate_hz >= kMinSampleRateHz * (1 - kSlack) && rate_hz <= kMaxSampleRateHz * (1 + kSlack))
+      return;
+    throw InputError(path_, where,
+                     source + ": a sample rate of " + format_g(rate_hz) +
+                         " Hz; expected 1 Hz to 100 GHz (" + hint + ")");
+  }
+
+  // The key/value a stated time base came from (the first that states it) and its line.
+  std::pair<InputLocation, std::string> stated_source(const StatedTimeBase& stated) const {
+    for (std::size_t i = 0; i < info_.metadata.size(); ++i) {
+      const auto& pair = info_.metadata[i];
+      if (pair.first != stated.interval_key) continue;
+      if (stated_time_base({pair}, dialect_.decimal).interval_s == stated.interval_s)
+        return {InputLocation::at_line(metadata_lines_[i]), pair.second};
+    }
+    return {};
+  }
+
   // The sample rate: the time column's fit wins; else --rate; else what the file states.
   void settle_time_base(const Header& h) {
+    // --rate is refused out of range even where a time column makes it unused: a mistyped
+    // option is said, not silently passed over.
+    if (options_.rate_hz) {
+      check_rate(*options_.rate_hz, {}, "--rate " + format_g(*options_.rate_hz),
+                 "the option takes hertz: 10e6 for 10 MS/s");
+    }
     const StatedTimeBase stated = stated_time_base(info_.metadata, dialect_.decimal);
     const std::size_t d = data_index_.size();
     const std::size_t nq = q_columns_.size();
     const std::uint64_t resume_index = row_index_;
     if (time_column_ >= 0) {
-      const double factor = column_factor_[static_cast<std::size_t>(time_column_)];
+      // The look-ahead's rows show how the column is printed before any of them is judged.
+      for (std::size_t r = 0; r < look_lines_.size(); ++r)
+        time_printing_.add(look_values_[r * d + time_k_], look_q_[r * nq + time_qk_]);
       for (std::size_t r = 0; r < look_lines_.size(); ++r) {
         row_index_ = look_k_[r];
-        track_time(look_values_[r * d + time_k_] * factor, look_q_[r * nq + time_qk_] * factor,
-                   look_lines_[r]);
+        track_time(look_values_[r * d + time_k_], look_q_[r * nq + time_qk_], look_lines_[r]);
       }
       row_index_ = resume_index;
       if (look_lines_.size() < 2) {
@@ -1637,6 +1890,9 @@ class TextReader final : public SampleSource {
         throw InputError(path_, InputLocation::at_line(first_data_line_),
                          "the time column does not advance; expected rising times");
       }
+      check_rate(1.0 / dt_s_, InputLocation::at_line(first_data_line_),
+                 "the time column steps by " + format_g(dt_s_) + " s",
+                 "is the time column's unit right?");
       check_lookahead_times();
       info_.sample_rate_hz = 1.0 / dt_s_;
       info_.start_time_s = start_time();
@@ -1654,6 +1910,11 @@ class TextReader final : public SampleSource {
       info_.sample_rate_hz = *options_.rate_hz;
     } else if (stated.interval_s) {
       info_.sample_rate_hz = 1.0 / *stated.interval_s;
+      const auto [where, value] = stated_source(stated);
+      check_rate(info_.sample_rate_hz, where,
+                 "'" + stated.interval_key + "' states '" + shorten(value) + "', an interval of " +
+                     format_g(*stated.interval_s) + " s",
+                 "is the value's unit right?");
       if (stated.start_s) info_.start_time_s = *stated.start_s;
       info_.detail += "sample interval from '" + stated.interval_key + "'";
     } else {
@@ -1689,6 +1950,7 @@ class TextReader final : public SampleSource {
         pending_.push_back(look_values_[r * d + channel_k_[c]] * gains_[c]);
     }
     rows_ = look_lines_.size();
+    last_data_line_ = look_lines_.back();
     look_values_ = {};
     look_q_ = {};
     look_lines_ = {};
@@ -1806,11 +2068,9 @@ class TextReader final : public SampleSource {
                 (index > expected ? "samples are missing" : "it repeats or steps back") + ")");
       }
     }
-    if (time_column_ >= 0) {
-      const auto tc = static_cast<std::size_t>(time_column_);
-      track_time(time * column_factor_[tc], resolution * column_factor_[tc], line_no);
-    }
+    if (time_column_ >= 0) track_time(time, resolution, line_no);
     end_of_footer(line_no);
+    last_data_line_ = line_no;
     ++rows_;
     ++row_index_;
   }
@@ -1820,11 +2080,15 @@ class TextReader final : public SampleSource {
   // of a run can be parsed at once. A line the plain path must judge (quoted or odd cells, a
   // form other than a plain number, a blank or comment line) is marked and left to it.
   struct RowBatch {
+    // Only `kind` has an entry per line: a blank or comment line takes a byte, so that a run
+    // of a million empty lines costs a megabyte, and an odd line takes no room for values.
     enum Kind : std::uint8_t { row, skip, other };
-    std::vector<Kind> kind;                       // one per line
-    std::vector<std::string_view> text;           // one per line
-    std::vector<double> values;                   // channels per row, as printed (before gains)
-    std::vector<double> index, time, resolution;  // one per line
+    std::vector<Kind> kind;              // one per line
+    std::vector<std::string_view> text;  // one per row or other line, in order
+    // Channels per plain row, as printed (before gains), in order.
+    std::vector<double> values;
+    // One per plain row, in order, where the capture has the column.
+    std::vector<double> index, time, resolution;
     void clear() {
       kind.clear();
       text.clear();
@@ -1905,56 +2169,53 @@ class TextReader final : public SampleSource {
       std::string_view line = run.substr(0, nl);
       run.remove_prefix(nl + 1);
       while (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+      const std::string_view body = trim(line);
+      if (body.empty() || body.front() == '#') {  // is_blank, is_comment
+        out.kind.push_back(RowBatch::skip);
+        continue;
+      }
       out.text.push_back(line);
       const std::size_t at = out.values.size();
       out.values.resize(at + nch);
-      // The index and time columns take room only when the capture has them.
-      if (index_column_ >= 0) out.index.push_back(0);
-      if (time_column_ >= 0) {
-        out.time.push_back(0);
-        out.resolution.push_back(0);
-      }
       double index = 0, time = 0, resolution = 0;
-      out.kind.push_back(RowBatch::other);
-      const std::string_view body = trim(line);
-      if (body.empty() || body.front() == '#') {  // is_blank, is_comment
-        out.kind.back() = RowBatch::skip;
-        continue;
-      }
+      bool plain = false;
       if (walk) {
-        if (plain_row(line, role, out.values.data() + at, index, time, resolution)) {
-          out.kind.back() = RowBatch::row;
-          if (index_column_ >= 0) out.index.back() = index;
-          if (time_column_ >= 0) {
-            out.time.back() = time;
-            out.resolution.back() = resolution;
+        plain = plain_row(line, role, out.values.data() + at, index, time, resolution);
+      } else {
+        split_cells(line, dialect_.delimiter, cells, scratch);
+        plain = cells.size() == columns_;
+        for (std::size_t c = 0; plain && c < nch; ++c) {
+          const auto v = parse_number(cells[channel_column_[c]], mark);
+          plain = v && std::fabs(*v) < kOverflowMarker;
+          if (plain) out.values[at + c] = *v;
+        }
+        if (plain && index_column_ >= 0) {
+          const auto v = parse_number(cells[static_cast<std::size_t>(index_column_)], mark);
+          plain = v.has_value();
+          if (plain) index = *v;
+        }
+        if (plain && time_column_ >= 0) {
+          const std::string_view cell = cells[static_cast<std::size_t>(time_column_)];
+          const auto v = parse_number(cell, mark);
+          plain = v.has_value();
+          if (plain) {
+            time = *v;
+            resolution = printed_resolution(cell, mark);
           }
         }
+      }
+      if (!plain) {
+        out.kind.push_back(RowBatch::other);
+        out.values.resize(at);
         continue;
       }
-      split_cells(line, dialect_.delimiter, cells, scratch);
-      if (cells.size() != columns_) continue;
-      bool plain = true;
-      for (std::size_t c = 0; plain && c < nch; ++c) {
-        const auto v = parse_number(cells[channel_column_[c]], mark);
-        plain = v && std::fabs(*v) < kOverflowMarker;
-        if (plain) out.values[at + c] = *v;
+      out.kind.push_back(RowBatch::row);
+      // The index and time columns take room only when the capture has them.
+      if (index_column_ >= 0) out.index.push_back(index);
+      if (time_column_ >= 0) {
+        out.time.push_back(time);
+        out.resolution.push_back(resolution);
       }
-      if (plain && index_column_ >= 0) {
-        const auto v = parse_number(cells[static_cast<std::size_t>(index_column_)], mark);
-        plain = v.has_value();
-        if (plain) out.index.back() = *v;
-      }
-      if (plain && time_column_ >= 0) {
-        const std::string_view cell = cells[static_cast<std::size_t>(time_column_)];
-        const auto v = parse_number(cell, mark);
-        plain = v.has_value();
-        if (plain) {
-          out.time.back() = *v;
-          out.resolution.back() = printed_resolution(cell, mark);
-        }
-      }
-      if (plain) out.kind.back() = RowBatch::row;
     }
   }
 
@@ -2013,29 +2274,38 @@ class TextReader final : public SampleSource {
     const RowBatch(&batch_)[2] = now.halves;
     const std::uint64_t first_line = now.first_line;
     const std::size_t nch = channel_column_.size();
-    // Room for every row of the run at once; trimmed to the rows accepted at the end.
+    // Room for the plain rows of the run at once (they hold a value per channel already, so
+    // this is bounded by what the parsing threads held); a line left to the plain path gets
+    // its room when it comes. Trimmed to the rows accepted at the end.
     std::size_t used = pending_.size();
-    pending_.resize(used + (batch_[0].kind.size() + batch_[1].kind.size()) * nch);
+    pending_.resize(used + batch_[0].values.size() + batch_[1].values.size());
     std::uint64_t line_no = first_line;
     std::string_view last_row;
     for (const RowBatch& b : batch_) {
+      std::size_t text_at = 0;  // the next line's text in b.text (rows and other lines)
+      std::size_t row_at = 0;   // the next plain row's index, time and resolution
       for (std::size_t r = 0; r < b.kind.size(); ++r, ++line_no) {
         if (b.kind[r] == RowBatch::skip) continue;
+        const std::string_view text = b.text[text_at++];
         if (b.kind[r] == RowBatch::other) {
           // The plain path judges it (and may throw, skip it or start a footer).
-          if (parse_row(b.text[r], line_no, pending_.data() + used, false)) {
-            last_row = b.text[r];
+          if (pending_.size() < used + nch) pending_.resize(used + nch);
+          if (parse_row(text, line_no, pending_.data() + used, false)) {
+            last_row = text;
             used += nch;
           }
           continue;
         }
-        finish_row(line_no, index_column_ >= 0 ? b.index[r] : 0.0,
-                   time_column_ >= 0 ? b.time[r] : 0.0, time_column_ >= 0 ? b.resolution[r] : 0.0);
-        const double* v = b.values.data() + r * nch;
+        finish_row(line_no, index_column_ >= 0 ? b.index[row_at] : 0.0,
+                   time_column_ >= 0 ? b.time[row_at] : 0.0,
+                   time_column_ >= 0 ? b.resolution[row_at] : 0.0);
+        if (pending_.size() < used + nch) pending_.resize(used + nch);
+        const double* v = b.values.data() + row_at * nch;
+        ++row_at;
         double* out = pending_.data() + used;
         for (std::size_t c = 0; c < nch; ++c) out[c] = v[c] * gains_[c];
         used += nch;
-        last_row = b.text[r];
+        last_row = text;
       }
     }
     pending_.resize(used);
@@ -2072,7 +2342,7 @@ class TextReader final : public SampleSource {
       }
       ++footer_lines_;
       if (auto kv = split_key_value(current_text_))
-        keep_metadata(std::move(kv->first), std::move(kv->second));
+        keep_metadata(std::move(kv->first), std::move(kv->second), line_no);
       return false;
     }
     if (!options_.skip_bad_rows) throw InputError(path_, InputLocation::at_line(line_no), what);
@@ -2100,20 +2370,32 @@ class TextReader final : public SampleSource {
   // Times are checked against a least-squares line through all rows so far, not against the
   // neighbouring row alone: printed with few digits, neighbours may differ by 0 or by several
   // steps although the recorder's clock was perfect. A deviation is explained by printing when
-  // it stays within half the printed resolution (plus the fit's own small error).
-  void track_time(double t, double q, std::uint64_t line_no) {
+  // it stays within half the printed resolution (plus the fit's own small error). The printed
+  // resolution is the one the column's printing gives the row (TimePrinting), so a row whose
+  // trailing zeros were dropped is held to the digits the export really kept.
+  // `t_printed` and `q_printed` are as written, in the column's unit.
+  void track_time(double t_printed, double q_printed, std::uint64_t line_no) {
+    time_printing_.add(t_printed, q_printed);
+    const double factor = column_factor_[static_cast<std::size_t>(time_column_)];
+    const double t = t_printed * factor;
+    const double q = time_printing_.resolution(t_printed, q_printed) * factor;
     const auto k = static_cast<double>(row_index_);
     if (fit_.count() == 0) {
       t0_ = t;
-      first_q_ = q;
+      // As printed: a first row of "0" is kept as 0 against a fit's rounding noise, however
+      // fine the column's printing (start_time).
+      first_q_ = q_printed * factor;
       prev_t_ = t;
       prev_q_ = q;
     }
     const double rel = t - t0_;
     if (t < prev_t_ - std::max(q, prev_q_)) {
+      const std::string expected = fit_.count() >= 2
+                                       ? "expected about " + format_g(t0_ + predict(k), 10) + " s"
+                                       : "expected a time after " + format_g(prev_t_, 10) + " s";
       throw InputError(path_, InputLocation::at_line(line_no),
                        "time goes backwards: " + format_g(t, 10) + " s after " +
-                           format_g(prev_t_, 10) + " s; expected rising times");
+                           format_g(prev_t_, 10) + " s (" + expected + "); expected rising times");
     }
     if (fit_.count() > 0) {
       // Printed coarser than a step, the time repeats and then moves on by one printed digit;
@@ -2192,7 +2474,18 @@ class TextReader final : public SampleSource {
     }
     if (!fit_test) return;
     const double residual = rel - predicted;
-    if (std::fabs(residual) > printed + 0.5 * dt_s_) time_error(residual, rel, printed, line_no);
+    const double n = std::max<double>(2.0, static_cast<double>(fit_n));
+    if (std::fabs(residual) > 0.5 * dt_s_) {
+      // Where printing resolves a step, a row nearer another sample's slot than its own is a
+      // gap or a repeat: off by more than half a step, and by more than printing and the
+      // fitted line's error (below) explain. A row printed to one step's resolution (a 10 µs
+      // time column to five decimals) has no half step to spare beyond its printing: a single
+      // missing sample puts it a whole step off. Where printing does not resolve a step, the
+      // row must be off by half a step beyond what printing explains.
+      const double limit = resolves_step(q) ? std::max(0.5 * dt_s_, printed + fit_error(q, n))
+                                            : printed + 0.5 * dt_s_;
+      if (std::fabs(residual) > limit) time_error(residual, rel, printed, line_no);
+    }
     // Jitter: off the grid by more than printing explains, plus the fitted line's own error,
     // plus 2 % of a step for the rounding of the recorder's own time arithmetic (common
     // practice for exported time stamps). A line through n rows whose times carry uniform
@@ -2202,9 +2495,7 @@ class TextReader final : public SampleSource {
     // The fit's error only lowers `beyond`: a row within printing plus 2 % of a step needs no
     // square root (every row of a clean capture).
     if (std::fabs(residual) - printed <= 0.02 * dt_s_) return;
-    const double n = std::max<double>(2.0, static_cast<double>(fit_n));
-    const double fit_error = 4.0 * (q / std::sqrt(12.0)) * 2.0 / std::sqrt(n);
-    const double beyond = std::fabs(residual) - printed - fit_error;
+    const double beyond = std::fabs(residual) - printed - fit_error(q, n);
     if (beyond > 0.02 * dt_s_) {
       if (jitter_rows_ == 0) first_jitter_line_ = line_no;
       ++jitter_rows_;
@@ -2212,12 +2503,22 @@ class TextReader final : public SampleSource {
     }
   }
 
+  // Four standard deviations of a least-squares line's prediction of the next row, the line
+  // being through n rows whose times carry rounding of width q (see check_time).
+  static double fit_error(double q, double n) {
+    return 4.0 * (q / std::sqrt(12.0)) * 2.0 / std::sqrt(n);
+  }
+
+  // True when times printed to resolution q (in seconds) place a row on its sample's slot:
+  // rounding moves it by at most half a step.
+  bool resolves_step(double q) const { return q <= dt_s_ * (1 + 1e-9); }
+
   // `off` includes up to half the printed resolution of rounding, which is not a sample.
   [[noreturn]] void time_error(double off, double rel, double printed,
                                std::uint64_t line_no) const {
     // Where the printing resolves a step, the nearest slot is the count; where it does not,
     // only what exceeds the rounding allowance is certain ("at least").
-    const bool coarse = printed > 0.5 * dt_s_ * (1 + 1e-9);
+    const bool coarse = !resolves_step(2 * printed);
     const double beyond = coarse ? std::max(std::fabs(off) - printed, 0.5 * dt_s_) : std::fabs(off);
     const long steps = std::lround(std::copysign(beyond, off) / dt_s_);
     const std::string times = "time " + format_g(rel + t0_, 10) + " s, expected about " +
@@ -2284,16 +2585,65 @@ class TextReader final : public SampleSource {
       settle.add(rows[i].k, rows[i].rel);
     TimeFit running;
     for (std::size_t i = 0; i < rows.size(); ++i) {
-      const TimeFit& against = i < kSettleRows ? settle : running;
-      if (i > 0) {
+      // A row whose printing resolves a step is held to the line through the rows before it
+      // from the third row on, as every row after the look-ahead is (check_time allows for
+      // the error of a line through few rows): a gap among the first rows would bias a line
+      // through all of them by half its size and pass.
+      // The first two such rows are left to check_head_times: a line through all rows,
+      // moved by a gap among them, would misplace it.
+      const bool own_line = i >= 2 && resolves_step(rows[i].q);
+      const bool head = i < 2 && resolves_step(rows[i].q);
+      const TimeFit& against = i < kSettleRows && !own_line ? settle : running;
+      if (i > 0 && !head) {
         check_time(rows[i].k, rows[i].rel, rows[i].q, rows[i].line,
                    static_cast<double>(against.predict(rows[i].k)), 0.0, 0.0, 0.0, false, true,
                    against.count());
       }
       running.add(rows[i].k, rows[i].rel);
     }
+    check_head_times();
     lookahead_times_.clear();
     lookahead_times_.shrink_to_fit();
+  }
+
+  // The first rows have too few rows before them for a line through those to place a gap
+  // among them: printed to one step's resolution, a gap within the first ~20 rows moves a line
+  // through the rows before the next one by less than that line's own uncertainty. They are
+  // held to the line through the rows after them instead, the mirror image of the streaming
+  // test. The rows before a gap (or a repeat) all lie a whole step off that line: the last of
+  // them names the place, the row after it is reported as the row after the gap.
+  void check_head_times() {
+    // 32 rows: from there on the line through the rows before a row places a gap of one step
+    // printed to one step's resolution (check_time: ½ + 2.31/√n < 1 for n ≥ 22). A short
+    // capture holds its first third to the rest.
+    constexpr std::size_t kHeadRows = 32, kAfterRows = 512, kMinAfterRows = 8;
+    const auto& rows = lookahead_times_;
+    const std::size_t head = std::min(kHeadRows, rows.size() / 3);
+    if (rows.size() < head + kMinAfterRows || head == 0) return;
+    TimeFit after;
+    for (std::size_t i = head; i < std::min(rows.size(), head + kAfterRows); ++i)
+      after.add(rows[i].k, rows[i].rel);
+    // The residual of row i from that line where it is off the line (0 where not).
+    const auto off = [&](std::size_t i) {
+      const PendingTime& r = rows[i];
+      if (!resolves_step(r.q)) return 0.0;
+      const double residual = r.rel - static_cast<double>(after.predict(r.k));
+      if (std::fabs(residual) <= 0.5 * dt_s_) return 0.0;
+      // As in check_time: four standard deviations of the line's prediction at this row
+      // (σ²(1/n + (k − k̄)²/Sxx), rounding of width q having standard deviation q/√12).
+      const double line_error = 4.0 * (r.q / std::sqrt(12.0)) * after.spread(r.k);
+      return std::fabs(residual) > std::max(0.5 * dt_s_, 0.5 * r.q + line_error) ? residual : 0.0;
+    };
+    for (std::size_t i = head; i-- > 0;) {
+      const double residual = off(i);
+      if (residual == 0.0) continue;
+      if (i > 0 && off(i - 1) == 0.0) {
+        // A row off the line between rows on it: the row itself (a repeated time).
+        time_error(residual, rows[i].rel, 0.5 * rows[i].q, rows[i].line);
+      }
+      const PendingTime& next = rows[i + 1];
+      time_error(-residual, next.rel, 0.5 * next.q, next.line);
+    }
   }
 
   // The first row's time as printed, unless the fitted line says it was rounded: within half
@@ -2313,6 +2663,10 @@ class TextReader final : public SampleSource {
       if (!snapped_note_.empty()) info_.detail += ", " + snapped_note_;
       dt_s_ = static_cast<double>(best_fit().slope());
       info_.sample_rate_hz = 1.0 / dt_s_;
+      check_rate(info_.sample_rate_hz, InputLocation::at_line(last_data_line_),
+                 "the time column's line through all " + std::to_string(rows_) + " rows steps by " +
+                     format_g(dt_s_) + " s",
+                 "expected times rising in even steps");
       info_.start_time_s = start_time();
     }
     if (skipped_ > 0) {
@@ -2338,9 +2692,11 @@ class TextReader final : public SampleSource {
     if (metadata_dropped_ > 0) {
       warnings_.push_back(std::to_string(metadata_dropped_) +
                           " preamble key/value(s) not kept in the metadata (more than " +
-                          std::to_string(kMaxMetadata) +
-                          " or 4 MiB); the time base and units "
-                          "were still read from every line");
+                          std::to_string(kMaxMetadata) + " or 4 MiB); " +
+                          (fact_bytes_ >= kMaxFactBytes
+                               ? "the time base and units were read from the first 1 MiB of "
+                                 "lines stating them"
+                               : "the time base and units were still read from every line"));
     }
   }
 
@@ -2361,7 +2717,9 @@ class TextReader final : public SampleSource {
   std::uint64_t preamble_lines_ = 0, comment_lines_ = 0, preamble_first_ = 0, preamble_last_ = 0;
   std::vector<std::string> preamble_keys_;
   std::size_t metadata_bytes_ = 0;
+  std::size_t fact_bytes_ = 0;  // kept past the metadata bounds (kMaxFactBytes)
   std::uint64_t metadata_dropped_ = 0;
+  std::vector<std::uint64_t> metadata_lines_;  // the line of each of info_.metadata
   // layout
   Dialect dialect_;
   std::size_t columns_ = 0;
@@ -2376,6 +2734,7 @@ class TextReader final : public SampleSource {
   std::vector<bool> fraction_seen_;
   std::vector<bool> clock_seen_;  // printed as hh:mm:ss: a clock, never a measured channel
   std::uint64_t first_data_line_ = 0;
+  std::uint64_t last_data_line_ = 0;  // the last row accepted so far
   int time_column_ = -1;
   int index_column_ = -1;
   int clock_column_ = -1;  // a column printed as a clock, hh:mm:ss
@@ -2422,6 +2781,7 @@ class TextReader final : public SampleSource {
   std::string snapped_note_;
   std::uint64_t repeats_ = 0;
   double t0_ = 0, first_q_ = 0, prev_t_ = 0, prev_q_ = 0, prev_k_ = 0, dt_s_ = 0;
+  TimePrinting time_printing_;
   std::vector<PendingTime> lookahead_times_;
   std::uint64_t jitter_rows_ = 0, first_jitter_line_ = 0;
   double max_jitter_s_ = 0;
