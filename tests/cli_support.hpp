@@ -91,6 +91,20 @@ class Cli : public ::testing::Test {
     return p;
   }
 
+  /// Runs a shell command line (for redirections and pipes), capturing both streams.
+  RunResult shell(const std::string& line) {
+    const fs::path out = dir_ / "sh_stdout.txt";
+    const fs::path err = dir_ / "sh_stderr.txt";
+    const std::string cmd =
+        "(" + line + ") >" + shell_quote(out.string()) + " 2>" + shell_quote(err.string());
+    const int raw = std::system(cmd.c_str());
+    RunResult r;
+    r.status = (raw != -1 && WIFEXITED(raw)) ? WEXITSTATUS(raw) : -1;
+    r.out = slurp(out);
+    r.err = slurp(err);
+    return r;
+  }
+
   fs::path file(const std::string& name, const std::string& bytes) {
     const fs::path p = dir_ / name;
     write_file(p, bytes);

@@ -3,7 +3,8 @@
 /// A read-ahead stage: one thread reads (parses, converts) the next blocks of a source while
 /// the caller measures the current one, so reading and measuring share the machine's cores.
 ///
-/// Memory is bounded: kSlots blocks of at most `max_frames` frames are in flight. The source is
+/// Memory is bounded: kSlots blocks of at most `max_frames` frames, and of at most
+/// kMaxValuesInFlight values together, are in flight. The source is
 /// touched by the reading thread only, until `next()` has returned false (then `source()` may
 /// be asked for its final info and warnings). An error the reader throws is rethrown by
 /// `next()` at the block where it occurred, so the caller sees reading errors in order.
@@ -24,6 +25,10 @@ class ReadAhead {
   /// Blocks in flight: one being measured, one being read, and up to six ready, so the reader
   /// runs on while the engine works through its look-ahead at once (CycleEngine acquisition).
   static constexpr std::size_t kSlots = 8;
+  /// Values (all channels, all slots) in flight at most: 16 MiB of doubles. Blocks of many
+  /// channels are asked for fewer frames, so the ring stays within it whatever the channel
+  /// count (8 blocks of 2^20 values of a 1024-channel file took 64 MiB before).
+  static constexpr std::size_t kMaxValuesInFlight = std::size_t{1} << 21;
 
   /// Starts reading at once. `source` must outlive this object.
   ReadAhead(SampleSource& source, std::size_t max_frames);

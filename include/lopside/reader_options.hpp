@@ -19,6 +19,9 @@ inline constexpr double kMaxSampleRateHz = 100e9;
 /// The most channels (or text columns) a capture may have; a header claiming more is refused
 /// before anything is allocated for them.
 inline constexpr std::size_t kMaxChannels = 1024;
+/// The most values (all channels together) one read block holds, whatever the channel count:
+/// 8 MiB of doubles. A file of many channels gets blocks of fewer frames.
+inline constexpr std::size_t kMaxBlockValues = std::size_t{1} << 20;
 
 /// How the user refers to a channel: its 1-based number (time column not counted) or its name.
 using ChannelSelector = std::string;

@@ -3,10 +3,24 @@
 // are large (kBlockFrames), so the lock is taken a few hundred times per second at most.
 #include "lopside/read_ahead.hpp"
 
+#include <algorithm>
+
 namespace lopside {
 
+namespace {
+
+std::size_t frames_per_slot(const SampleSource& source, std::size_t max_frames) {
+  const std::size_t channels = std::max<std::size_t>(1, source.info().channels.size());
+  const std::size_t budget = ReadAhead::kMaxValuesInFlight / ReadAhead::kSlots / channels;
+  return std::max<std::size_t>(1, std::min(max_frames, budget));
+}
+
+}  // namespace
+
 ReadAhead::ReadAhead(SampleSource& source, std::size_t max_frames)
-    : source_(source), max_frames_(max_frames), thread_([this] { run(); }) {}
+    : source_(source),
+      max_frames_(frames_per_slot(source, max_frames)),
+      thread_([this] { run(); }) {}
 
 ReadAhead::~ReadAhead() {
   {

@@ -2,15 +2,12 @@
 // W64, FLAC, AIFF and the other containers libsndfile knows (open_sound_file), and writes WAV,
 // RF64, W64 and FLAC (SoundFileWriter).
 
-#include <fcntl.h>
 #include <sndfile.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
 #include <algorithm>
-#include <array>
 #include <cerrno>
-#include <charconv>
 #include <cmath>
 #include <cstdint>
 #include <cstring>
@@ -26,184 +23,18 @@
 #include "lopside/channel_roles.hpp"
 #include "lopside/error.hpp"
 #include "lopside/sound_file_writer.hpp"
+#include "sound_file_checks.hpp"
 
 namespace lopside {
 namespace {
 
 namespace fs = std::filesystem;
-
-// ---------------------------------------------------------------------------------------------
-// Container headers, read by us as well as by libsndfile.
-//
-// libsndfile 1.2.0 accepts a WAV, RF64, W64 or AIFF file whose data chunk promises more bytes
-// than the file holds: it logs "data : 40000 (should be 29956)" and silently shortens
-// SF_INFO.frames to what is there (measured on 1.2.0). A recorder that died mid-capture would
-// then be analysed as a shorter, complete capture. So we walk the chunk list ourselves and
-// compare the data chunk's declared extent with the file size.
-
-/// Where the sample data of an uncompressed container lies, as its header declares it.
-struct DataExtent {
-  std::uint64_t offset = 0;  ///< byte offset of the first sample byte
-  std::uint64_t bytes = 0;   ///< declared length of the sample data
-  const char* chunk = "";    ///< the chunk that declares it, for messages
-};
-
-class HeaderReader {
- public:
-  explicit HeaderReader(const fs::path& path) : fd_(::open(path.c_str(), O_RDONLY | O_CLOEXEC)) {}
-  /// Reads through its own duplicate of `fd` with pread, so the descriptor's offset, which
-  /// libsndfile uses, is left alone.
-  explicit HeaderReader(int fd) : fd_(::fcntl(fd, F_DUPFD_CLOEXEC, 0)) {}
-  ~HeaderReader() {
-    if (fd_ >= 0) ::close(fd_);
-  }
-  HeaderReader(const HeaderReader&) = delete;
-  HeaderReader& operator=(const HeaderReader&) = delete;
-  bool ok() const { return fd_ >= 0; }
-  /// Reads `n` bytes at `pos`; false if the file is shorter.
-  bool read(std::uint64_t pos, unsigned char* out, std::size_t n) {
-    std::size_t done = 0;
-    while (fd_ >= 0 && done < n) {
-      const ssize_t got = ::pread(fd_, out + done, n - done, static_cast<off_t>(pos + done));
-      if (got < 0 && errno == EINTR) continue;
-      if (got <= 0) return false;
-      done += static_cast<std::size_t>(got);
-    }
-    return done == n;
-  }
-
- private:
-  int fd_;
-};
-
-std::uint64_t le(const unsigned char* p, std::size_t n) {
-  std::uint64_t v = 0;
-  for (std::size_t i = n; i-- > 0;) v = (v << 8) | p[i];
-  return v;
-}
-std::uint64_t be(const unsigned char* p, std::size_t n) {
-  std::uint64_t v = 0;
-  for (std::size_t i = 0; i < n; ++i) v = (v << 8) | p[i];
-  return v;
-}
-bool tag_is(const unsigned char* p, const char* tag) {
-  return std::memcmp(p, tag, 4) == 0;
-}
-
-// A number as the user typed it in messages ("44100.5", "1e+06"), not std::to_string's
-// fixed six decimals.
-std::string number_text(double v) {
-  char buf[32];
-  const auto res = std::to_chars(buf, buf + sizeof buf, v);
-  return std::string(buf, res.ptr);
-}
-
-// Sony Wave64 chunk GUIDs (the "riff", "wave" and "data" chunk identifiers of the W64 format).
-constexpr std::array<unsigned char, 16> w64_riff = {0x72, 0x69, 0x66, 0x66, 0x2E, 0x91, 0xCF, 0x11,
-                                                    0xA5, 0xD6, 0x28, 0xDB, 0x04, 0xC1, 0x00, 0x00};
-constexpr std::array<unsigned char, 16> w64_data = {0x64, 0x61, 0x74, 0x61, 0xF3, 0xAC, 0xD3, 0x11,
-                                                    0x8C, 0xD1, 0x00, 0xC0, 0x4F, 0x8E, 0xDB, 0x8A};
-
-// Bounds the chunk walk on hostile files; real captures have a handful of chunks.
-constexpr int max_chunks = 4096;
-
-// RIFF WAVE (Microsoft/IBM Multimedia Programming Interface 1.0) and its 64-bit successors
-// RF64 (EBU Tech 3306) and BW64 (ITU-R BS.2088): 4-byte ids, 32-bit sizes padded to even;
-// in RF64 the data size 0xFFFFFFFF defers to the 64-bit size in the "ds64" chunk.
-std::optional<DataExtent> riff_extent(HeaderReader& in, std::uint64_t file_size, bool rf64,
-                                      bool big_endian) {
-  std::optional<std::uint64_t> ds64_data;
-  std::uint64_t pos = 12;
-  unsigned char h[8];
-  for (int i = 0; i < max_chunks && pos + 8 <= file_size; ++i) {
-    if (!in.read(pos, h, 8)) return std::nullopt;
-    const std::uint64_t size = big_endian ? be(h + 4, 4) : le(h + 4, 4);
-    if (tag_is(h, "ds64") && rf64) {
-      unsigned char d[16];
-      if (!in.read(pos + 8, d, 16)) return std::nullopt;
-      ds64_data = le(d + 8, 8);
-    }
-    if (tag_is(h, "data")) {
-      DataExtent e{pos + 8, size, "'data' chunk"};
-      if (rf64 && size == 0xFFFFFFFFu) {
-        if (!ds64_data) return std::nullopt;
-        e.bytes = *ds64_data;
-        e.chunk = "'ds64' chunk";
-      } else if (size == 0xFFFFFFFFu || size == 0) {
-        return std::nullopt;  // length left open by a streaming writer: nothing to check
-      }
-      return e;
-    }
-    if (size == 0xFFFFFFFFu) return std::nullopt;
-    pos += 8 + size + (size & 1u);
-  }
-  return std::nullopt;
-}
-
-// Sony Wave64: 16-byte GUID ids, 64-bit little-endian sizes that include the 24-byte chunk
-// header, chunks aligned to 8 bytes.
-std::optional<DataExtent> w64_extent(HeaderReader& in, std::uint64_t file_size) {
-  std::uint64_t pos = 40;  // riff GUID, riff size, wave GUID
-  unsigned char h[24];
-  for (int i = 0; i < max_chunks && pos + 24 <= file_size; ++i) {
-    if (!in.read(pos, h, 24)) return std::nullopt;
-    const std::uint64_t size = le(h + 16, 8);
-    if (size < 24) return std::nullopt;
-    if (std::memcmp(h, w64_data.data(), 16) == 0) {
-      return DataExtent{pos + 24, size - 24, "'data' chunk"};
-    }
-    pos += (size + 7) / 8 * 8;
-  }
-  return std::nullopt;
-}
-
-// AIFF / AIFF-C (Apple, Audio Interchange File Format 1.3): big-endian sizes padded to even;
-// the "SSND" chunk starts with an 8-byte offset/blockSize pair before the samples.
-std::optional<DataExtent> aiff_extent(HeaderReader& in, std::uint64_t file_size) {
-  std::uint64_t pos = 12;
-  unsigned char h[16];
-  for (int i = 0; i < max_chunks && pos + 8 <= file_size; ++i) {
-    if (!in.read(pos, h, 8)) return std::nullopt;
-    const std::uint64_t size = be(h + 4, 4);
-    if (tag_is(h, "SSND")) {
-      if (!in.read(pos + 8, h + 8, 8)) return std::nullopt;
-      const std::uint64_t skip = be(h + 8, 4);
-      if (size < 8 + skip) return std::nullopt;
-      return DataExtent{pos + 16 + skip, size - 8 - skip, "'SSND' chunk"};
-    }
-    pos += 8 + size + (size & 1u);
-  }
-  return std::nullopt;
-}
-
-/// The declared data extent of an uncompressed WAV-family or AIFF file; nullopt for other
-/// containers (FLAC, Ogg, …) and for headers that leave the length open.
-std::optional<DataExtent> declared_data_extent(HeaderReader& in, std::uint64_t file_size) {
-  unsigned char h[16];
-  if (!in.ok() || !in.read(0, h, 16)) return std::nullopt;
-  const bool wave = tag_is(h + 8, "WAVE");
-  if (tag_is(h, "RIFF") && wave) return riff_extent(in, file_size, false, false);
-  if (tag_is(h, "RIFX") && wave) return riff_extent(in, file_size, false, true);
-  if ((tag_is(h, "RF64") || tag_is(h, "BW64")) && wave) {
-    return riff_extent(in, file_size, true, false);
-  }
-  if (std::memcmp(h, w64_riff.data(), 16) == 0) return w64_extent(in, file_size);
-  if (tag_is(h, "FORM") && (tag_is(h + 8, "AIFF") || tag_is(h + 8, "AIFC"))) {
-    return aiff_extent(in, file_size);
-  }
-  return std::nullopt;
-}
-
-/// True if the file starts like a container libsndfile reads, so that a failed open means a
-/// damaged header rather than a file of another kind.
-bool has_sound_magic(HeaderReader& in) {
-  unsigned char h[16];
-  if (!in.ok() || !in.read(0, h, 4)) return false;
-  for (const char* tag : {"RIFF", "RIFX", "RF64", "BW64", "FORM", "fLaC", "OggS", "caff", ".snd"}) {
-    if (tag_is(h, tag)) return true;
-  }
-  return in.read(0, h, 16) && std::memcmp(h, w64_riff.data(), 16) == 0;
-}
+using sound_checks::ContainerFacts;
+using sound_checks::DataExtent;
+using sound_checks::HeaderReader;
+// A number as the user typed it in messages ("44100.5", "1e+06"), not std::to_string's fixed
+// six decimals.
+using sound_checks::number_text;
 
 // ---------------------------------------------------------------------------------------------
 // Format names.
@@ -376,9 +207,19 @@ class SoundFileSource final : public SampleSource {
       block.frames = 0;
       return 0;
     }
-    block.data.resize(max_frames * channels);
+    // The block never outgrows kMaxBlockSamples values nor the frames the header has left,
+    // whatever the caller asks and the channel count: 1024 channels × 65536 frames would be
+    // 512 MiB of doubles for a file of a few kilobytes.
+    std::size_t want =
+        std::min(max_frames, std::max<std::size_t>(1, sound_checks::kMaxBlockSamples / channels));
+    if (info_.frames) {
+      const std::uint64_t left = *info_.frames - std::min(*info_.frames, frames_read_);
+      want = static_cast<std::size_t>(std::min<std::uint64_t>(want, left));
+    }
+    block.data.resize(want * channels);
     const sf_count_t got =
-        sf_readf_double(file_.get(), block.data.data(), static_cast<sf_count_t>(max_frames));
+        want == 0 ? 0
+                  : sf_readf_double(file_.get(), block.data.data(), static_cast<sf_count_t>(want));
     // libsndfile reports decoding failures (a FLAC frame that lost sync, an I/O error) through
     // sf_error while still returning a full count, the damaged frames set to zero (measured
     // on 1.2.0), so the count alone cannot be trusted.
@@ -444,15 +285,26 @@ std::string channel_label(const ChannelInfo& c) {
 
 namespace {
 
-// What open_sound_file needs besides libsndfile's handle: the header, read by us, and the size.
+// libsndfile's reading of the file, checked against the stated limits and against the header
+// as check_container read it.
 std::unique_ptr<SampleSource> open_opened_sound_file(SndfileHandle file, const SF_INFO& sf_info,
                                                      HeaderReader& header,
-                                                     std::optional<std::uint64_t> size,
+                                                     const ContainerFacts& facts,
                                                      const std::string& shown,
                                                      const ReaderOptions& options) {
+  using sound_checks::kMaxChannels;
+  using sound_checks::kMaxSampleRateHz;
+  using sound_checks::kMinSampleRateHz;
   if (!file) {
     const std::string why = sf_strerror(nullptr);
-    if (has_sound_magic(header)) {
+    if (facts.have_format && !facts.format_known) {
+      throw InputError(shown, InputLocation::at_byte(facts.format_field),
+                       "damaged or unsupported sound file header: the header gives " +
+                           facts.format_text +
+                           ", an encoding libsndfile cannot read (libsndfile: " + why +
+                           "); expected integer PCM, IEEE float, A-law or µ-law");
+    }
+    if (sound_checks::has_sound_magic(header)) {
       throw InputError(shown, InputLocation::at_byte(0),
                        "damaged or unsupported sound file header (libsndfile: " + why + ")");
     }
@@ -468,24 +320,32 @@ std::unique_ptr<SampleSource> open_opened_sound_file(SndfileHandle file, const S
                      "not a sound file libsndfile can read: no known header (expected "
                      "WAV, RF64, W64, FLAC, AIFF, …)");
   }
-  if (sf_info.channels < 1 || sf_info.samplerate < 1) {
-    throw InputError(shown, InputLocation::at_byte(0),
-                     "damaged header: " + std::to_string(sf_info.channels) + " channels at " +
-                         std::to_string(sf_info.samplerate) + " Hz");
+  // Containers check_container does not read (FLAC, CAF, …) meet the same limits here, before
+  // anything is sized by the channel count.
+  if (sf_info.channels < 1 || static_cast<std::uint64_t>(sf_info.channels) > kMaxChannels) {
+    throw InputError(shown, InputLocation::at_byte(facts.channels_field),
+                     "damaged header: " + std::to_string(sf_info.channels) +
+                         " channels; expected 1 to " + std::to_string(kMaxChannels));
   }
-
-  const std::uint64_t file_size = size.value_or(0);
-  const auto extent = size ? declared_data_extent(header, file_size) : std::nullopt;
-  if (extent && extent->offset + extent->bytes > file_size) {
-    const std::uint64_t present = file_size > extent->offset ? file_size - extent->offset : 0;
-    throw InputError(shown, InputLocation::at_byte(file_size),
-                     "truncated file: it ends at byte " + std::to_string(file_size) +
-                         ", inside the sample data; the " + extent->chunk + " promises " +
-                         std::to_string(extent->bytes) + " bytes from byte " +
-                         std::to_string(extent->offset) + " (to byte " +
-                         std::to_string(extent->offset + extent->bytes) + "); " +
-                         std::to_string(present) + " bytes present, " +
-                         std::to_string(extent->bytes - present) + " missing");
+  const double rate_hz = sf_info.samplerate;
+  if (!(rate_hz >= kMinSampleRateHz) || rate_hz > kMaxSampleRateHz) {
+    throw InputError(shown, InputLocation::at_byte(facts.rate_field),
+                     "damaged header: a sample rate of " + std::to_string(sf_info.samplerate) +
+                         " Hz; expected a sample rate from 1 Hz to 100 GHz");
+  }
+  // libsndfile 1.2.0 turns AIFF's 80-bit rate into an int by hand (tenbytefloat2int in
+  // src/aiff.c): it drops any fraction, reads 0 as 1 Hz, and anything from 2^30 Hz up as
+  // 800 MHz (measured: 1e12 Hz reads as 800000000). Only a rate it reproduces exactly is used.
+  if (facts.header_rate_hz && (!facts.header_rate_whole || *facts.header_rate_hz != rate_hz)) {
+    const std::string stated = number_text(*facts.header_rate_hz);
+    throw InputError(
+        shown, InputLocation::at_byte(facts.rate_field),
+        "the header states a sample rate of " + stated + " Hz, which libsndfile reads as " +
+            std::to_string(sf_info.samplerate) +
+            " Hz, and every sample's time would be wrong; expected " +
+            (facts.header_rate_whole ? "a rate below 1073741824 Hz (2^30), the largest "
+                                       "libsndfile converts exactly"
+                                     : "a whole number of hertz"));
   }
 
   const auto channel_count = static_cast<std::size_t>(sf_info.channels);
@@ -559,7 +419,7 @@ std::unique_ptr<SampleSource> open_opened_sound_file(SndfileHandle file, const S
 
   const std::uint64_t bytes_per_frame = bytes_per_sample(sf_info.format) * channel_count;
   return std::make_unique<SoundFileSource>(std::move(file), std::move(info), std::move(multipliers),
-                                           std::move(warnings), extent, bytes_per_frame);
+                                           std::move(warnings), facts.extent, bytes_per_frame);
 }
 
 }  // namespace
@@ -568,14 +428,15 @@ std::unique_ptr<SampleSource> open_sound_file(const std::filesystem::path& path,
                                               const ReaderOptions& options) {
   const std::string shown = path.string();
   check_readable(path, shown);
-  SF_INFO sf_info{};
-  SndfileHandle file(sf_open(shown.c_str(), SFM_READ, &sf_info));
   HeaderReader header(path);
   std::error_code ec;
   const std::uint64_t file_size = fs::file_size(path, ec);
-  return open_opened_sound_file(std::move(file), sf_info, header,
-                                ec ? std::nullopt : std::optional<std::uint64_t>(file_size), shown,
-                                options);
+  // The header is checked before libsndfile reads it: some headers make sf_open loop forever.
+  const ContainerFacts facts = sound_checks::check_container(
+      header, ec ? std::nullopt : std::optional<std::uint64_t>(file_size), shown);
+  SF_INFO sf_info{};
+  SndfileHandle file(sf_open(shown.c_str(), SFM_READ, &sf_info));
+  return open_opened_sound_file(std::move(file), sf_info, header, facts, shown, options);
 }
 
 std::unique_ptr<SampleSource> open_sound_file(int fd, const std::string& display_path,
@@ -583,14 +444,23 @@ std::unique_ptr<SampleSource> open_sound_file(int fd, const std::string& display
   HeaderReader header(fd);
   struct stat st {};
   const bool sized = ::fstat(fd, &st) == 0 && S_ISREG(st.st_mode);
+  ContainerFacts facts;
+  try {
+    // A spooled pipe is a regular file by now, so the same checks as for a file by name guard
+    // sf_open_fd against headers that make it loop forever.
+    facts = sound_checks::check_container(
+        header,
+        sized ? std::optional<std::uint64_t>(static_cast<std::uint64_t>(st.st_size)) : std::nullopt,
+        display_path);
+  } catch (...) {
+    ::close(fd);  // the descriptor is ours to close, as libsndfile would have
+    throw;
+  }
   // libsndfile takes the descriptor over (close_desc): sf_close closes it, and so does a failed
   // open (libsndfile 1.2.0 source, sf_open_fd → psf_open_file → psf_close; from memory).
   SF_INFO sf_info{};
   SndfileHandle file(sf_open_fd(fd, SFM_READ, &sf_info, SF_TRUE));
-  return open_opened_sound_file(
-      std::move(file), sf_info, header,
-      sized ? std::optional<std::uint64_t>(static_cast<std::uint64_t>(st.st_size)) : std::nullopt,
-      display_path, options);
+  return open_opened_sound_file(std::move(file), sf_info, header, facts, display_path, options);
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -54,7 +54,7 @@ constexpr std::size_t kLookaheadRows = 65536;
 // Values in one block handed out by read(), across all channels: 8 MiB of doubles, the budget
 // the sound-file reader keeps too. A file of many columns gets blocks of fewer frames, so
 // memory never grows with the column count (65536 frames of 10 000 columns took 5 GB).
-constexpr std::size_t kMaxBlockValues = std::size_t{1} << 20;
+// (kMaxBlockValues, lopside/reader_options.hpp)
 // The look-ahead holds at most as many values as a block, so a file of many columns holds
 // fewer rows (at most 16 columns keep all kLookaheadRows rows).
 constexpr std::size_t kLookaheadValues = kMaxBlockValues;
