@@ -5,9 +5,6 @@
 // binary) exit status 2 with a message naming the file; never a crash, a hang, exit 1 or a
 // silent number.
 #include <gtest/gtest.h>
-#include <lzma.h>
-#include <zlib.h>
-#include <zstd.h>
 
 #include <cmath>
 #include <cstdio>
@@ -18,6 +15,7 @@
 #include <vector>
 
 #include "cli_support.hpp"
+#include "compress_support.hpp"
 #include "lopside/capture_reader.hpp"
 #include "lopside/error.hpp"
 #include "text_support.hpp"
@@ -481,39 +479,9 @@ TEST(HostileText, BytesThatAreNoTextNameTheirOffset) {
 // Through the binary: exit status 2, the file named, never "internal error"; compressed and
 // standard input paths included.
 
-std::string gzip_bytes(const std::string& in) {
-  z_stream z{};
-  // windowBits 16 + 15: a gzip wrapper (zlib manual, deflateInit2).
-  EXPECT_EQ(deflateInit2(&z, 6, Z_DEFLATED, 16 + MAX_WBITS, 8, Z_DEFAULT_STRATEGY), Z_OK);
-  std::string out(deflateBound(&z, static_cast<uLong>(in.size())) + 64, '\0');
-  z.next_in = reinterpret_cast<Bytef*>(const_cast<char*>(in.data()));
-  z.avail_in = static_cast<uInt>(in.size());
-  z.next_out = reinterpret_cast<Bytef*>(out.data());
-  z.avail_out = static_cast<uInt>(out.size());
-  EXPECT_EQ(deflate(&z, Z_FINISH), Z_STREAM_END);
-  out.resize(z.total_out);
-  deflateEnd(&z);
-  return out;
-}
-
-std::string xz_bytes(const std::string& in) {
-  std::string out(lzma_stream_buffer_bound(in.size()), '\0');
-  std::size_t pos = 0;
-  EXPECT_EQ(lzma_easy_buffer_encode(1, LZMA_CHECK_CRC64, nullptr,
-                                    reinterpret_cast<const std::uint8_t*>(in.data()), in.size(),
-                                    reinterpret_cast<std::uint8_t*>(out.data()), &pos, out.size()),
-            LZMA_OK);
-  out.resize(pos);
-  return out;
-}
-
-std::string zstd_bytes(const std::string& in) {
-  std::string out(ZSTD_compressBound(in.size()), '\0');
-  const std::size_t n = ZSTD_compress(out.data(), out.size(), in.data(), in.size(), 3);
-  EXPECT_FALSE(ZSTD_isError(n));
-  out.resize(n);
-  return out;
-}
+using test::gzip_bytes;
+using test::xz_bytes;
+using test::zstd_bytes;
 
 class HostileCli : public test::Cli {
  protected:

@@ -7,11 +7,8 @@
 // which implement the same formats (RFC 1952, The .xz File Format 1.1.0, RFC 8878).
 #include <fcntl.h>
 #include <gtest/gtest.h>
-#include <lzma.h>
 #include <sys/stat.h>
 #include <unistd.h>
-#include <zlib.h>
-#include <zstd.h>
 
 #include <algorithm>
 #include <cstring>
@@ -20,6 +17,7 @@
 #include <thread>
 
 #include "cli_support.hpp"
+#include "compress_support.hpp"
 #include "lopside/capture_reader.hpp"
 #include "lopside/error.hpp"
 #include "lopside/input_stream.hpp"
@@ -27,42 +25,12 @@
 namespace lopside::test {
 namespace {
 
+using lopside::test::gzip_bytes;
+using lopside::test::xz_bytes;
+using lopside::test::zstd_bytes;
+
 // ---------------------------------------------------------------------------------------------
 // Encoders for the test data.
-
-std::string gzip_bytes(const std::string& in) {
-  z_stream z{};
-  // windowBits 16 + 15: a gzip wrapper (zlib manual, deflateInit2).
-  EXPECT_EQ(deflateInit2(&z, 6, Z_DEFLATED, 16 + MAX_WBITS, 8, Z_DEFAULT_STRATEGY), Z_OK);
-  std::string out(deflateBound(&z, static_cast<uLong>(in.size())) + 64, '\0');
-  z.next_in = reinterpret_cast<Bytef*>(const_cast<char*>(in.data()));
-  z.avail_in = static_cast<uInt>(in.size());
-  z.next_out = reinterpret_cast<Bytef*>(out.data());
-  z.avail_out = static_cast<uInt>(out.size());
-  EXPECT_EQ(deflate(&z, Z_FINISH), Z_STREAM_END);
-  out.resize(z.total_out);
-  deflateEnd(&z);
-  return out;
-}
-
-std::string xz_bytes(const std::string& in) {
-  std::string out(lzma_stream_buffer_bound(in.size()), '\0');
-  std::size_t pos = 0;
-  EXPECT_EQ(lzma_easy_buffer_encode(6, LZMA_CHECK_CRC64, nullptr,
-                                    reinterpret_cast<const std::uint8_t*>(in.data()), in.size(),
-                                    reinterpret_cast<std::uint8_t*>(out.data()), &pos, out.size()),
-            LZMA_OK);
-  out.resize(pos);
-  return out;
-}
-
-std::string zstd_bytes(const std::string& in) {
-  std::string out(ZSTD_compressBound(in.size()), '\0');
-  const std::size_t n = ZSTD_compress(out.data(), out.size(), in.data(), in.size(), 3);
-  EXPECT_FALSE(ZSTD_isError(n));
-  out.resize(n);
-  return out;
-}
 
 std::string compress(Compression c, const std::string& in) {
   switch (c) {
