@@ -7,6 +7,7 @@
 ///
 /// Memory is bounded: at most kBatches batches of kBatchSamples samples are in flight.
 
+#include <algorithm>
 #include <condition_variable>
 #include <cstddef>
 #include <cstdint>
@@ -41,6 +42,23 @@ class HarmonicFeed {
     }
     batch_.values.push_back(value);
     if (batch_.values.size() >= kBatchSamples) send();
+  }
+  /// on_sample() for `count` consecutive samples from `first` on: the same batches.
+  void on_samples(std::uint64_t first, const double* values, std::size_t count) {
+    while (count > 0) {
+      if (batch_.values.empty()) {
+        batch_.first = first;
+      } else if (first != batch_.first + batch_.values.size()) {
+        send();
+        batch_.first = first;
+      }
+      const std::size_t take = std::min(count, kBatchSamples - batch_.values.size());
+      batch_.values.insert(batch_.values.end(), values, values + take);
+      first += take;
+      values += take;
+      count -= take;
+      if (batch_.values.size() >= kBatchSamples) send();
+    }
   }
   void on_boundary(double index) { batch_.events.push_back({batch_.values.size(), index, false}); }
   void drop_partial_block() { batch_.events.push_back({batch_.values.size(), 0.0, true}); }

@@ -117,6 +117,8 @@ class HarmonicAnalyzer {
   HarmonicAnalyzer& operator=(HarmonicAnalyzer&&) noexcept;
 
   void on_sample(std::uint64_t index, double value);
+  /// on_sample() for `count` consecutive samples from `first` on, with the same results.
+  void on_samples(std::uint64_t first, const double* values, std::size_t count);
   void on_boundary(double index);
   /// Forgets the boundaries of the block being filled: the next boundary starts a new block.
   void drop_partial_block();

@@ -57,6 +57,13 @@ class ReadAhead {
   bool ended_ = false;              // the reader saw the end (or an error)
   bool stop_ = false;               // the caller wants the reader gone
   bool holding_ = false;            // the caller holds slot (consumed_count_ % kSlots)
+  // Each side, once it has had to wait, sleeps until half the ring has turned over, so that
+  // the faster side is woken once per kSlots/2 blocks rather than once per block (a futex
+  // wake per block cost 6 % of a measurement when the engine was the slower side).
+  bool reader_waiting_ = false;
+  std::size_t reader_wake_at_ = 0;  // consumed_count_ that wakes the waiting reader
+  bool caller_waiting_ = false;
+  std::size_t caller_wake_at_ = 0;  // read_count_ that wakes the waiting caller
   std::exception_ptr error_;
   double progress_ = -1.0;
   std::thread thread_;

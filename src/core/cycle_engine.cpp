@@ -468,6 +468,222 @@ struct CycleEngine::Impl {
     if (n >= kLag) integrate_up_to(n - kLag);
   }
 
+  // The look-ahead is full (or the capture ended): learn the levels, then measure the held
+  // frames as any others.
+  void end_acquisition() {
+    acquiring = false;
+    learn_levels(held);
+    const Frame* frames = held.data();
+    const auto get = [frames](std::size_t k, Frame& fr) {
+      fr = frames[k];
+      return true;
+    };
+    for (std::size_t k = 0; k < held.size();) {
+      k = quick_run(get, k, held.size());
+      if (k < held.size()) push(held[k++]);
+    }
+    std::vector<Frame>().swap(held);
+    std::vector<std::uint8_t>().swap(held_bad);
+  }
+
+  // --- the quick path ----------------------------------------------------------------------
+  // Most frames change nothing but the open cycle's sums: the detector neither arms nor
+  // triggers nor has a crossing to refine, and the integrator's frame holds no boundary, no
+  // zero of the current and no flat run at a peak. quick_run() takes such frames in one tight
+  // loop with the running sums in registers (members written through the ring could alias
+  // them), doing for each exactly the arithmetic push() would, in the same order, so the
+  // results are the same to the last bit; the first frame that needs more goes to push().
+  // `get(k, frame)` gives the k-th frame as push() would receive it, or false for one that
+  // frame_of() must see (not finite). Returns the index of the first frame not taken.
+  template <typename Get>
+  std::size_t quick_run(Get get, std::size_t from, std::size_t to) {
+    if (!in_cycle || acc.samples == 0 || integrated != next_index - std::min(next_index, kLag) ||
+        next_index < kLag + 2 || !level_known)
+      return from;
+    const std::uint64_t wait = std::max<std::uint64_t>(fit_half_width, kEdgeHalfTaps + 1);
+    std::uint64_t refine_due =
+        pending.empty() ? std::numeric_limits<std::uint64_t>::max() : pending.front().index + wait;
+    const double next_boundary =
+        boundaries.empty() ? std::numeric_limits<double>::infinity() : boundaries.front();
+    // detect(): the same band and levels (they change only when a cycle closes).
+    const bool live = half_swing > 0;
+    const double band = kBandShare * half_swing;
+    const double lo = level_mean - band, hi = level_mean + band;
+    const double let_go = harmonic && !harmonic_let_go && period_nominal > 0
+                              ? (1 + kPeriodTolerance) * period_nominal + 1
+                              : std::numeric_limits<double>::infinity();
+    // The open cycle's running figures, as CycleAccumulator::sample() and piece() update them.
+    CycleAccumulator& c = acc;
+    Integrals sum = c.sum;
+    double duration = c.duration, t_pos = c.t_pos, t_vpos = c.t_vpos;
+    double max_i = c.max_i, min_i = c.min_i, max_v = c.max_v, min_v = c.min_v;
+    double prev_i = c.prev_sample_i;
+    double burn_v_pos = c.burn_v_pos, burn_v_neg = c.burn_v_neg;
+    std::uint64_t burn_n_pos = c.burn_n_pos, burn_n_neg = c.burn_n_neg, samples = c.samples;
+    const double burn_pos = c.burn_threshold_pos, burn_neg = c.burn_threshold_neg;
+    double step_min = min_step;
+    const double h = 1.0 * dt;  // (to − from)·dt of a whole piece, as add_piece() has it
+    std::uint64_t n = next_index;
+    // A new extreme's entering flank is taken when the run of frames ends (or the extreme is
+    // left), not at each of the many new extremes of a rising or falling flank. It looks back
+    // at most 1 + 2·kMaxFlankSpacing frames from the extreme, which the ring still holds
+    // kChunk frames later.
+    constexpr std::uint64_t kNone = std::numeric_limits<std::uint64_t>::max();
+    constexpr std::size_t kChunk = 32;
+    static_assert(kRing >= kChunk + kLag + 2 * kMaxFlankSpacing + 2);
+    std::uint64_t new_max_at = kNone, new_min_at = kNone;
+    const auto settle_max = [&] {
+      if (new_max_at == kNone) return;
+      c.max_at = new_max_at;
+      c.flank_run_max = c.flank_best_max = flank_entering(new_max_at, +1.0);
+      c.run_max = c.best_run_max = 1;
+      new_max_at = kNone;
+    };
+    const auto settle_min = [&] {
+      if (new_min_at == kNone) return;
+      c.min_at = new_min_at;
+      c.flank_run_min = c.flank_best_min = flank_entering(new_min_at, -1.0);
+      c.run_min = c.best_run_min = 1;
+      new_min_at = kNone;
+    };
+    std::size_t k = from;
+    for (bool stop = false; !stop && k < to;) {
+      const std::size_t chunk_end = std::min(to, k + kChunk);
+      // The chunk's current samples for the harmonics, handed over at once.
+      double harmonic_values[kChunk];
+      std::size_t harmonic_count = 0;
+      const std::uint64_t harmonic_first = n - kLag;
+      for (; k < chunk_end; ++k) {
+        Frame fr;
+        if (!get(k, fr)) {
+          stop = true;
+          break;
+        }
+        if (n >= refine_due) {
+          stop = true;
+          break;
+        }
+        const std::uint64_t m = n - kLag;
+        if (next_boundary < static_cast<double>(m)) {
+          stop = true;
+          break;
+        }
+        const Frame a = at(m - 1);
+        const Frame b = at(m);
+        if ((a.i > 0) != (b.i > 0)) {
+          stop = true;
+          break;
+        }
+        if (b.i == max_i || b.i == min_i || (prev_i == max_i && prev_i == min_i)) {
+          stop = true;
+          break;
+        }
+        if (static_cast<double>(m) - cycle_start > let_go) {
+          stop = true;
+          break;
+        }
+        // The frame is quick: enter it, detect on it as detect() would (no refine is due), and
+        // integrate frame m as integrate_frame() would.
+        ring[n & (kRing - 1)] = fr;
+        ++n;
+        if (live) {
+          const double r = ref(fr);
+          if (r < lo) armed = true;
+          if (armed && r > hi) {
+            armed = false;
+            pending.push_back(Trigger{n - 1, hi, band});
+            ++crossings;
+            if (pending.size() == 1) refine_due = n - 1 + wait;
+          }
+        }
+        {
+          // add_piece(a, b, m − 1, m − 1, m): fa = 0, fb = 1.
+          const double ia = a.i + 0.0 * (b.i - a.i), ib = a.i + 1.0 * (b.i - a.i);
+          const double va = a.v + 0.0 * (b.v - a.v), vb = a.v + 1.0 * (b.v - a.v);
+          duration += h;
+          if ((ia > 0) == (ib > 0)) {
+            if (ia > 0) t_pos += h;
+          } else {
+            const double z = ia / (ia - ib);
+            t_pos += ia > 0 ? z * h : (1 - z) * h;
+          }
+          if ((va > 0) == (vb > 0)) {
+            if (va > 0) t_vpos += h;
+          } else {
+            const double z = va / (va - vb);
+            t_vpos += va > 0 ? z * h : (1 - z) * h;
+          }
+        }
+        harmonic_values[harmonic_count++] = b.i;
+        const double step = std::fabs(b.i - a.i);
+        if (step > 0) step_min = std::min(step_min, step);
+        // CycleAccumulator::sample(b.i, b.v) and the new extremes' flanks; no sample here ties
+        // an extreme or leaves one (the tests above), so the runs there are new runs of one.
+        const double i = b.i, v = b.v;
+        ++samples;
+        sum.i += i;
+        sum.i2 += i * i;
+        sum.v += v;
+        sum.v2 += v * v;
+        sum.p += v * i;
+        sum.abs_i += std::fabs(i);
+        sum.abs_p += i > 0 ? v * i : -(v * i);
+        if (i > burn_pos) {
+          burn_v_pos += v;
+          ++burn_n_pos;
+        } else if (i < burn_neg) {
+          burn_v_neg += v;
+          ++burn_n_neg;
+        }
+        // A run at a peak that ends here: merge the flank leaving it, as integrate_frame() does
+        // (the ring holds frame n − 1 now, as push() has it before integrating).
+        if (prev_i == max_i && i < max_i) {
+          settle_max();
+          if (c.run_max == c.best_run_max) merge_flank(c.flank_best_max, flank_leaving(m, +1.0, n));
+        }
+        if (prev_i == min_i && i > min_i) {
+          settle_min();
+          if (c.run_min == c.best_run_min) merge_flank(c.flank_best_min, flank_leaving(m, -1.0, n));
+        }
+        if (i > max_i) {
+          max_i = i;
+          new_max_at = m;
+        }
+        if (i < min_i) {
+          min_i = i;
+          new_min_at = m;
+        }
+        prev_i = i;
+        max_v = std::max(max_v, v);
+        min_v = std::min(min_v, v);
+      }
+      settle_max();
+      settle_min();
+      if (harmonic && harmonic_count > 0)
+        harmonic->on_samples(harmonic_first, harmonic_values, harmonic_count);
+    }
+    if (n > next_index) {
+      c.sum = sum;
+      c.duration = duration;
+      c.t_pos = t_pos;
+      c.t_vpos = t_vpos;
+      c.max_i = max_i;
+      c.min_i = min_i;
+      c.max_v = max_v;
+      c.min_v = min_v;
+      c.prev_sample_i = prev_i;
+      c.burn_v_pos = burn_v_pos;
+      c.burn_v_neg = burn_v_neg;
+      c.burn_n_pos = burn_n_pos;
+      c.burn_n_neg = burn_n_neg;
+      c.samples = samples;
+      min_step = step_min;
+      next_index = n;
+      integrated = n - kLag;
+    }
+    return k;
+  }
+
   // --- detector ---------------------------------------------------------------------------
   void detect(std::uint64_t n) {
     const double r = ref(at(n));
@@ -767,20 +983,29 @@ struct CycleEngine::Impl {
   // the minimum. h ≤ kMaxFlankSpacing keeps the leaving flank already in the ring (kLag frames
   // ahead of the integrator) and the entering one still in it.
   CrestFlank flank(std::uint64_t m, double sign, bool entering) const {
+    static_assert(2 * kMaxFlankSpacing <= kLag && kRing >= kLag + 2 * kMaxFlankSpacing + 2);
+    return entering ? flank_entering(m, sign) : flank_leaving(m, sign, next_index);
+  }
+  // The leaving flank (above), `read` frames having entered the ring.
+  CrestFlank flank_leaving(std::uint64_t m, double sign, std::uint64_t read) const {
     CrestFlank f;
     const std::uint64_t h = flank_h;
-    static_assert(2 * kMaxFlankSpacing <= kLag && kRing >= kLag + 2 * kMaxFlankSpacing + 2);
-    if (entering) {
-      if (m < 1 + 2 * h) return f;
-      f.p2 = sign * at(m - 1).i;
-      f.p1 = sign * at(m - 1 - h).i;
-      f.p0 = sign * at(m - 1 - 2 * h).i;
-    } else {
-      if (m + 2 * h >= next_index) return f;  // not yet read (the capture's end)
-      f.p2 = sign * at(m).i;
-      f.p1 = sign * at(m + h).i;
-      f.p0 = sign * at(m + 2 * h).i;
-    }
+    if (m + 2 * h >= read) return f;  // not yet read (the capture's end)
+    f.p2 = sign * at(m).i;
+    f.p1 = sign * at(m + h).i;
+    f.p0 = sign * at(m + 2 * h).i;
+    f.valid = true;
+    return f;
+  }
+  // The entering flank (above): it only looks back, so quick_run() may take it before
+  // next_index is brought up to date.
+  CrestFlank flank_entering(std::uint64_t m, double sign) const {
+    CrestFlank f;
+    const std::uint64_t h = flank_h;
+    if (m < 1 + 2 * h) return f;
+    f.p2 = sign * at(m - 1).i;
+    f.p1 = sign * at(m - 1 - h).i;
+    f.p0 = sign * at(m - 1 - 2 * h).i;
     f.valid = true;
     return f;
   }
@@ -1415,21 +1640,41 @@ void CycleEngine::consume(const SampleBlock& block) {
       (m.cfg.voltage_channel && block.channels <= *m.cfg.voltage_channel)) {
     throw std::invalid_argument("CycleEngine: block has too few channels");
   }
-  for (std::size_t f = 0; f < block.frames; ++f) {
+  std::size_t f = 0;
+  for (; f < block.frames && m.acquiring; ++f) {
     bool bad = false;
     const Frame fr = m.frame_of(block, f, bad);
-    if (m.acquiring) {
-      m.held.push_back(fr);
-      m.held_bad.push_back(bad ? 1 : 0);
-      if (m.held.size() >= kAcquireFrames) {
-        m.acquiring = false;
-        m.learn_levels(m.held);
-        for (const Frame& h : m.held) m.push(h);
-        std::vector<Frame>().swap(m.held);
-        std::vector<std::uint8_t>().swap(m.held_bad);
-      }
-    } else {
-      m.push(fr);
+    m.held.push_back(fr);
+    m.held_bad.push_back(bad ? 1 : 0);
+    if (m.held.size() >= kAcquireFrames) m.end_acquisition();
+  }
+  if (f == block.frames) return;
+  // As frame_of(), for the frames that are finite.
+  const double* data = block.data.data();
+  const std::size_t channels = block.channels, ci = m.cfg.current_channel;
+  const bool has_v = m.cfg.voltage_channel.has_value();
+  const std::size_t vi = has_v ? *m.cfg.voltage_channel : 0;
+  const double zero = m.cfg.current_zero_a;
+  const auto get = [=](std::size_t k, Frame& fr) {
+    const double i = data[k * channels + ci];
+    const double v = has_v ? data[k * channels + vi] : 0.0;
+    if (!std::isfinite(i) || !std::isfinite(v)) return false;
+    fr.i = i - zero;
+    fr.v = v;
+    return true;
+  };
+  while (f < block.frames) {
+    const std::size_t taken = m.quick_run(get, f, block.frames);
+    if (taken > f) {
+      m.consumed += taken - f;
+      m.last_good_i = block.value(taken - 1, ci);
+      m.last_good_v = has_v ? block.value(taken - 1, vi) : 0.0;
+      f = taken;
+    }
+    if (f < block.frames) {
+      bool bad = false;
+      m.push(m.frame_of(block, f, bad));
+      ++f;
     }
   }
 }
@@ -1437,13 +1682,7 @@ void CycleEngine::consume(const SampleBlock& block) {
 const CycleSummary& CycleEngine::finish() {
   Impl& m = *impl_;
   if (m.finished) return m.summary;
-  if (m.acquiring) {
-    m.acquiring = false;
-    m.learn_levels(m.held);
-    for (const Frame& h : m.held) m.push(h);
-    std::vector<Frame>().swap(m.held);
-    std::vector<std::uint8_t>().swap(m.held_bad);
-  }
+  if (m.acquiring) m.end_acquisition();
   m.pending.clear();  // a crossing too close to the end for its fit is not used
   if (m.next_index > 0) m.integrate_up_to(m.next_index - 1);
   if (m.held_back) {

@@ -23,7 +23,7 @@ HarmonicFeed::~HarmonicFeed() {
 
 void HarmonicFeed::replay(HarmonicAnalyzer& h, const Batch& b) {
   std::size_t e = 0;
-  for (std::size_t k = 0; k < b.values.size(); ++k) {
+  for (std::size_t k = 0; k < b.values.size();) {
     for (; e < b.events.size() && b.events[e].before == k; ++e) {
       if (b.events[e].drop) {
         h.drop_partial_block();
@@ -31,7 +31,10 @@ void HarmonicFeed::replay(HarmonicAnalyzer& h, const Batch& b) {
         h.on_boundary(b.events[e].boundary);
       }
     }
-    h.on_sample(b.first + k, b.values[k]);
+    // The samples up to the next event, at once.
+    const std::size_t end = e < b.events.size() ? b.events[e].before : b.values.size();
+    h.on_samples(b.first + k, b.values.data() + k, end - k);
+    k = end;
   }
   // Events after the batch's last sample (the engine's last calls before finish()).
   for (; e < b.events.size(); ++e) {

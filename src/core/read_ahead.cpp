@@ -36,7 +36,12 @@ void ReadAhead::run() {
     {
       // Wait for a free slot: the caller's block and the ready ones stay untouched.
       std::unique_lock<std::mutex> lock(mutex_);
-      changed_.wait(lock, [&] { return stop_ || n < consumed_count_ + kSlots; });
+      if (!stop_ && n >= consumed_count_ + kSlots) {
+        reader_waiting_ = true;
+        reader_wake_at_ = n + 1 + kSlots / 2 - kSlots;  // half the slots free
+        changed_.wait(lock, [&] { return stop_ || consumed_count_ >= reader_wake_at_; });
+        reader_waiting_ = false;
+      }
       if (stop_) return;
     }
     SampleBlock& block = slots_[n % kSlots];
@@ -48,6 +53,7 @@ void ReadAhead::run() {
     } catch (...) {
       error = std::current_exception();
     }
+    bool wake = false;
     {
       std::lock_guard<std::mutex> lock(mutex_);
       if (error) {
@@ -58,8 +64,9 @@ void ReadAhead::run() {
       } else {
         ++read_count_;
       }
+      wake = caller_waiting_ && (ended_ || read_count_ >= caller_wake_at_);
     }
-    changed_.notify_all();
+    if (wake) changed_.notify_all();
     if (error || got == 0) return;
   }
 }
@@ -69,9 +76,14 @@ bool ReadAhead::next(const SampleBlock*& block) {
   if (holding_) {
     ++consumed_count_;
     holding_ = false;
-    changed_.notify_all();
+    if (reader_waiting_ && consumed_count_ >= reader_wake_at_) changed_.notify_all();
   }
-  changed_.wait(lock, [&] { return consumed_count_ < read_count_ || ended_; });
+  if (consumed_count_ >= read_count_ && !ended_) {
+    caller_waiting_ = true;
+    caller_wake_at_ = consumed_count_ + kSlots / 2;
+    changed_.wait(lock, [&] { return read_count_ >= caller_wake_at_ || ended_; });
+    caller_waiting_ = false;
+  }
   if (consumed_count_ < read_count_) {
     holding_ = true;
     block = &slots_[consumed_count_ % kSlots];
