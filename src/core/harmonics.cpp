@@ -71,15 +71,6 @@ struct Kernel {
     }
     return (y0 + y1) + (y2 + y3);
   }
-  // The table (kPhases rows of kTaps doubles, 256 KiB for the long kernel) is larger than a
-  // first-level cache and successive points use rows far apart: asking for the next point's
-  // row while this one is summed hides most of the wait for it.
-  void prefetch(double x) const {
-    const auto i0 = static_cast<std::int64_t>(x);
-    const auto p = static_cast<std::size_t>((x - static_cast<double>(i0)) * kPhases + 0.5);
-    const char* row = reinterpret_cast<const char*>(table[std::min<std::size_t>(p, kPhases)].data());
-    for (std::size_t b = 0; b < kTaps * sizeof(double); b += 64) __builtin_prefetch(row + b);
-  }
 };
 
 template <int Half>
@@ -225,10 +216,8 @@ struct HarmonicAnalyzer::Impl {
     const auto first = static_cast<std::int64_t>(buf_start);
     for (std::size_t j = 0; j < B; ++j) {
       const double x0 = bounds[j], step = (bounds[j + 1] - bounds[j]) / static_cast<double>(M);
-      for (std::size_t m = 0; m < M; ++m) {
-        k.prefetch(x0 + step * static_cast<double>(m + 1));
+      for (std::size_t m = 0; m < M; ++m)
         in[j * M + m] = k.at(buf.data(), first, x0 + step * static_cast<double>(m));
-      }
     }
   }
 
