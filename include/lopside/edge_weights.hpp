@@ -53,4 +53,19 @@ struct InterpolationRows {
 };
 InterpolationRows interpolation_rows(double p);
 
+/// The tables interpolation_rows() reads, for callers that look them up many times in a row:
+/// interpolation_rows(p) == view.rows_at(p).
+struct InterpolationTableView {
+  const std::array<double, kEdgeTaps>* rows;   ///< kPhases + 1 rows
+  const std::array<double, kEdgeTaps>* steps;  ///< kPhases rows
+  int phases;
+  InterpolationRows rows_at(double p) const {
+    const double x = (p < 0 ? 0.0 : (p > 1 ? 1.0 : p)) * phases;
+    const int xi = static_cast<int>(x);
+    const auto q = static_cast<std::size_t>(xi < phases - 1 ? xi : phases - 1);
+    return {rows[q].data(), steps[q].data(), x - static_cast<double>(q)};
+  }
+};
+InterpolationTableView interpolation_table_view();
+
 }  // namespace lopside

@@ -252,6 +252,7 @@ struct CycleEngine::Impl {
   BatchMeans crest_peak;
 
   const Frame& at(std::uint64_t index) const { return ring[index & (kRing - 1)]; }
+  const InterpolationTableView interpolation = interpolation_table_view();
 
   // A NaN or infinite sample is held at the last finite value, so that no sum turns to NaN and
   // no crossing is invented, and is marked: every cycle it reaches is left out.
@@ -787,11 +788,11 @@ struct CycleEngine::Impl {
     if (w <= 2) {
       if (t < kEdgeHalfTaps + 1 || t + kEdgeHalfTaps + 1 > next_index) return;
       const double level = trigger_level;
-      x = secant_root(
-          [this, level](double at_x) {
-            return reconstruct(at_x, [this](const Frame& f) { return ref(f); }) - level;
-          },
-          x, x - 1.0, x + 1.0);
+      const auto field = [this](const Frame& f) { return ref(f); };
+      const Window win = gather(static_cast<std::uint64_t>(std::floor(x - 1.0)), field);
+      x = secant_root([this, level, &win,
+                       &field](double at_x) { return reconstruct_in(win, at_x, field) - level; },
+                      x, x - 1.0, x + 1.0);
     }
     // Boundaries must increase, and not fall behind the integrator.
     const double floor_index = static_cast<double>(integrated);
@@ -844,7 +845,7 @@ struct CycleEngine::Impl {
   template <typename Field>
   double reconstruct(double x, Field field) const {
     const double base = std::floor(x);
-    const InterpolationRows k = interpolation_rows(x - base);
+    const InterpolationRows k = interpolation.rows_at(x - base);
     const auto n0 = static_cast<std::uint64_t>(base);
     // Σ (row + share·step)·y as two sums, each in two partial sums (shorter chains of
     // dependent additions), without forming the 32 weights.
@@ -852,6 +853,42 @@ struct CycleEngine::Impl {
     for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
       const double ya = field(at(n0 + j + 1 - kEdgeHalfTaps));
       const double yb = field(at(n0 + j + 2 - kEdgeHalfTaps));
+      r0 += k.row[j] * ya;
+      s0 += k.step[j] * ya;
+      r1 += k.row[j + 1] * yb;
+      s1 += k.step[j + 1] * yb;
+    }
+    return (r0 + r1) + k.share * (s0 + s1);
+  }
+
+  // The samples a search for a crossing reads, taken out of the ring once: those of the
+  // reconstructions at bases b_lo … b_lo + 2 (reconstruct_in()).
+  struct Window {
+    std::uint64_t first = 0;  // the frame of y[0]
+    double y[kEdgeTaps + 2] = {};
+  };
+  template <typename Field>
+  Window gather(std::uint64_t b_lo, Field field) const {
+    Window w;
+    w.first = b_lo + 1 - kEdgeHalfTaps;
+    for (std::size_t j = 0; j < kEdgeTaps + 2; ++j) w.y[j] = field(at(w.first + j));
+    return w;
+  }
+  // reconstruct() from the window, the same sums in the same order; from the ring for a base
+  // outside it.
+  template <typename Field>
+  double reconstruct_in(const Window& w, double x, Field field) const {
+    const double base = std::floor(x);
+    if (!(base >= static_cast<double>(w.first + kEdgeHalfTaps - 1)) ||
+        !(base <= static_cast<double>(w.first + kEdgeHalfTaps + 1)))
+      return reconstruct(x, field);
+    const InterpolationRows k = interpolation.rows_at(x - base);
+    const auto n0 = static_cast<std::uint64_t>(base);
+    const double* y = w.y + (n0 + 1 - kEdgeHalfTaps - w.first);
+    double r0 = 0, r1 = 0, s0 = 0, s1 = 0;
+    for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
+      const double ya = y[j];
+      const double yb = y[j + 1];
       r0 += k.row[j] * ya;
       s0 += k.step[j] * ya;
       r1 += k.row[j + 1] * yb;
@@ -889,9 +926,14 @@ struct CycleEngine::Impl {
     // interval has one every few samples).
     if (fit_half_width > 2 || edge_half(lin) != kEdgeHalfTaps) return lin;
     const double lo = static_cast<double>(m0), hi = std::nextafter(lo + 1, lo);
+    const auto field = [](const Frame& f) { return f.i; };
+    if (m0 < kEdgeHalfTaps) {
+      const double z = secant_root([&](double x) { return reconstruct(x, field); }, lin, lo, hi);
+      return std::clamp(z, lo, hi);
+    }
+    const Window win = gather(m0 - 1, field);
     const double z =
-        secant_root([this](double x) { return reconstruct(x, [](const Frame& f) { return f.i; }); },
-                    lin, lo, hi);
+        secant_root([&](double x) { return reconstruct_in(win, x, field); }, lin, lo, hi);
     return std::clamp(z, lo, hi);
   }
 

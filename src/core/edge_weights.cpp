@@ -125,6 +125,11 @@ const InterpolationTable& interpolation_table() {
 
 }  // namespace
 
+InterpolationTableView interpolation_table_view() {
+  const InterpolationTable& t = interpolation_table();
+  return {t.rows.data(), t.steps.data(), kPhases};
+}
+
 InterpolationRows interpolation_rows(double p) {
   const InterpolationTable& t = interpolation_table();
   const double x = std::clamp(p, 0.0, 1.0) * kPhases;
