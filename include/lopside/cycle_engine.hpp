@@ -51,6 +51,10 @@ struct CycleConfig {
   /// The recorder's range for the current as the file's integer encoding states it (WAV/FLAC/
   /// AIFF), in A before the --zero offset is taken off; a crest on it is clipped.
   std::optional<double> current_full_scale_low_a, current_full_scale_high_a;
+  /// Frames that only add to the open cycle's sums take a tight loop doing the same arithmetic
+  /// in the same order (the results agree to the last bit); false sends every frame through
+  /// the general path, for the tests that check that agreement.
+  bool quick_path = true;
 };
 
 /// A stretch of the record left out of the summary, and why.

@@ -498,8 +498,9 @@ struct CycleEngine::Impl {
   // frame_of() must see (not finite). Returns the index of the first frame not taken.
   template <typename Get>
   std::size_t quick_run(Get get, std::size_t from, std::size_t to) {
-    if (!in_cycle || acc.samples == 0 || integrated != next_index - std::min(next_index, kLag) ||
-        next_index < kLag + 2 || !level_known)
+    if (!cfg.quick_path || !in_cycle || acc.samples == 0 ||
+        integrated != next_index - std::min(next_index, kLag) || next_index < kLag + 2 ||
+        !level_known)
       return from;
     const std::uint64_t wait = std::max<std::uint64_t>(fit_half_width, kEdgeHalfTaps + 1);
     std::uint64_t refine_due =
