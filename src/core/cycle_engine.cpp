@@ -498,6 +498,13 @@ struct CycleEngine::Impl {
   // frame_of() must see (not finite). Returns the index of the first frame not taken.
   template <typename Get>
   std::size_t quick_run(Get get, std::size_t from, std::size_t to) {
+    return cfg.voltage_channel ? quick_run<true>(get, from, to) : quick_run<false>(get, from, to);
+  }
+  // Without a voltage channel the voltage's sums are never read (close_cycle reads them only
+  // with one, and the burning voltage of a cycle is then 0 or NaN by its counts alone), so
+  // that loop leaves them out: fewer running values than registers.
+  template <bool kVoltage, typename Get>
+  std::size_t quick_run(Get get, std::size_t from, std::size_t to) {
     if (!cfg.quick_path || !in_cycle || acc.samples == 0 ||
         integrated != next_index - std::min(next_index, kLag) || next_index < kLag + 2 ||
         !level_known)
@@ -599,21 +606,19 @@ struct CycleEngine::Impl {
           }
         }
         {
-          // add_piece(a, b, m − 1, m − 1, m): fa = 0, fb = 1.
-          const double ia = a.i + 0.0 * (b.i - a.i), ib = a.i + 1.0 * (b.i - a.i);
-          const double va = a.v + 0.0 * (b.v - a.v), vb = a.v + 1.0 * (b.v - a.v);
+          // add_piece(a, b, m − 1, m − 1, m), fa = 0, fb = 1. The current keeps its sign over
+          // the piece (tested above), so CycleAccumulator::piece() adds h to t_pos exactly when
+          // a.i > 0: its ia is a.i, and where its ib rounds to 0 the share z = ia/ia is 1.
           duration += h;
-          if ((ia > 0) == (ib > 0)) {
-            if (ia > 0) t_pos += h;
-          } else {
-            const double z = ia / (ia - ib);
-            t_pos += ia > 0 ? z * h : (1 - z) * h;
-          }
-          if ((va > 0) == (vb > 0)) {
-            if (va > 0) t_vpos += h;
-          } else {
-            const double z = va / (va - vb);
-            t_vpos += va > 0 ? z * h : (1 - z) * h;
+          if (a.i > 0) t_pos += h;
+          if constexpr (kVoltage) {
+            const double va = a.v + 0.0 * (b.v - a.v), vb = a.v + 1.0 * (b.v - a.v);
+            if ((va > 0) == (vb > 0)) {
+              if (va > 0) t_vpos += h;
+            } else {
+              const double z = va / (va - vb);
+              t_vpos += va > 0 ? z * h : (1 - z) * h;
+            }
           }
         }
         harmonic_values[harmonic_count++] = b.i;
@@ -625,17 +630,22 @@ struct CycleEngine::Impl {
         ++samples;
         sum.i += i;
         sum.i2 += i * i;
-        sum.v += v;
-        sum.v2 += v * v;
-        sum.p += v * i;
         sum.abs_i += std::fabs(i);
-        sum.abs_p += i > 0 ? v * i : -(v * i);
-        if (i > burn_pos) {
-          burn_v_pos += v;
-          ++burn_n_pos;
-        } else if (i < burn_neg) {
-          burn_v_neg += v;
-          ++burn_n_neg;
+        if constexpr (kVoltage) {
+          sum.v += v;
+          sum.v2 += v * v;
+          sum.p += v * i;
+          sum.abs_p += i > 0 ? v * i : -(v * i);
+          if (i > burn_pos) {
+            burn_v_pos += v;
+            ++burn_n_pos;
+          } else if (i < burn_neg) {
+            burn_v_neg += v;
+            ++burn_n_neg;
+          }
+        } else {
+          burn_n_pos += i > burn_pos ? 1 : 0;
+          burn_n_neg += !(i > burn_pos) && i < burn_neg ? 1 : 0;
         }
         // A run at a peak that ends here: merge the flank leaving it, as integrate_frame() does
         // (the ring holds frame n − 1 now, as push() has it before integrating).
@@ -656,8 +666,10 @@ struct CycleEngine::Impl {
           new_min_at = m;
         }
         prev_i = i;
-        max_v = std::max(max_v, v);
-        min_v = std::min(min_v, v);
+        if constexpr (kVoltage) {
+          max_v = std::max(max_v, v);
+          min_v = std::min(min_v, v);
+        }
       }
       settle_max();
       settle_min();
@@ -867,6 +879,11 @@ struct CycleEngine::Impl {
   struct Window {
     std::uint64_t first = 0;  // the frame of y[0]
     double y[kEdgeTaps + 2] = {};
+    // The last reconstruction's two sums: a secant search's last steps fall on one tabulated
+    // phase, where only the share between two rows differs.
+    mutable std::uint64_t memo_base = std::numeric_limits<std::uint64_t>::max();
+    mutable const double* memo_row = nullptr;
+    mutable double memo_r = 0, memo_s = 0;
   };
   template <typename Field>
   Window gather(std::uint64_t b_lo, Field field) const {
@@ -885,6 +902,7 @@ struct CycleEngine::Impl {
       return reconstruct(x, field);
     const InterpolationRows k = interpolation.rows_at(x - base);
     const auto n0 = static_cast<std::uint64_t>(base);
+    if (n0 == w.memo_base && k.row == w.memo_row) return w.memo_r + k.share * w.memo_s;
     const double* y = w.y + (n0 + 1 - kEdgeHalfTaps - w.first);
     double r0 = 0, r1 = 0, s0 = 0, s1 = 0;
     for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
@@ -895,7 +913,11 @@ struct CycleEngine::Impl {
       r1 += k.row[j + 1] * yb;
       s1 += k.step[j + 1] * yb;
     }
-    return (r0 + r1) + k.share * (s0 + s1);
+    w.memo_base = n0;
+    w.memo_row = k.row;
+    w.memo_r = r0 + r1;
+    w.memo_s = s0 + s1;
+    return w.memo_r + k.share * w.memo_s;
   }
 
   // Where `f` − level crosses zero near x, on the band-limited reconstruction: secant steps from
