@@ -71,6 +71,31 @@ struct Kernel {
     }
     return (y0 + y1) + (y2 + y3);
   }
+
+  // at() for two points at once, each lane pair holding two of a point's four partial sums:
+  // every sum takes the same products in the same order as at() (the results are the same to
+  // the last bit), in half the instructions (SSE2, in every x86-64), and the two points'
+  // independent chains overlap.
+  void at2(const double* s, std::int64_t first, double xa, double xb, double& ya,
+           double& yb) const {
+    using v2 = double __attribute__((vector_size(16), aligned(8)));
+    const auto ia = static_cast<std::int64_t>(xa), ib = static_cast<std::int64_t>(xb);
+    const auto pa = static_cast<std::size_t>((xa - static_cast<double>(ia)) * kPhases + 0.5);
+    const auto pb = static_cast<std::size_t>((xb - static_cast<double>(ib)) * kPhases + 0.5);
+    const double* ha = table[pa].data();
+    const double* hb = table[pb].data();
+    const double* va = s + (ia - Half + 1 - first);
+    const double* vb = s + (ib - Half + 1 - first);
+    v2 a01 = {0, 0}, a23 = {0, 0}, b01 = {0, 0}, b23 = {0, 0};
+    for (std::size_t j = 0; j < kTaps; j += 4) {
+      a01 += *reinterpret_cast<const v2*>(va + j) * *reinterpret_cast<const v2*>(ha + j);
+      a23 += *reinterpret_cast<const v2*>(va + j + 2) * *reinterpret_cast<const v2*>(ha + j + 2);
+      b01 += *reinterpret_cast<const v2*>(vb + j) * *reinterpret_cast<const v2*>(hb + j);
+      b23 += *reinterpret_cast<const v2*>(vb + j + 2) * *reinterpret_cast<const v2*>(hb + j + 2);
+    }
+    ya = (a01[0] + a01[1]) + (a23[0] + a23[1]);
+    yb = (b01[0] + b01[1]) + (b23[0] + b23[1]);
+  }
 };
 
 template <int Half>
@@ -216,7 +241,12 @@ struct HarmonicAnalyzer::Impl {
     const auto first = static_cast<std::int64_t>(buf_start);
     for (std::size_t j = 0; j < B; ++j) {
       const double x0 = bounds[j], step = (bounds[j + 1] - bounds[j]) / static_cast<double>(M);
-      for (std::size_t m = 0; m < M; ++m)
+      std::size_t m = 0;
+      for (; m + 1 < M; m += 2) {
+        k.at2(buf.data(), first, x0 + step * static_cast<double>(m),
+              x0 + step * static_cast<double>(m + 1), in[j * M + m], in[j * M + m + 1]);
+      }
+      for (; m < M; ++m)
         in[j * M + m] = k.at(buf.data(), first, x0 + step * static_cast<double>(m));
     }
   }
