@@ -18,6 +18,8 @@
 #include <string>
 #include <vector>
 
+#include "../src/io/number_parse_inline.hpp"
+
 namespace {
 
 using lopside::is_nan_or_inf_text;
@@ -133,6 +135,68 @@ TEST(NumberParse, MatchesStrtodBitForBitOnAMillionRandomNumbers) {
   }
   EXPECT_EQ(mismatches, 0);
   EXPECT_EQ(rejected, 0);
+}
+
+// The text reader's fixed-point path (src/io/number_parse_inline.hpp), which reads the commonest
+// cells while finding their end: every cell it takes must give strtod's bits, and it must take
+// the plain cells a scope prints ("%.Nf" up to 15 digits) and leave all others alone.
+TEST(NumberParse, FixedPointPathMatchesStrtodBitForBitOnAMillionCells) {
+  std::mt19937_64 rng(20261203);
+  std::uniform_int_distribution<int> decimals(0, 12), magnitude(-6, 6), sign(0, 3);
+  std::uniform_real_distribution<double> unit(1.0, 10.0);
+  constexpr int kCount = 1'000'000;
+  int mismatches = 0, taken = 0, short_cells = 0;
+  for (int i = 0; i < kCount; ++i) {
+    const double v = unit(rng) * std::pow(10.0, magnitude(rng)) * (sign(rng) == 0 ? -1 : 1);
+    const int d = decimals(rng);
+    char buf[96];
+    std::snprintf(buf, sizeof buf, sign(rng) == 1 ? "%+.*f" : "%.*f", d, v);
+    std::string cell = buf;
+    const double want = reference(cell);
+    const std::string row = cell + ",7";  // the cell ends at a delimiter
+    const char* p = row.data();
+    double got = 12345;
+    int got_decimals = -1;
+    int digits = 0;
+    for (char c : cell) digits += (c >= '0' && c <= '9') ? 1 : 0;
+    if (digits <= 15) ++short_cells;
+    if (lopside::detail::parse_fixed_point(p, row.data() + row.size(), ',', '.', got,
+                                           got_decimals)) {
+      ++taken;
+      EXPECT_EQ(p, row.data() + cell.size()) << cell;
+      EXPECT_EQ(got_decimals, d) << cell;
+      if (bits(got) != bits(want) && ++mismatches <= 10)
+        ADD_FAILURE() << "'" << cell << "': fixed-point path " << std::hexfloat << got
+                      << ", strtod " << want;
+    } else {
+      EXPECT_EQ(got, 12345) << "a refused cell leaves the value alone: " << cell;
+      EXPECT_EQ(p, row.data()) << cell;
+    }
+  }
+  EXPECT_EQ(mismatches, 0);
+  // Every cell of at most 15 digits is a plain fixed-point cell the path must take.
+  EXPECT_GE(taken, short_cells);
+}
+
+TEST(NumberParse, FixedPointPathLeavesEveryOtherFormToTheGeneralParser) {
+  for (const char* cell : {"1e-3", "1.5E+02", " 1.5", "1.5 ", "\"1.5\"", "1.", ".5", "-", "", "+-1",
+                           "12345678901234567890", "0.00000000000000000000001", "1,5",
+                           "9007199254740993", "inf", "0x10"}) {
+    const std::string row = std::string(cell) + ";";
+    const char* p = row.data();
+    double v = 0;
+    int d = 0;
+    EXPECT_FALSE(lopside::detail::parse_fixed_point(p, row.data() + row.size(), ';', '.', v, d))
+        << "'" << cell << "'";
+  }
+  // At the end of the line (no delimiter), with a decimal comma, signed zero.
+  const std::string row = "-0,000";
+  const char* p = row.data();
+  double v = 1;
+  int d = 0;
+  ASSERT_TRUE(lopside::detail::parse_fixed_point(p, row.data() + row.size(), ';', ',', v, d));
+  EXPECT_EQ(bits(v), bits(-0.0));
+  EXPECT_EQ(d, 3);
 }
 
 TEST(NumberParse, ExactCornerCases) {

@@ -20,4 +20,7 @@ bool is_nan_or_inf_text(std::string_view cell);
 /// "1.25e-3" → 1e-5, "12" → 1. Used to tell printing quantisation from real jitter.
 double printed_resolution(std::string_view cell, char decimal_mark = '.');
 
+/// 10^e as printed_resolution() gives it (std::pow(10, e), tabulated for |e| ≤ 64).
+double power_of_ten(int e);
+
 }  // namespace lopside

@@ -60,14 +60,17 @@ double printed_resolution(std::string_view cell, char decimal_mark) {
     if (!e.empty() && e.front() == '+') e.remove_prefix(1);
     std::from_chars(e.data(), e.data() + e.size(), exponent);
   }
+  return power_of_ten(exponent - decimals);
+}
+
+double power_of_ten(int e) {
   // Called once per row of a text capture: the powers a scope prints come from a table built
   // with the same std::pow, so the values are those of the call they replace.
   static const std::array<double, 129> powers = [] {
     std::array<double, 129> p{};
-    for (int e = -64; e <= 64; ++e) p[static_cast<std::size_t>(e + 64)] = std::pow(10.0, e);
+    for (int k = -64; k <= 64; ++k) p[static_cast<std::size_t>(k + 64)] = std::pow(10.0, k);
     return p;
   }();
-  const int e = exponent - decimals;
   if (e >= -64 && e <= 64) return powers[static_cast<std::size_t>(e + 64)];
   return std::pow(10.0, e);
 }

@@ -2122,6 +2122,30 @@ class TextReader final : public SampleSource {
     const char* const end = p + line.size();
     std::size_t col = 0, cells = 0;
     for (;;) {
+      // The common cell, a plain fixed-point number, is read in the walk that finds its end
+      // (detail::parse_fixed_point: the value parse_number would give); any other cell is
+      // found and parsed as below.
+      if (col < columns_ && role[col] != kSkipColumn) {
+        const char* t = p;
+        double v = 0;
+        int decimals = 0;
+        if (detail::parse_fixed_point(t, end, delimiter, mark, v, decimals)) {
+          const int r = role[col];
+          if (r >= 0) {
+            if (!(std::fabs(v) < kOverflowMarker)) return false;
+            values[r] = v;
+          } else if (r == kIndexColumn) {
+            index = v;
+          } else {
+            time = v;
+            resolution = power_of_ten(-decimals);
+          }
+          cells = ++col;
+          if (t == end) break;
+          p = t + 1;
+          continue;
+        }
+      }
       const char* q = p;
       while (q < end && *q != delimiter) {
         if (*q == '"') return false;
