@@ -3,6 +3,9 @@
 // file (see commands.hpp).
 
 #include <fcntl.h>
+#ifdef __GLIBC__
+#include <malloc.h>
+#endif
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
@@ -37,6 +40,13 @@ void fill_closed_descriptors() {
 
 int main(int argc, char** argv) {
   fill_closed_descriptors();
+#ifdef __GLIBC__
+  // glibc raises its mmap threshold to the size of each large block freed (up to 32 MiB), so
+  // the text reader's look-ahead, once freed, is kept in the heap and a later block takes new
+  // pages beside it: a 20 M-row CSV peaked at 66 MB resident. A fixed threshold returns such
+  // blocks to the system when freed (59 MB, for about 2 % more time; mallopt(3)).
+  mallopt(M_MMAP_THRESHOLD, 128 * 1024);
+#endif
   // A reader that goes away (`lopside … | head -1`) would otherwise kill lopside silently with
   // SIGPIPE, leaving the exit status to say nothing useful; ignored, the write fails with
   // EPIPE and is reported as a failed output (exit 3) like a full disk.
