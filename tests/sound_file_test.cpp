@@ -3,10 +3,12 @@
 // files checked against the container specifications, and bad input.
 
 #include <gtest/gtest.h>
+#include <sndfile.h>
 #include <unistd.h>
 
 #include <cmath>
 #include <cstdint>
+#include <cstring>
 #include <filesystem>
 #include <fstream>
 #include <string>
@@ -353,6 +355,66 @@ TEST(SoundFileReader, HandMade16BitWavNormalisesByTwoToTheFifteen) {
   ASSERT_EQ(got.size(), codes.size());
   for (std::size_t i = 0; i < codes.size(); ++i) {
     EXPECT_DOUBLE_EQ(got[i], codes[i] / 32768.0 * 0.08) << i;
+  }
+}
+
+// 16-bit PCM in WAV, RF64 and W64 is read from the data chunk directly, not through
+// libsndfile's buffer (SoundFileSource::read_pcm16): every one of the 65 536 codes, in two
+// channels with different scales, must read exactly as libsndfile reads it, and a file that
+// loses its end while being read must still say where its data stops.
+TEST(SoundFileReader, Direct16BitPathGivesLibsndfilesSamplesBitForBit) {
+  TempDir dir;
+  std::vector<double> frames;
+  for (int code = -32768; code <= 32767; ++code) {
+    frames.push_back(code / 32768.0);
+    frames.push_back(-(code + 1) / 32768.0);
+  }
+  for (const auto& [container, name] :
+       {std::pair{SoundContainer::wav, "a.wav"}, std::pair{SoundContainer::rf64, "b.rf64"},
+        std::pair{SoundContainer::w64, "c.w64"}}) {
+    SCOPED_TRACE(name);
+    const fs::path path = dir / name;
+    lopside::SoundFileWriter w;
+    w.open(path, container, SoundSampleFormat::pcm16, 2, 8000);
+    w.write(frames.data(), frames.size() / 2);
+    w.close();
+    // libsndfile's own reading, as the reference.
+    SF_INFO sf{};
+    SNDFILE* f = sf_open(path.c_str(), SFM_READ, &sf);
+    ASSERT_NE(f, nullptr);
+    std::vector<double> want(frames.size());
+    ASSERT_EQ(sf_readf_double(f, want.data(), static_cast<sf_count_t>(frames.size() / 2)),
+              static_cast<sf_count_t>(frames.size() / 2));
+    sf_close(f);
+    ReaderOptions o;
+    o.scales["1"] = 0.3;
+    o.scales["2"] = 7000;
+    auto source = lopside::open_sound_file(path, o);
+    const std::vector<double> got = read_all(*source);
+    ASSERT_EQ(got.size(), want.size());
+    std::size_t differ = 0;
+    for (std::size_t k = 0; k < got.size(); ++k) {
+      const double expected = want[k] * (k % 2 == 0 ? 0.3 : 7000.0);
+      if (std::memcmp(&got[k], &expected, sizeof(double)) != 0) ++differ;
+    }
+    EXPECT_EQ(differ, 0u);
+  }
+  // Cut short after opening, through a frame (1000.5 frames gone): the whole frames are read
+  // and the end of the data is named by its byte.
+  const fs::path path = dir / "cut.wav";
+  lopside::SoundFileWriter w;
+  w.open(path, SoundContainer::wav, SoundSampleFormat::pcm16, 2, 8000);
+  w.write(frames.data(), frames.size() / 2);
+  w.close();
+  auto source = lopside::open_sound_file(path, ReaderOptions{});
+  fs::resize_file(path, fs::file_size(path) - 4 * 1000 - 2);
+  try {
+    read_all(*source);
+    ADD_FAILURE() << "a capture cut short read without an error";
+  } catch (const lopside::InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("the sample data ends after 64535 of the 65536 frames"),
+              std::string::npos)
+        << e.what();
   }
 }
 
