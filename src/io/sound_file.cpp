@@ -8,6 +8,7 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <bit>
 #include <cerrno>
 #include <cmath>
 #include <cstdint>
@@ -249,7 +250,7 @@ class SoundFileSource final : public SampleSource {
                        "cannot decode the samples " + where + " (" + why + ")");
     }
     const auto frames = static_cast<std::size_t>(got);
-    for (std::size_t f = 0; f < frames; ++f) {
+    for (std::size_t f = 0; direct_fd_ < 0 && f < frames; ++f) {  // (read_pcm16 scales)
       double* frame = block.data.data() + f * channels;
       for (std::size_t c = 0; c < channels; ++c) frame[c] *= multipliers_[c];
     }
@@ -271,7 +272,8 @@ class SoundFileSource final : public SampleSource {
  private:
   // 16-bit PCM read straight from the data chunk in large blocks, without libsndfile's own
   // buffer: code k reads k · 2^−15, the product libsndfile forms (its s2d conversion with the
-  // SFC_SET_NORM_DOUBLE default, exact in double), so the samples are the same to the bit.
+  // SFC_SET_NORM_DOUBLE default, exact in double), then times the channel's multiplier as
+  // read() does libsndfile's values, so the samples are the same to the bit.
   // Returns the whole frames read (0 at the end), or −1 with direct_errno_ set.
   sf_count_t read_pcm16(double* out, std::size_t frames, std::size_t channels) {
     const std::size_t bytes = frames * bytes_per_frame_;
@@ -291,10 +293,23 @@ class SoundFileSource final : public SampleSource {
     }
     const std::size_t whole = have / bytes_per_frame_;
     const unsigned char* b = raw_.data();
-    for (std::size_t k = 0; k < whole * channels; ++k) {
-      const auto code = static_cast<std::int16_t>(
-          static_cast<std::uint16_t>(b[2 * k] | static_cast<unsigned>(b[2 * k + 1]) << 8));
-      out[k] = (1.0 / 32768.0) * static_cast<double>(code);
+    const auto code = [b](std::size_t k) {
+      std::int16_t v;
+      if constexpr (std::endian::native == std::endian::little) {
+        std::memcpy(&v, b + 2 * k, 2);
+      } else {
+        v = static_cast<std::int16_t>(
+            static_cast<std::uint16_t>(b[2 * k] | static_cast<unsigned>(b[2 * k + 1]) << 8));
+      }
+      return static_cast<double>(v);
+    };
+    if (channels == 1) {
+      const double m = multipliers_[0];
+      for (std::size_t k = 0; k < whole; ++k) out[k] = ((1.0 / 32768.0) * code(k)) * m;
+    } else {
+      for (std::size_t f = 0; f < whole; ++f)
+        for (std::size_t c = 0; c < channels; ++c)
+          out[f * channels + c] = ((1.0 / 32768.0) * code(f * channels + c)) * multipliers_[c];
     }
     return static_cast<sf_count_t>(whole);
   }
