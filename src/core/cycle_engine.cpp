@@ -563,31 +563,20 @@ struct CycleEngine::Impl {
       std::size_t harmonic_count = 0;
       const std::uint64_t harmonic_first = n - kLag;
       for (; k < chunk_end; ++k) {
+        // Quick unless: the frame is not finite, a refine is due, a boundary lies in the
+        // integrator's piece, the current changes sign there, the sample ties a running
+        // extreme (or the cycle holds one sample, both extremes at once), or the cycle has
+        // outlasted any regular period (its harmonic block is let go).
         Frame fr;
-        if (!get(k, fr)) {
-          stop = true;
-          break;
-        }
-        if (n >= refine_due) {
-          stop = true;
-          break;
-        }
         const std::uint64_t m = n - kLag;
-        if (next_boundary < static_cast<double>(m)) {
+        if (!get(k, fr) || n >= refine_due || next_boundary < static_cast<double>(m)) {
           stop = true;
           break;
         }
         const Frame a = at(m - 1);
         const Frame b = at(m);
-        if ((a.i > 0) != (b.i > 0)) {
-          stop = true;
-          break;
-        }
-        if (b.i == max_i || b.i == min_i || (prev_i == max_i && prev_i == min_i)) {
-          stop = true;
-          break;
-        }
-        if (static_cast<double>(m) - cycle_start > let_go) {
+        if ((a.i > 0) != (b.i > 0) || b.i == max_i || b.i == min_i ||
+            (prev_i == max_i && prev_i == min_i) || static_cast<double>(m) - cycle_start > let_go) {
           stop = true;
           break;
         }
