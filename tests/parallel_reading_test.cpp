@@ -223,5 +223,25 @@ TEST(EdgeWeights, TabulatedInterpolationWeightsMatchTheKernel) {
   }
 }
 
+// The table views the engine reads inline give the weights the functions give, bit for bit
+// (the engine's results are held to the last bit: tests/quick_path_test.cpp).
+TEST(EdgeWeights, TableViewsGiveTheFunctionsWeights) {
+  const InterpolationTableView iv = interpolation_table_view();
+  for (const double p : {-0.5, 0.0, 1e-9, 0.1234567, 0.5, 0.7777777, 0.9990234, 1.0, 1.5}) {
+    const InterpolationRows a = interpolation_rows(p), b = iv.rows_at(p);
+    EXPECT_EQ(a.row, b.row) << p;
+    EXPECT_EQ(a.step, b.step) << p;
+    EXPECT_EQ(a.share, b.share) << p;
+    for (const int half : {2, 4, 8, kEdgeHalfTaps}) {
+      const auto w = edge_weights(p, half);
+      const EdgeTableView ev = edge_table_view(half);
+      const EdgeTableView::Position at = ev.at(p);
+      for (std::size_t j = 0; j < kEdgeTaps; ++j)
+        EXPECT_EQ(w[j], EdgeTableView::weight(at, j))
+            << "p " << p << " half " << half << " tap " << j;
+    }
+  }
+}
+
 }  // namespace
 }  // namespace lopside::test

@@ -33,6 +33,29 @@ inline constexpr std::size_t kEdgeTaps = 2 * static_cast<std::size_t>(kEdgeHalfT
 /// with two lengths at its two ends; only its pass band is narrower.
 std::array<double, kEdgeTaps> edge_weights(double p, int half_taps = kEdgeHalfTaps);
 
+/// The table edge_weights() interpolates, for callers that fold the weights into their own
+/// sums: edge_weights(p, half)[j] == view.weight(view.at(p), j) for view = edge_table_view(half).
+struct EdgeTableView {
+  const std::array<double, kEdgeTaps>* rows;  ///< kPhases + 1 rows
+  int phases;
+  struct Position {
+    const double* a;  ///< the row at or below p
+    const double* b;  ///< the row above
+    double f;         ///< p's share of the way from a to b
+  };
+  Position at(double p) const {
+    const double x = (p < 0 ? 0.0 : (p > 1 ? 1.0 : p)) * phases;
+    const int xi = static_cast<int>(x);
+    const int q = xi < phases - 1 ? xi : phases - 1;
+    const auto row = static_cast<std::size_t>(q);
+    return {rows[row].data(), rows[row + 1].data(), x - q};
+  }
+  static double weight(const Position& at, std::size_t j) {
+    return at.a[j] + at.f * (at.b[j] - at.a[j]);
+  }
+};
+EdgeTableView edge_table_view(int half_taps);
+
 /// The Kaiser-windowed sinc of half-length `half_taps` at u samples (0 for |u| ≥ half_taps),
 /// β = 9: sin(πu)/(πu) · I₀(β√(1 − (u/K)²))/I₀(β) (Oppenheim & Schafer, 7.6). The harmonic
 /// analysis resamples its blocks with the same kernel.

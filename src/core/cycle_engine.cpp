@@ -253,6 +253,9 @@ struct CycleEngine::Impl {
 
   const Frame& at(std::uint64_t index) const { return ring[index & (kRing - 1)]; }
   const InterpolationTableView interpolation = interpolation_table_view();
+  // The end-correction kernels of 2, 4, 8 and 16 taps a side (edge()).
+  const EdgeTableView edge_tables[4] = {edge_table_view(2), edge_table_view(4), edge_table_view(8),
+                                        edge_table_view(kEdgeHalfTaps)};
 
   // A NaN or infinite sample is held at the last finite value, so that no sum turns to NaN and
   // no crossing is invented, and is marked: every cycle it reaches is left out.
@@ -794,6 +797,11 @@ struct CycleEngine::Impl {
       const Window win = gather(static_cast<std::uint64_t>(std::floor(x - 1.0)), field);
       x = secant_root([this, level, &win,
                        &field](double at_x) { return reconstruct_in(win, at_x, field) - level; },
+                      [this, level, &win, &field](double a, double b, double& ya, double& yb) {
+                        reconstruct_in(win, a, b, field, ya, yb);
+                        ya -= level;
+                        yb -= level;
+                      },
                       x, x - 1.0, x + 1.0);
     }
     // Boundaries must increase, and not fall behind the integrator.
@@ -826,12 +834,17 @@ struct CycleEngine::Impl {
   Integrals edge(double x, int half, bool sign_terms_only = false) const {
     const double base = std::floor(x);
     const auto n0 = static_cast<std::uint64_t>(base);
-    const std::array<double, kEdgeTaps> w = edge_weights(x - base, half);
+    // edge_weights(x − base, half), each weight formed where it is used.
+    const EdgeTableView& table = edge_tables[half >= kEdgeHalfTaps ? 3
+                                             : half >= 8           ? 2
+                                             : half >= 4           ? 1
+                                                                   : 0];
+    const EdgeTableView::Position p = table.at(x - base);
     Integrals d;
     for (int j = 0; j < 2 * half; ++j) {
       const Frame& f =
           at(n0 + static_cast<std::uint64_t>(j + 1) - static_cast<std::uint64_t>(half));
-      const double c = w[static_cast<std::size_t>(j)];
+      const double c = EdgeTableView::weight(p, static_cast<std::size_t>(j));
       d.i += c * f.i;
       d.p += c * f.v * f.i;
       if (sign_terms_only) continue;  // a zero of the current changes only ∫|i| and ∫sign(i)·v·i
@@ -909,12 +922,64 @@ struct CycleEngine::Impl {
     return w.memo_r + k.share * w.memo_s;
   }
 
+  // reconstruct_in() at two points, in one loop: the two points' chains of additions are
+  // independent and overlap, where one after the other each waits for its own. Each point's
+  // sums are those reconstruct_in() forms, and the memo is left as it would be after b.
+  template <typename Field>
+  void reconstruct_in(const Window& w, double xa, double xb, Field field, double& ya,
+                      double& yb) const {
+    const double base_a = std::floor(xa), base_b = std::floor(xb);
+    const auto inside = [&w](double base) {
+      return base >= static_cast<double>(w.first + kEdgeHalfTaps - 1) &&
+             base <= static_cast<double>(w.first + kEdgeHalfTaps + 1);
+    };
+    if (!inside(base_a) || !inside(base_b) || w.memo_row != nullptr) {
+      ya = reconstruct_in(w, xa, field);
+      yb = reconstruct_in(w, xb, field);
+      return;
+    }
+    const InterpolationRows ka = interpolation.rows_at(xa - base_a);
+    const InterpolationRows kb = interpolation.rows_at(xb - base_b);
+    const auto na = static_cast<std::uint64_t>(base_a), nb = static_cast<std::uint64_t>(base_b);
+    const double* ua = w.y + (na + 1 - kEdgeHalfTaps - w.first);
+    const double* ub = w.y + (nb + 1 - kEdgeHalfTaps - w.first);
+    double ra0 = 0, ra1 = 0, sa0 = 0, sa1 = 0, rb0 = 0, rb1 = 0, sb0 = 0, sb1 = 0;
+    for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
+      ra0 += ka.row[j] * ua[j];
+      sa0 += ka.step[j] * ua[j];
+      ra1 += ka.row[j + 1] * ua[j + 1];
+      sa1 += ka.step[j + 1] * ua[j + 1];
+      rb0 += kb.row[j] * ub[j];
+      sb0 += kb.step[j] * ub[j];
+      rb1 += kb.row[j + 1] * ub[j + 1];
+      sb1 += kb.step[j + 1] * ub[j + 1];
+    }
+    ya = (ra0 + ra1) + ka.share * (sa0 + sa1);
+    w.memo_base = nb;
+    w.memo_row = kb.row;
+    w.memo_r = rb0 + rb1;
+    w.memo_s = sb0 + sb1;
+    yb = w.memo_r + kb.share * w.memo_s;
+  }
+
   // Where `f` − level crosses zero near x, on the band-limited reconstruction: secant steps from
   // x ± 0.05 sample, kept only if they converge inside [lo, hi].
   template <typename F>
   static double secant_root(F f, double x, double lo, double hi) {
+    return secant_root(
+        f,
+        [&f](double a, double b, double& ya, double& yb) {
+          ya = f(a);
+          yb = f(b);
+        },
+        x, lo, hi);
+  }
+  // The same, `pair(a, b, ya, yb)` giving f at the two starting points at once.
+  template <typename F, typename Pair>
+  static double secant_root(F f, Pair pair, double x, double lo, double hi) {
     double x0 = x - 0.05, x1 = x + 0.05;
-    double y0 = f(x0), y1 = f(x1);
+    double y0 = 0, y1 = 0;
+    pair(x0, x1, y0, y1);
     for (int step = 0; step < 3 && y1 != y0; ++step) {
       const double x2 = x1 - y1 * (x1 - x0) / (y1 - y0);
       x0 = x1;
@@ -944,8 +1009,11 @@ struct CycleEngine::Impl {
       return std::clamp(z, lo, hi);
     }
     const Window win = gather(m0 - 1, field);
-    const double z =
-        secant_root([&](double x) { return reconstruct_in(win, x, field); }, lin, lo, hi);
+    const double z = secant_root([&](double x) { return reconstruct_in(win, x, field); },
+                                 [&](double a, double b, double& ya, double& yb) {
+                                   reconstruct_in(win, a, b, field, ya, yb);
+                                 },
+                                 lin, lo, hi);
     return std::clamp(z, lo, hi);
   }
 
@@ -1709,27 +1777,41 @@ void CycleEngine::consume(const SampleBlock& block) {
   const bool has_v = m.cfg.voltage_channel.has_value();
   const std::size_t vi = has_v ? *m.cfg.voltage_channel : 0;
   const double zero = m.cfg.current_zero_a;
-  const auto get = [=](std::size_t k, Frame& fr) {
+  const auto get_iv = [=](std::size_t k, Frame& fr) {
     const double i = data[k * channels + ci];
-    const double v = has_v ? data[k * channels + vi] : 0.0;
+    const double v = data[k * channels + vi];
     if (!std::isfinite(i) || !std::isfinite(v)) return false;
     fr.i = i - zero;
     fr.v = v;
     return true;
   };
-  while (f < block.frames) {
-    const std::size_t taken = m.quick_run(get, f, block.frames);
-    if (taken > f) {
-      m.consumed += taken - f;
-      m.last_good_i = block.value(taken - 1, ci);
-      m.last_good_v = has_v ? block.value(taken - 1, vi) : 0.0;
-      f = taken;
+  const auto get_i = [=](std::size_t k, Frame& fr) {
+    const double i = data[k * channels + ci];
+    if (!std::isfinite(i)) return false;
+    fr.i = i - zero;
+    fr.v = 0.0;
+    return true;
+  };
+  const auto run = [&](const auto& get) {
+    while (f < block.frames) {
+      const std::size_t taken = m.quick_run(get, f, block.frames);
+      if (taken > f) {
+        m.consumed += taken - f;
+        m.last_good_i = block.value(taken - 1, ci);
+        m.last_good_v = has_v ? block.value(taken - 1, vi) : 0.0;
+        f = taken;
+      }
+      if (f < block.frames) {
+        bool bad = false;
+        m.push(m.frame_of(block, f, bad));
+        ++f;
+      }
     }
-    if (f < block.frames) {
-      bool bad = false;
-      m.push(m.frame_of(block, f, bad));
-      ++f;
-    }
+  };
+  if (has_v) {
+    run(get_iv);
+  } else {
+    run(get_i);
   }
 }
 

@@ -144,6 +144,10 @@ std::array<double, kEdgeTaps> interpolation_weights(double p) {
   return w;
 }
 
+EdgeTableView edge_table_view(int half_taps) {
+  return {table(half_taps).rows.data(), kPhases};
+}
+
 std::array<double, kEdgeTaps> edge_weights(double p, int half_taps) {
   const Table& t = table(half_taps);
   const double x = std::clamp(p, 0.0, 1.0) * kPhases;
