@@ -4,6 +4,7 @@
 #include <array>
 #include <cmath>
 #include <complex>
+#include <cstring>
 #include <limits>
 #include <map>
 #include <stdexcept>
@@ -67,7 +68,10 @@ struct Kernel {
 __attribute__((target_clones("avx2", "default"))) void resample_cycle(
     const double* s, std::int64_t first, const double* table, std::size_t taps, int half, double x0,
     double step, std::size_t points, double* out) {
-  using v4 = double __attribute__((vector_size(32), aligned(8)));
+  // The samples and the table rows are 8-byte aligned only: each vector is loaded by memcpy
+  // (one unaligned load), never through a v4 pointer, and never passed to or returned from a
+  // function (the plain x86-64 build has no 32-byte registers to pass it in).
+  using v4 = double __attribute__((vector_size(32)));
   const auto point = [&](double x, const double*& h, const double*& v) {
     const auto i0 = static_cast<std::int64_t>(x);  // x ≥ 0: truncation is the floor
     const auto p = static_cast<std::size_t>((x - static_cast<double>(i0)) * kPhases + 0.5);
@@ -81,8 +85,13 @@ __attribute__((target_clones("avx2", "default"))) void resample_cycle(
     point(x0 + step * static_cast<double>(m + 1), hb, vb);
     v4 a = {0, 0, 0, 0}, b = {0, 0, 0, 0};
     for (std::size_t j = 0; j < taps; j += 4) {
-      a += *reinterpret_cast<const v4*>(va + j) * *reinterpret_cast<const v4*>(ha + j);
-      b += *reinterpret_cast<const v4*>(vb + j) * *reinterpret_cast<const v4*>(hb + j);
+      v4 sa, ka, sb, kb;
+      std::memcpy(&sa, va + j, sizeof sa);
+      std::memcpy(&ka, ha + j, sizeof ka);
+      std::memcpy(&sb, vb + j, sizeof sb);
+      std::memcpy(&kb, hb + j, sizeof kb);
+      a += sa * ka;
+      b += sb * kb;
     }
     out[m] = (a[0] + a[1]) + (a[2] + a[3]);
     out[m + 1] = (b[0] + b[1]) + (b[2] + b[3]);
@@ -91,8 +100,12 @@ __attribute__((target_clones("avx2", "default"))) void resample_cycle(
     const double *h, *v;
     point(x0 + step * static_cast<double>(m), h, v);
     v4 a = {0, 0, 0, 0};
-    for (std::size_t j = 0; j < taps; j += 4)
-      a += *reinterpret_cast<const v4*>(v + j) * *reinterpret_cast<const v4*>(h + j);
+    for (std::size_t j = 0; j < taps; j += 4) {
+      v4 sv, kv;
+      std::memcpy(&sv, v + j, sizeof sv);
+      std::memcpy(&kv, h + j, sizeof kv);
+      a += sv * kv;
+    }
     out[m] = (a[0] + a[1]) + (a[2] + a[3]);
   }
 }
