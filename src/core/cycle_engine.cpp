@@ -512,7 +512,7 @@ struct CycleEngine::Impl {
         integrated != next_index - std::min(next_index, kLag) || next_index < kLag + 2 ||
         !level_known)
       return from;
-    const std::uint64_t wait = std::max<std::uint64_t>(fit_half_width, kEdgeHalfTaps + 1);
+    const std::uint64_t wait = refine_wait();
     std::uint64_t refine_due =
         pending.empty() ? std::numeric_limits<std::uint64_t>::max() : pending.front().index + wait;
     const double next_boundary =
@@ -691,10 +691,14 @@ struct CycleEngine::Impl {
   }
 
   // --- detector ---------------------------------------------------------------------------
+  // Frames a trigger waits before it is refined: its fit's half-width, and kEdgeHalfTaps for
+  // the band-limited crossing (refine()).
+  std::uint64_t refine_wait() const {
+    return std::max<std::uint64_t>(fit_half_width, kEdgeHalfTaps + 1);
+  }
   void detect(std::uint64_t n) {
     const double r = ref(at(n));
-    // The band-limited crossing (refine()) needs kEdgeHalfTaps samples past the trigger.
-    const std::uint64_t wait = std::max<std::uint64_t>(fit_half_width, kEdgeHalfTaps + 1);
+    const std::uint64_t wait = refine_wait();
     while (!pending.empty() && n >= pending.front().index + wait) {
       refine(pending.front());
       pending.pop_front();
@@ -797,11 +801,6 @@ struct CycleEngine::Impl {
       const Window win = gather(static_cast<std::uint64_t>(std::floor(x - 1.0)), field);
       x = secant_root([this, level, &win,
                        &field](double at_x) { return reconstruct_in(win, at_x, field) - level; },
-                      [this, level, &win, &field](double a, double b, double& ya, double& yb) {
-                        reconstruct_in(win, a, b, field, ya, yb);
-                        ya -= level;
-                        yb -= level;
-                      },
                       x, x - 1.0, x + 1.0);
     }
     // Boundaries must increase, and not fall behind the integrator.
@@ -862,18 +861,26 @@ struct CycleEngine::Impl {
     const double base = std::floor(x);
     const InterpolationRows k = interpolation.rows_at(x - base);
     const auto n0 = static_cast<std::uint64_t>(base);
-    // Σ (row + share·step)·y as two sums, each in two partial sums (shorter chains of
-    // dependent additions), without forming the 32 weights.
+    double r = 0, s = 0;
+    row_sums(
+        k, [&](std::size_t j) { return field(at(n0 + j + 1 - kEdgeHalfTaps)); }, r, s);
+    return r + k.share * s;
+  }
+  // Σ (row + share·step)·y as Σ row·y and Σ step·y, each in two partial sums (shorter chains of
+  // dependent additions), without forming the 32 weights; y(j) is the j-th tap's sample.
+  template <typename Y>
+  static void row_sums(const InterpolationRows& k, Y y, double& r, double& s) {
     double r0 = 0, r1 = 0, s0 = 0, s1 = 0;
     for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
-      const double ya = field(at(n0 + j + 1 - kEdgeHalfTaps));
-      const double yb = field(at(n0 + j + 2 - kEdgeHalfTaps));
+      const double ya = y(j);
+      const double yb = y(j + 1);
       r0 += k.row[j] * ya;
       s0 += k.step[j] * ya;
       r1 += k.row[j + 1] * yb;
       s1 += k.step[j + 1] * yb;
     }
-    return (r0 + r1) + k.share * (s0 + s1);
+    r = r0 + r1;
+    s = s0 + s1;
   }
 
   // The samples a search for a crossing reads, taken out of the ring once: those of the
@@ -906,80 +913,19 @@ struct CycleEngine::Impl {
     const auto n0 = static_cast<std::uint64_t>(base);
     if (n0 == w.memo_base && k.row == w.memo_row) return w.memo_r + k.share * w.memo_s;
     const double* y = w.y + (n0 + 1 - kEdgeHalfTaps - w.first);
-    double r0 = 0, r1 = 0, s0 = 0, s1 = 0;
-    for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
-      const double ya = y[j];
-      const double yb = y[j + 1];
-      r0 += k.row[j] * ya;
-      s0 += k.step[j] * ya;
-      r1 += k.row[j + 1] * yb;
-      s1 += k.step[j + 1] * yb;
-    }
+    row_sums(
+        k, [y](std::size_t j) { return y[j]; }, w.memo_r, w.memo_s);
     w.memo_base = n0;
     w.memo_row = k.row;
-    w.memo_r = r0 + r1;
-    w.memo_s = s0 + s1;
     return w.memo_r + k.share * w.memo_s;
-  }
-
-  // reconstruct_in() at two points, in one loop: the two points' chains of additions are
-  // independent and overlap, where one after the other each waits for its own. Each point's
-  // sums are those reconstruct_in() forms, and the memo is left as it would be after b.
-  template <typename Field>
-  void reconstruct_in(const Window& w, double xa, double xb, Field field, double& ya,
-                      double& yb) const {
-    const double base_a = std::floor(xa), base_b = std::floor(xb);
-    const auto inside = [&w](double base) {
-      return base >= static_cast<double>(w.first + kEdgeHalfTaps - 1) &&
-             base <= static_cast<double>(w.first + kEdgeHalfTaps + 1);
-    };
-    if (!inside(base_a) || !inside(base_b) || w.memo_row != nullptr) {
-      ya = reconstruct_in(w, xa, field);
-      yb = reconstruct_in(w, xb, field);
-      return;
-    }
-    const InterpolationRows ka = interpolation.rows_at(xa - base_a);
-    const InterpolationRows kb = interpolation.rows_at(xb - base_b);
-    const auto na = static_cast<std::uint64_t>(base_a), nb = static_cast<std::uint64_t>(base_b);
-    const double* ua = w.y + (na + 1 - kEdgeHalfTaps - w.first);
-    const double* ub = w.y + (nb + 1 - kEdgeHalfTaps - w.first);
-    double ra0 = 0, ra1 = 0, sa0 = 0, sa1 = 0, rb0 = 0, rb1 = 0, sb0 = 0, sb1 = 0;
-    for (std::size_t j = 0; j < kEdgeTaps; j += 2) {
-      ra0 += ka.row[j] * ua[j];
-      sa0 += ka.step[j] * ua[j];
-      ra1 += ka.row[j + 1] * ua[j + 1];
-      sa1 += ka.step[j + 1] * ua[j + 1];
-      rb0 += kb.row[j] * ub[j];
-      sb0 += kb.step[j] * ub[j];
-      rb1 += kb.row[j + 1] * ub[j + 1];
-      sb1 += kb.step[j + 1] * ub[j + 1];
-    }
-    ya = (ra0 + ra1) + ka.share * (sa0 + sa1);
-    w.memo_base = nb;
-    w.memo_row = kb.row;
-    w.memo_r = rb0 + rb1;
-    w.memo_s = sb0 + sb1;
-    yb = w.memo_r + kb.share * w.memo_s;
   }
 
   // Where `f` − level crosses zero near x, on the band-limited reconstruction: secant steps from
   // x ± 0.05 sample, kept only if they converge inside [lo, hi].
   template <typename F>
   static double secant_root(F f, double x, double lo, double hi) {
-    return secant_root(
-        f,
-        [&f](double a, double b, double& ya, double& yb) {
-          ya = f(a);
-          yb = f(b);
-        },
-        x, lo, hi);
-  }
-  // The same, `pair(a, b, ya, yb)` giving f at the two starting points at once.
-  template <typename F, typename Pair>
-  static double secant_root(F f, Pair pair, double x, double lo, double hi) {
     double x0 = x - 0.05, x1 = x + 0.05;
-    double y0 = 0, y1 = 0;
-    pair(x0, x1, y0, y1);
+    double y0 = f(x0), y1 = f(x1);
     for (int step = 0; step < 3 && y1 != y0; ++step) {
       const double x2 = x1 - y1 * (x1 - x0) / (y1 - y0);
       x0 = x1;
@@ -1009,11 +955,8 @@ struct CycleEngine::Impl {
       return std::clamp(z, lo, hi);
     }
     const Window win = gather(m0 - 1, field);
-    const double z = secant_root([&](double x) { return reconstruct_in(win, x, field); },
-                                 [&](double a, double b, double& ya, double& yb) {
-                                   reconstruct_in(win, a, b, field, ya, yb);
-                                 },
-                                 lin, lo, hi);
+    const double z =
+        secant_root([&](double x) { return reconstruct_in(win, x, field); }, lin, lo, hi);
     return std::clamp(z, lo, hi);
   }
 

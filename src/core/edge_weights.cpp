@@ -131,10 +131,7 @@ InterpolationTableView interpolation_table_view() {
 }
 
 InterpolationRows interpolation_rows(double p) {
-  const InterpolationTable& t = interpolation_table();
-  const double x = std::clamp(p, 0.0, 1.0) * kPhases;
-  const auto q = static_cast<std::size_t>(std::min(static_cast<int>(x), kPhases - 1));
-  return {t.rows[q].data(), t.steps[q].data(), x - static_cast<double>(q)};
+  return interpolation_table_view().rows_at(p);
 }
 
 std::array<double, kEdgeTaps> interpolation_weights(double p) {
@@ -149,14 +146,10 @@ EdgeTableView edge_table_view(int half_taps) {
 }
 
 std::array<double, kEdgeTaps> edge_weights(double p, int half_taps) {
-  const Table& t = table(half_taps);
-  const double x = std::clamp(p, 0.0, 1.0) * kPhases;
-  const auto q = std::min(static_cast<int>(x), kPhases - 1);
-  const double f = x - q;
-  const auto& a = t.rows[static_cast<std::size_t>(q)];
-  const auto& b = t.rows[static_cast<std::size_t>(q) + 1];
+  const EdgeTableView view = edge_table_view(half_taps);
+  const EdgeTableView::Position at = view.at(p);
   std::array<double, kEdgeTaps> w{};
-  for (std::size_t j = 0; j < kEdgeTaps; ++j) w[j] = a[j] + f * (b[j] - a[j]);
+  for (std::size_t j = 0; j < kEdgeTaps; ++j) w[j] = EdgeTableView::weight(at, j);
   return w;
 }
 

@@ -26,6 +26,7 @@
 #include "lopside/error.hpp"
 #include "lopside/input_stream.hpp"
 #include "lopside/joined_source.hpp"
+#include "unique_fd.hpp"
 
 namespace lopside {
 namespace {
@@ -51,32 +52,7 @@ bool starts_with(std::string_view head, std::string_view magic) {
   return head.substr(0, magic.size()) == magic;
 }
 
-/// A descriptor closed at the end unless it is borrowed (standard input stays open).
-class UniqueFd {
- public:
-  UniqueFd() = default;
-  UniqueFd(int fd, bool owned) : fd_(fd), owned_(owned) {}
-  UniqueFd(UniqueFd&& o) noexcept : fd_(std::exchange(o.fd_, -1)), owned_(o.owned_) {}
-  UniqueFd& operator=(UniqueFd&& o) noexcept {
-    reset();
-    fd_ = std::exchange(o.fd_, -1);
-    owned_ = o.owned_;
-    return *this;
-  }
-  UniqueFd(const UniqueFd&) = delete;
-  UniqueFd& operator=(const UniqueFd&) = delete;
-  ~UniqueFd() { reset(); }
-  int get() const { return fd_; }
-  int release() { return std::exchange(fd_, -1); }
-  void reset() {
-    if (fd_ >= 0 && owned_) ::close(fd_);
-    fd_ = -1;
-  }
-
- private:
-  int fd_ = -1;
-  bool owned_ = false;
-};
+using detail::UniqueFd;
 
 /// The layers between the descriptor and the text reader, in the order they are built; the
 /// later ones read from the earlier ones.

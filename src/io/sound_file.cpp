@@ -26,6 +26,7 @@
 #include "lopside/error.hpp"
 #include "lopside/sound_file_writer.hpp"
 #include "sound_file_checks.hpp"
+#include "unique_fd.hpp"
 
 namespace lopside {
 namespace {
@@ -190,19 +191,14 @@ class SoundFileSource final : public SampleSource {
  public:
   SoundFileSource(SndfileHandle file, CaptureInfo info, std::vector<double> multipliers,
                   std::vector<std::string> warnings, std::optional<DataExtent> extent,
-                  std::uint64_t bytes_per_frame, int direct_fd = -1)
+                  std::uint64_t bytes_per_frame, detail::UniqueFd direct_fd = {})
       : file_(std::move(file)),
         info_(std::move(info)),
         multipliers_(std::move(multipliers)),
         warnings_(std::move(warnings)),
         extent_(extent),
         bytes_per_frame_(bytes_per_frame),
-        direct_fd_(direct_fd) {}
-  ~SoundFileSource() override {
-    if (direct_fd_ >= 0) ::close(direct_fd_);
-  }
-  SoundFileSource(const SoundFileSource&) = delete;
-  SoundFileSource& operator=(const SoundFileSource&) = delete;
+        direct_fd_(std::move(direct_fd)) {}
 
   const CaptureInfo& info() const override { return info_; }
   const std::vector<std::string>& warnings() const override { return warnings_; }
@@ -225,21 +221,22 @@ class SoundFileSource final : public SampleSource {
       want = static_cast<std::size_t>(std::min<std::uint64_t>(want, left));
     }
     block.data.resize(want * channels);
-    const sf_count_t got = want == 0         ? 0
-                           : direct_fd_ >= 0 ? read_pcm16(block.data.data(), want, channels)
-                                             : sf_readf_double(file_.get(), block.data.data(),
-                                                               static_cast<sf_count_t>(want));
+    const sf_count_t got = want == 0               ? 0
+                           : direct_fd_.get() >= 0 ? read_pcm16(block.data.data(), want, channels)
+                                                   : sf_readf_double(file_.get(), block.data.data(),
+                                                                     static_cast<sf_count_t>(want));
     // libsndfile reports decoding failures (a FLAC frame that lost sync, an I/O error) through
     // sf_error while still returning a full count, the damaged frames set to zero (measured
     // on 1.2.0), so the count alone cannot be trusted.
-    if ((direct_fd_ < 0 && sf_error(file_.get()) != SF_ERR_NO_ERROR) || got < 0) {
+    if ((direct_fd_.get() < 0 && sf_error(file_.get()) != SF_ERR_NO_ERROR) || got < 0) {
       std::string where = "after the first " + std::to_string(frames_read_) + " frames";
       if (got > 0) {
         where +=
             " (by frame " + std::to_string(frames_read_ + static_cast<std::uint64_t>(got)) + ")";
       }
-      std::string why = direct_fd_ >= 0 ? std::string("read: ") + std::strerror(direct_errno_)
-                                        : std::string("libsndfile: ") + sf_strerror(file_.get());
+      std::string why = direct_fd_.get() >= 0
+                            ? std::string("read: ") + std::strerror(direct_errno_)
+                            : std::string("libsndfile: ") + sf_strerror(file_.get());
       if (!extent_ || bytes_per_frame_ == 0) {
         std::error_code ec;
         const auto size = fs::file_size(info_.path, ec);
@@ -250,7 +247,7 @@ class SoundFileSource final : public SampleSource {
                        "cannot decode the samples " + where + " (" + why + ")");
     }
     const auto frames = static_cast<std::size_t>(got);
-    for (std::size_t f = 0; direct_fd_ < 0 && f < frames; ++f) {  // (read_pcm16 scales)
+    for (std::size_t f = 0; direct_fd_.get() < 0 && f < frames; ++f) {  // (read_pcm16 scales)
       double* frame = block.data.data() + f * channels;
       for (std::size_t c = 0; c < channels; ++c) frame[c] *= multipliers_[c];
     }
@@ -281,8 +278,8 @@ class SoundFileSource final : public SampleSource {
     std::size_t have = 0;
     const auto at = static_cast<off_t>(extent_->offset + frames_read_ * bytes_per_frame_);
     while (have < bytes) {
-      const ssize_t n =
-          ::pread(direct_fd_, raw_.data() + have, bytes - have, at + static_cast<off_t>(have));
+      const ssize_t n = ::pread(direct_fd_.get(), raw_.data() + have, bytes - have,
+                                at + static_cast<off_t>(have));
       if (n < 0 && errno == EINTR) continue;
       if (n < 0) {
         direct_errno_ = errno;
@@ -327,7 +324,7 @@ class SoundFileSource final : public SampleSource {
   std::vector<std::string> warnings_;
   std::optional<DataExtent> extent_;
   std::uint64_t bytes_per_frame_ = 0;
-  int direct_fd_ = -1;  // the capture opened again for read_pcm16, or −1: libsndfile reads
+  detail::UniqueFd direct_fd_;  // the capture opened again for read_pcm16, or none: libsndfile
   int direct_errno_ = 0;
   std::vector<unsigned char> raw_;
   std::uint64_t frames_read_ = 0;
@@ -344,19 +341,11 @@ namespace {
 
 // libsndfile's reading of the file, checked against the stated limits and against the header
 // as check_container read it.
-// `raw_fd`: the capture opened once more, for reading 16-bit PCM directly, or −1; this
+// `raw_fd`: the capture opened once more, for reading 16-bit PCM directly, or none; this
 // function owns it.
-std::unique_ptr<SampleSource> open_opened_sound_file(SndfileHandle file, const SF_INFO& sf_info,
-                                                     HeaderReader& header,
-                                                     const ContainerFacts& facts,
-                                                     const std::string& shown,
-                                                     const ReaderOptions& options, int raw_fd) {
-  struct Closer {
-    int& fd;
-    ~Closer() {
-      if (fd >= 0) ::close(fd);
-    }
-  } close_raw{raw_fd};
+std::unique_ptr<SampleSource> open_opened_sound_file(
+    SndfileHandle file, const SF_INFO& sf_info, HeaderReader& header, const ContainerFacts& facts,
+    const std::string& shown, const ReaderOptions& options, detail::UniqueFd raw_fd) {
   using sound_checks::kMaxChannels;
   using sound_checks::kMaxSampleRateHz;
   using sound_checks::kMinSampleRateHz;
@@ -485,24 +474,23 @@ std::unique_ptr<SampleSource> open_opened_sound_file(SndfileHandle file, const S
   const std::uint64_t bytes_per_frame = bytes_per_sample(sf_info.format) * channel_count;
   // Little-endian 16-bit PCM in a WAV, RF64 or W64 whose data chunk holds every frame
   // libsndfile counts: read directly (SoundFileSource::read_pcm16); anything else, libsndfile.
-  int direct_fd = -1;
+  detail::UniqueFd direct_fd;
   const int container = sf_info.format & SF_FORMAT_TYPEMASK;
   const int endian = sf_info.format & SF_FORMAT_ENDMASK;
   struct stat st {};
-  if (raw_fd >= 0 && (sf_info.format & SF_FORMAT_SUBMASK) == SF_FORMAT_PCM_16 &&
+  if (raw_fd.get() >= 0 && (sf_info.format & SF_FORMAT_SUBMASK) == SF_FORMAT_PCM_16 &&
       (container == SF_FORMAT_WAV || container == SF_FORMAT_WAVEX || container == SF_FORMAT_RF64 ||
        container == SF_FORMAT_W64) &&
       (endian == SF_ENDIAN_FILE || endian == SF_ENDIAN_LITTLE) && facts.extent && info.frames &&
-      *info.frames <= facts.extent->bytes / bytes_per_frame && ::fstat(raw_fd, &st) == 0 &&
+      *info.frames <= facts.extent->bytes / bytes_per_frame && ::fstat(raw_fd.get(), &st) == 0 &&
       S_ISREG(st.st_mode) &&
       facts.extent->offset + *info.frames * bytes_per_frame <=
           static_cast<std::uint64_t>(st.st_size)) {
-    direct_fd = raw_fd;
-    raw_fd = -1;  // the source owns it now
+    direct_fd = std::move(raw_fd);
   }
   return std::make_unique<SoundFileSource>(std::move(file), std::move(info), std::move(multipliers),
                                            std::move(warnings), facts.extent, bytes_per_frame,
-                                           direct_fd);
+                                           std::move(direct_fd));
 }
 
 }  // namespace
@@ -519,8 +507,9 @@ std::unique_ptr<SampleSource> open_sound_file(const std::filesystem::path& path,
       header, ec ? std::nullopt : std::optional<std::uint64_t>(file_size), shown);
   SF_INFO sf_info{};
   SndfileHandle file(sf_open(shown.c_str(), SFM_READ, &sf_info));
-  return open_opened_sound_file(std::move(file), sf_info, header, facts, shown, options,
-                                ::open(shown.c_str(), O_RDONLY | O_CLOEXEC));
+  return open_opened_sound_file(
+      std::move(file), sf_info, header, facts, shown, options,
+      detail::UniqueFd(::open(shown.c_str(), O_RDONLY | O_CLOEXEC), true));
 }
 
 std::unique_ptr<SampleSource> open_sound_file(int fd, const std::string& display_path,
@@ -544,11 +533,11 @@ std::unique_ptr<SampleSource> open_sound_file(int fd, const std::string& display
   // open (libsndfile 1.2.0 source, sf_open_fd → psf_open_file → psf_close; from memory).
   // A second descriptor of the same (regular) file for the direct 16-bit path: pread keeps no
   // offset, so libsndfile's own position is not disturbed.
-  const int raw_fd = sized ? ::fcntl(fd, F_DUPFD_CLOEXEC, 0) : -1;
+  detail::UniqueFd raw_fd(sized ? ::fcntl(fd, F_DUPFD_CLOEXEC, 0) : -1, true);
   SF_INFO sf_info{};
   SndfileHandle file(sf_open_fd(fd, SFM_READ, &sf_info, SF_TRUE));
   return open_opened_sound_file(std::move(file), sf_info, header, facts, display_path, options,
-                                raw_fd);
+                                std::move(raw_fd));
 }
 
 // ---------------------------------------------------------------------------------------------
